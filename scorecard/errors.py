@@ -1,0 +1,24 @@
+"""The one exception type for bad input.
+
+Every problem a user can fix (a wrong key, a missing column, an unreadable file) is raised as
+:class:`InputError` with a message that names the file, key, column or row at fault. The command
+line turns it into a single ``error:`` line and exit status 2; library callers catch it like any
+other exception.
+"""
+
+
+class InputError(ValueError):
+    """Bad input that the user can correct.
+
+    Parameters
+    ----------
+    message : str
+        One line naming the file, key, column or row at fault.
+
+    Examples
+    --------
+    >>> raise InputError("config.yaml: binning.max_bins: must be at least 2 (line 12)")
+    Traceback (most recent call last):
+    ...
+    scorecard.errors.InputError: config.yaml: binning.max_bins: must be at least 2 (line 12)
+    """
