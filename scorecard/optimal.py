@@ -1,0 +1,431 @@
+"""Exact merging of adjacent fine classes into the coarse classes of highest information value.
+
+A characteristic arrives as ordered fine classes with their weighted counts of goods and bads.
+:func:`optimal_bins` merges runs of adjacent fine classes into at most ``max_bins`` coarse
+classes (bins) so that the information value of the bins is as large as possible, subject to
+minimum bin sizes and, optionally, a strictly monotone bad rate. The search is exact: a dynamic
+programme over the boundaries between fine classes, vectorised with numpy.
+
+Every candidate bin ``[i, j)`` (fine classes ``i`` to ``j - 1``) gets its counts from prefix
+sums, so the whole table of bins is a set of ``(n + 1, n + 1)`` arrays. For ``k`` bins the
+programme keeps, for each last bin ``[i, j)``, the best IV of a partition of ``[0, j)`` ending
+in that bin. Adding a bin ``[i, j)`` needs the best partition whose last bin ``[h, i)`` has a
+lower bad rate (ascending); with the bins ending at ``i`` sorted by bad rate once, that is a
+running maximum read at the right place, so each step costs ``O(n^2)``.
+
+Ties are broken the same way every time: among partitions whose IV agree to a relative
+``1e-12``, fewer bins win; among those with equal bin counts, the last bin starts as early as
+possible, then the bin before it, and so on towards the first.
+"""
+
+from __future__ import annotations
+
+from typing import NamedTuple
+
+import numpy as np
+
+from scorecard.errors import InputError
+
+TRENDS = ("auto", "ascending", "descending", "free")
+
+# IV values this close (relative) count as equal, so that rounding in the last bits never
+# decides between partitions that are equal in exact arithmetic.
+_IV_TIE = 1e-12
+
+# A caller's total may be summed in another order than ours; allow that much shortfall.
+_TOTAL_SLACK = 1e-9
+
+
+class Coarsening(NamedTuple):
+    """The chosen coarse classes of one characteristic.
+
+    Attributes
+    ----------
+    starts : tuple of int
+        Index of the first fine class of each coarse bin; ``starts[0] == 0``.
+    trend : str
+        The bad-rate trend used: ``'ascending'``, ``'descending'`` or ``'free'``. For
+        ``trend='auto'`` it is the winning direction.
+    iv : float
+        Information value of the coarse bins (nats), with shares taken of the given totals.
+    feasible : bool
+        False when not even two bins meet the constraints; the result is then one bin.
+    reason : str
+        Empty when feasible, else a plain sentence saying why no split works.
+    """
+
+    starts: tuple[int, ...]
+    trend: str
+    iv: float
+    feasible: bool
+    reason: str
+
+
+class _Limits(NamedTuple):
+    count: float
+    goods: float
+    bads: float
+
+
+class _Candidates(NamedTuple):
+    """Every candidate bin ``[i, j)`` of the fine classes, indexed ``[i, j]``."""
+
+    cum_goods: np.ndarray  # (n + 1,) goods in fine classes [0, j)
+    cum_bads: np.ndarray  # (n + 1,) bads in fine classes [0, j)
+    valid: np.ndarray  # bin meets every size limit and has some goods and some bads
+    term: np.ndarray  # the bin's IV term; -inf where not valid
+    rate: np.ndarray  # the bin's bad rate; nan where not valid
+
+
+def optimal_bins(
+    goods,
+    bads,
+    *,
+    total_goods=None,
+    total_bads=None,
+    trend="auto",
+    max_bins=6,
+    min_bin_count=0.0,
+    min_bin_goods=0.0,
+    min_bin_bads=0.0,
+) -> Coarsening:
+    """Merge adjacent fine classes into the coarse bins of highest information value.
+
+    Each bin is a run of adjacent fine classes with ``goods + bads >= min_bin_count``,
+    ``goods >= min_bin_goods``, ``bads >= min_bin_bads`` and a positive (weighted) count of
+    both goods and bads, so that its weight of evidence is finite. The IV of a partition is
+    ``sum((g / G - b / B) * ln((g / G) / (b / B)))`` over its bins, where ``G`` and ``B`` are
+    the totals. The result is the exact maximum; see the module notes for how ties are broken.
+
+    Parameters
+    ----------
+    goods, bads : array_like of float, shape (n,)
+        Weighted counts of goods and bads in the ordered fine classes (numeric classes in value
+        order, categorical levels already ordered by bad rate).
+    total_goods, total_bads : float, optional
+        Totals over all bins of the characteristic, including any missing or special-value
+        bins kept apart by the caller, so that IV adds up across them. Default: the sums of
+        ``goods`` and ``bads``.
+    trend : {'auto', 'ascending', 'descending', 'free'}, default 'auto'
+        ``'ascending'``: the bad rate strictly increases from bin to bin; ``'descending'``:
+        strictly decreases; ``'free'``: any order; ``'auto'``: the better of ascending and
+        descending (ascending on a tie).
+    max_bins : int, default 6
+        Largest number of bins, at least 2.
+    min_bin_count, min_bin_goods, min_bin_bads : float, default 0.0
+        Smallest weighted count of cases, goods and bads in each bin.
+
+    Returns
+    -------
+    Coarsening
+        The starts of the bins, the trend used, their IV and whether two or more bins were
+        possible. When they are not (a single fine class, or no split meeting the
+        constraints), the result is one bin with ``feasible=False`` and a ``reason``; its IV
+        is infinite if the fine classes hold goods but no bads or bads but no goods, and
+        for ``trend='auto'`` its trend is ``'ascending'``.
+
+    Raises
+    ------
+    InputError
+        If the counts are not finite, non-negative, one-dimensional and of equal length, a
+        total falls short of its counts, or a limit or the trend is out of range.
+
+    Examples
+    --------
+    >>> result = optimal_bins([40, 30, 20, 10], [2, 3, 5, 8], max_bins=3)
+    >>> result.starts, result.trend, round(result.iv, 4), result.feasible
+    ((0, 2, 3), 'ascending', 0.9296, True)
+    """
+    goods = _counts(goods, "goods")
+    bads = _counts(bads, "bads")
+    if bads.size != goods.size:
+        raise InputError(
+            f"bads: has {bads.size} fine classes but goods has {goods.size}"
+        )
+    total_goods = _total(total_goods, goods, "total_goods")
+    total_bads = _total(total_bads, bads, "total_bads")
+    if trend not in TRENDS:
+        raise InputError(f"trend: must be one of {', '.join(TRENDS)}; got {trend!r}")
+    max_bins = _max_bins(max_bins)
+    limits = _Limits(
+        _limit(min_bin_count, "min_bin_count"),
+        _limit(min_bin_goods, "min_bin_goods"),
+        _limit(min_bin_bads, "min_bin_bads"),
+    )
+    cand = _candidates(goods, bads, total_goods, total_bads, limits)
+    if trend == "auto":
+        rising = _best(cand, max_bins, "ascending")
+        falling = _best(cand, max_bins, "descending")
+        found = _better(rising, falling)
+    else:
+        found = _best(cand, max_bins, trend)
+    if found is None:
+        return _single_bin(cand, total_goods, total_bads, trend, limits)
+    starts, iv = found
+    used = trend
+    if trend == "auto":
+        used = "ascending" if found is rising else "descending"
+    return Coarsening(starts, used, iv, True, "")
+
+
+def bin_of_fine_class(starts, n_fine) -> np.ndarray:
+    """Look up the coarse bin of every fine class.
+
+    Parameters
+    ----------
+    starts : sequence of int
+        Index of the first fine class of each bin, strictly increasing from 0, as in
+        :attr:`Coarsening.starts`.
+    n_fine : int
+        Number of fine classes.
+
+    Returns
+    -------
+    numpy.ndarray of int, shape (n_fine,)
+        Entry ``f`` is the index of the bin that holds fine class ``f``.
+
+    Raises
+    ------
+    InputError
+        If ``starts`` does not begin at 0, is not strictly increasing, or reaches past
+        ``n_fine``.
+
+    Examples
+    --------
+    >>> bin_of_fine_class((0, 2, 3), 5)
+    array([0, 0, 1, 2, 2])
+    """
+    if isinstance(n_fine, bool) or not isinstance(n_fine, (int, np.integer)) or n_fine < 1:
+        raise InputError(f"n_fine: must be a whole number of at least 1; got {n_fine!r}")
+    starts = np.asarray(starts)
+    if starts.ndim != 1 or starts.size == 0 or not np.issubdtype(starts.dtype, np.integer):
+        raise InputError("starts: must be a non-empty sequence of whole numbers")
+    if starts[0] != 0:
+        raise InputError(f"starts: must begin with 0; got {int(starts[0])}")
+    if np.any(np.diff(starts) <= 0):
+        raise InputError("starts: must be strictly increasing")
+    if starts[-1] >= n_fine:
+        raise InputError(
+            f"starts: bin start {int(starts[-1])} is past the last of {n_fine} fine classes"
+        )
+    return np.searchsorted(starts, np.arange(n_fine), side="right") - 1
+
+
+def _counts(values, name):
+    try:
+        counts = np.asarray(values, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(f"{name}: must be numbers") from None
+    if counts.ndim != 1:
+        raise InputError(f"{name}: must be one-dimensional; got {counts.ndim} dimensions")
+    if counts.size == 0:
+        raise InputError(f"{name}: must hold at least one fine class")
+    wrong = ~np.isfinite(counts) | (counts < 0)
+    if wrong.any():
+        first = int(np.argmax(wrong))
+        raise InputError(
+            f"{name}: fine class {first} has {counts[first]!r}; "
+            "counts must be finite and non-negative"
+        )
+    return counts
+
+
+def _total(value, counts, name):
+    observed = float(counts.sum())
+    if value is None:
+        return observed
+    try:
+        total = float(value)
+    except (TypeError, ValueError):
+        raise InputError(f"{name}: must be a number; got {value!r}") from None
+    if not np.isfinite(total) or total < observed * (1 - _TOTAL_SLACK):
+        raise InputError(
+            f"{name}: {value!r} is less than the sum over the fine classes ({observed:g})"
+        )
+    return total
+
+
+def _max_bins(value):
+    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < 2:
+        raise InputError(f"max_bins: must be a whole number of at least 2; got {value!r}")
+    return int(value)
+
+
+def _limit(value, name):
+    try:
+        limit = float(value)
+    except (TypeError, ValueError):
+        raise InputError(f"{name}: must be a number; got {value!r}") from None
+    if not np.isfinite(limit) or limit < 0:
+        raise InputError(f"{name}: must be finite and non-negative; got {value!r}")
+    return limit
+
+
+def _candidates(goods, bads, total_goods, total_bads, limits):
+    cum_goods = np.concatenate(([0.0], np.cumsum(goods)))
+    cum_bads = np.concatenate(([0.0], np.cumsum(bads)))
+    g = cum_goods[None, :] - cum_goods[:, None]
+    b = cum_bads[None, :] - cum_bads[:, None]
+    n_bounds = cum_goods.size
+    valid = (
+        np.triu(np.ones((n_bounds, n_bounds), dtype=bool), k=1)
+        & (g > 0)
+        & (b > 0)
+        & (g + b >= limits.count)
+        & (g >= limits.goods)
+        & (b >= limits.bads)
+    )
+    # Invalid bins (empty, or reversed below the diagonal) give 0/0 and log(0); masked below.
+    with np.errstate(divide="ignore", invalid="ignore"):
+        good_share = g / total_goods
+        bad_share = b / total_bads
+        term = np.where(
+            valid, (good_share - bad_share) * np.log(good_share / bad_share), -np.inf
+        )
+        rate = np.where(valid, b / (g + b), np.nan)
+    return _Candidates(cum_goods, cum_bads, valid, term, rate)
+
+
+def _best(cand, max_bins, trend):
+    """The best partition into 2 to ``max_bins`` bins as ``(starts, iv)``, or None.
+
+    ``layers[k - 1][i, j]`` is the best IV of ``k`` bins covering fine classes ``[0, j)`` whose
+    last bin is ``[i, j)``, or -inf if there is none.
+    """
+    n_bounds = cand.term.shape[0]
+    bounds = np.arange(n_bounds)
+    if trend == "free":
+        key = None
+        order = np.broadcast_to(bounds[:, None], (n_bounds, n_bounds))
+        preceding = np.full((n_bounds, n_bounds), n_bounds)
+    else:
+        # A key that must strictly increase from each bin to the next.
+        key = cand.rate if trend == "ascending" else -cand.rate
+        order, preceding = _predecessors(key)
+    no_bin = np.full((1, n_bounds), -np.inf)
+    layer = np.full_like(cand.term, -np.inf)
+    layer[0] = cand.term[0]
+    layers = [layer]
+    for _ in range(2, min(max_bins, n_bounds - 1) + 1):
+        # best_first[c, i]: best layer value among the first c bins ending at i, in key order.
+        by_key = layers[-1][order, bounds]
+        best_first = np.vstack((no_bin, np.maximum.accumulate(by_key, axis=0)))
+        layers.append(best_first[preceding, bounds[:, None]] + cand.term)
+    ends = np.array([layer[:, -1].max() for layer in layers[1:]])
+    if ends.size == 0 or ends.max() == -np.inf:
+        return None
+    n_bins = 2 + _first_near_max(ends)
+    starts = _trace(layers[:n_bins], key)
+    bin_ends = starts[1:] + (n_bounds - 1,)
+    iv = sum(float(cand.term[s, e]) for s, e in zip(starts, bin_ends))
+    return starts, iv
+
+
+def _predecessors(key):
+    """Sort the bins ending at each boundary by key, and count those that may precede.
+
+    ``order[:, i]`` lists the starts ``h`` of the bins ``[h, i)`` by increasing key (invalid
+    bins, whose key is nan, last). ``preceding[i, j]`` is the number of them whose key is
+    below that of ``[i, j)``, so they are exactly the first ``preceding[i, j]`` in that order.
+    """
+    n_bounds = key.shape[0]
+    order = np.argsort(key, axis=0, kind="stable")
+    # Row i lists the keys of the bins starting at i, then of those ending at i; a stable
+    # sort puts a starting bin before ending bins of equal key, which are thus not counted.
+    merged = np.concatenate((key, key.T), axis=1)
+    position = np.argsort(merged, axis=1, kind="stable")
+    is_ending = position >= n_bounds
+    ending_so_far = np.cumsum(is_ending, axis=1)
+    rows, slots = np.nonzero(~is_ending)
+    preceding = np.empty((n_bounds, n_bounds), dtype=np.intp)
+    preceding[rows, position[rows, slots]] = ending_so_far[rows, slots]
+    return order, preceding
+
+
+def _trace(layers, key):
+    """Walk back from the last bin, taking the earliest start among near-best choices."""
+    end = layers[0].shape[0] - 1
+    start = _first_near_max(layers[-1][:, end])
+    starts = [start]
+    for layer in reversed(layers[:-1]):
+        before = layer[:, start]
+        if key is not None:
+            before = np.where(key[:, start] < key[start, end], before, -np.inf)
+        start, end = _first_near_max(before), start
+        starts.append(start)
+    return tuple(reversed(starts))
+
+
+def _first_near_max(values):
+    top = values.max()
+    return int(np.argmax(values >= top - _IV_TIE * abs(top)))
+
+
+def _better(rising, falling):
+    if falling is None:
+        return rising
+    if rising is None:
+        return falling
+    margin = _IV_TIE * abs(rising[1])
+    return falling if falling[1] > rising[1] + margin else rising
+
+
+def _single_bin(cand, total_goods, total_bads, trend, limits):
+    good_share = cand.cum_goods[-1] / total_goods if total_goods > 0 else 0.0
+    bad_share = cand.cum_bads[-1] / total_bads if total_bads > 0 else 0.0
+    if good_share == bad_share:
+        iv = 0.0
+    elif good_share == 0 or bad_share == 0:
+        iv = float("inf")
+    else:
+        iv = float((good_share - bad_share) * np.log(good_share / bad_share))
+    used = "ascending" if trend == "auto" else trend
+    return Coarsening((0,), used, iv, False, _why_no_split(cand, trend, limits))
+
+
+def _why_no_split(cand, trend, limits):
+    """Name the first constraint that no two-bin split can meet.
+
+    Merging all bins after the first of a feasible partition keeps every limit and the
+    direction of the bad rate, so no split into two bins means no split at all.
+    """
+    n_fine = cand.cum_goods.size - 1
+    if n_fine == 1:
+        return "there is only one fine class, so there is nothing to split"
+    cuts = np.arange(1, n_fine)
+    goods_left = cand.cum_goods[cuts]
+    goods_right = cand.cum_goods[-1] - goods_left
+    bads_left = cand.cum_bads[cuts]
+    bads_right = cand.cum_bads[-1] - bads_left
+    count_left = goods_left + bads_left
+    count_right = goods_right + bads_right
+    checks = (
+        (
+            "no split leaves some goods and some bads on each side",
+            (goods_left > 0) & (bads_left > 0) & (goods_right > 0) & (bads_right > 0),
+        ),
+        (
+            f"no split leaves {limits.count:g} cases on each side",
+            (count_left >= limits.count) & (count_right >= limits.count),
+        ),
+        (
+            f"no split leaves {limits.goods:g} goods on each side",
+            (goods_left >= limits.goods) & (goods_right >= limits.goods),
+        ),
+        (
+            f"no split leaves {limits.bads:g} bads on each side",
+            (bads_left >= limits.bads) & (bads_right >= limits.bads),
+        ),
+        (
+            "no split meets all the size limits on both sides at once",
+            cand.valid[0, cuts] & cand.valid[cuts, n_fine],
+        ),
+    )
+    for reason, met in checks:
+        if not met.any():
+            return reason
+    return {
+        "ascending": "no split that meets the size limits has a higher bad rate on the right",
+        "descending": "no split that meets the size limits has a lower bad rate on the right",
+        "auto": "every split that meets the size limits leaves the same bad rate on both sides",
+    }[trend]
