@@ -139,9 +139,7 @@ def optimal_bins(
     goods = _counts(goods, "goods")
     bads = _counts(bads, "bads")
     if bads.size != goods.size:
-        raise InputError(
-            f"bads: has {bads.size} fine classes but goods has {goods.size}"
-        )
+        raise InputError(f"bads: has {bads.size} fine classes but goods has {goods.size}")
     total_goods = _total(total_goods, goods, "total_goods")
     total_bads = _total(total_bads, bads, "total_bads")
     if trend not in TRENDS:
@@ -154,17 +152,15 @@ def optimal_bins(
     )
     cand = _candidates(goods, bads, total_goods, total_bads, limits)
     if trend == "auto":
-        rising = _best(cand, max_bins, "ascending")
-        falling = _best(cand, max_bins, "descending")
-        found = _better(rising, falling)
+        found, used = _better(
+            _best(cand, max_bins, "ascending"), _best(cand, max_bins, "descending")
+        )
     else:
-        found = _best(cand, max_bins, trend)
+        found, used = _best(cand, max_bins, trend), trend
     if found is None:
-        return _single_bin(cand, total_goods, total_bads, trend, limits)
+        iv = _single_bin_iv(cand, total_goods, total_bads)
+        return Coarsening((0,), used, iv, False, _why_no_split(cand, trend, limits))
     starts, iv = found
-    used = trend
-    if trend == "auto":
-        used = "ascending" if found is rising else "descending"
     return Coarsening(starts, used, iv, True, "")
 
 
@@ -262,6 +258,7 @@ def _limit(value, name):
 
 
 def _candidates(goods, bads, total_goods, total_bads, limits):
+    """Counts, validity, IV term and bad rate of every run of fine classes."""
     cum_goods = np.concatenate(([0.0], np.cumsum(goods)))
     cum_bads = np.concatenate(([0.0], np.cumsum(bads)))
     g = cum_goods[None, :] - cum_goods[:, None]
@@ -287,38 +284,44 @@ def _candidates(goods, bads, total_goods, total_bads, limits):
 
 
 def _best(cand, max_bins, trend):
-    """The best partition into 2 to ``max_bins`` bins as ``(starts, iv)``, or None.
-
-    ``layers[k - 1][i, j]`` is the best IV of ``k`` bins covering fine classes ``[0, j)`` whose
-    last bin is ``[i, j)``, or -inf if there is none.
-    """
-    n_bounds = cand.term.shape[0]
-    bounds = np.arange(n_bounds)
-    if trend == "free":
-        key = None
-        order = np.broadcast_to(bounds[:, None], (n_bounds, n_bounds))
-        preceding = np.full((n_bounds, n_bounds), n_bounds)
-    else:
-        # A key that must strictly increase from each bin to the next.
+    """The best partition into 2 to ``max_bins`` bins as ``(starts, iv)``, or None."""
+    # A key that must strictly increase from each bin to the next; None for no order.
+    key = None
+    if trend != "free":
         key = cand.rate if trend == "ascending" else -cand.rate
-        order, preceding = _predecessors(key)
-    no_bin = np.full((1, n_bounds), -np.inf)
-    layer = np.full_like(cand.term, -np.inf)
-    layer[0] = cand.term[0]
-    layers = [layer]
-    for _ in range(2, min(max_bins, n_bounds - 1) + 1):
-        # best_first[c, i]: best layer value among the first c bins ending at i, in key order.
-        by_key = layers[-1][order, bounds]
-        best_first = np.vstack((no_bin, np.maximum.accumulate(by_key, axis=0)))
-        layers.append(best_first[preceding, bounds[:, None]] + cand.term)
+    layers = _layers(cand.term, key, max_bins)
     ends = np.array([layer[:, -1].max() for layer in layers[1:]])
     if ends.size == 0 or ends.max() == -np.inf:
         return None
     n_bins = 2 + _first_near_max(ends)
     starts = _trace(layers[:n_bins], key)
-    bin_ends = starts[1:] + (n_bounds - 1,)
+    bin_ends = starts[1:] + (cand.term.shape[0] - 1,)
     iv = sum(float(cand.term[s, e]) for s, e in zip(starts, bin_ends))
     return starts, iv
+
+
+def _layers(term, key, max_bins):
+    """``layers[k - 1][i, j]``: best IV of ``k`` bins covering ``[0, j)``, the last ``[i, j)``.
+
+    Entries are -inf where no such partition exists.
+    """
+    n_bounds = term.shape[0]
+    bounds = np.arange(n_bounds)
+    if key is None:
+        order = np.broadcast_to(bounds[:, None], (n_bounds, n_bounds))
+        preceding = np.full((n_bounds, n_bounds), n_bounds)
+    else:
+        order, preceding = _predecessors(key)
+    no_bin = np.full((1, n_bounds), -np.inf)
+    layer = np.full_like(term, -np.inf)
+    layer[0] = term[0]
+    layers = [layer]
+    for _ in range(2, min(max_bins, n_bounds - 1) + 1):
+        # best_first[c, i]: best layer value among the first c bins ending at i, in key order.
+        by_key = layers[-1][order, bounds]
+        best_first = np.vstack((no_bin, np.maximum.accumulate(by_key, axis=0)))
+        layers.append(best_first[preceding, bounds[:, None]] + term)
+    return layers
 
 
 def _predecessors(key):
@@ -362,25 +365,22 @@ def _first_near_max(values):
 
 
 def _better(rising, falling):
-    if falling is None:
-        return rising
-    if rising is None:
-        return falling
-    margin = _IV_TIE * abs(rising[1])
-    return falling if falling[1] > rising[1] + margin else rising
+    """The better of the two directions and its name; ascending unless beaten beyond a tie."""
+    if rising is None and falling is not None:
+        return falling, "descending"
+    if falling is not None and falling[1] > rising[1] + _IV_TIE * abs(rising[1]):
+        return falling, "descending"
+    return rising, "ascending"
 
 
-def _single_bin(cand, total_goods, total_bads, trend, limits):
+def _single_bin_iv(cand, total_goods, total_bads):
     good_share = cand.cum_goods[-1] / total_goods if total_goods > 0 else 0.0
     bad_share = cand.cum_bads[-1] / total_bads if total_bads > 0 else 0.0
     if good_share == bad_share:
-        iv = 0.0
-    elif good_share == 0 or bad_share == 0:
-        iv = float("inf")
-    else:
-        iv = float((good_share - bad_share) * np.log(good_share / bad_share))
-    used = "ascending" if trend == "auto" else trend
-    return Coarsening((0,), used, iv, False, _why_no_split(cand, trend, limits))
+        return 0.0
+    if good_share == 0 or bad_share == 0:
+        return float("inf")
+    return float((good_share - bad_share) * np.log(good_share / bad_share))
 
 
 def _why_no_split(cand, trend, limits):
