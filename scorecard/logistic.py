@@ -372,7 +372,8 @@ def _trouble(result, X1) -> str | None:
 
 
 def _ridge_fallback(X1, s, f) -> tuple[np.ndarray, np.ndarray, int]:
-    spread = X1[:, 1:].std(axis=0)
+    share = (s + f) / (s + f).sum()
+    spread = np.sqrt(share @ (X1[:, 1:] - share @ X1[:, 1:]) ** 2)
     penalty = np.concatenate([[0.0], _FALLBACK_RIDGE * (s + f).sum() * spread**2])
     optimum = _newton(X1, s, f, None, penalty)
     standard_errors = np.sqrt(np.diag(np.linalg.inv(optimum.hessian + np.diag(penalty))))
