@@ -89,9 +89,11 @@ def class_numeric(name: str, layout: NumericLayout, goods: np.ndarray, bads: np.
     """Bins of a numeric characteristic from its grid-cell counts (development sample)."""
     cells = layout.n_cells
     regular = goods[:cells] + bads[:cells]
+    # A declared special value the development rows never take gets no bin of its own.
+    specials = tuple(v for i, v in enumerate(layout.special_values)
+                     if goods[cells + 1 + i] + bads[cells + 1 + i] > 0)
     if manual_cuts is not None:
-        draft = numeric_draft(name, manual_cuts, layout.special_values, development_range,
-                              out_of_range_bin)
+        draft = numeric_draft(name, manual_cuts, specials, development_range, out_of_range_bin)
         return BinningOutcome(draft, 0, "manual", "")
     if regular.sum() <= 0:
         return BinningOutcome(None, 0, trend, "no values besides missing and special values")
@@ -106,7 +108,7 @@ def class_numeric(name: str, layout: NumericLayout, goods: np.ndarray, bads: np.
         return BinningOutcome(None, len(starts), result.trend, f"cannot form two bins: {reason}")
     cut_cells = starts[list(result.starts[1:])]
     cuts = layout.cuts[cut_cells - 1]
-    draft = numeric_draft(name, cuts, layout.special_values, development_range, out_of_range_bin)
+    draft = numeric_draft(name, cuts, specials, development_range, out_of_range_bin)
     return BinningOutcome(draft, len(starts), result.trend, "")
 
 

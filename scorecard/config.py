@@ -631,7 +631,7 @@ def _check_events(source: _Source, text: str) -> None:
 def _syntax_message(file: str, text: str, error: yaml.YAMLError) -> str:
     if isinstance(error, yaml.MarkedYAMLError):
         mark = error.problem_mark or error.context_mark
-        problem = error.problem or error.context or "unreadable YAML"
+        problem = ", ".join(part for part in (error.context, error.problem) if part)
         return _message(file, "", f"YAML syntax error: {problem}", mark.line + 1 if mark else None)
     if isinstance(error, yaml.reader.ReaderError):
         line = text.count("\n", 0, error.position) + 1

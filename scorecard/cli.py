@@ -1,0 +1,109 @@
+"""The ``scorecard`` command: a thin shell over the importable core.
+
+Bad input ends with one ``error:`` line on stderr and exit status 2, never a traceback.
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import click
+
+from .errors import InputError
+from .progress import StageLog
+
+
+class _Group(click.Group):
+    """Turns InputError into ``error: ...`` with exit status 2."""
+
+    def invoke(self, ctx):
+        try:
+            return super().invoke(ctx)
+        except InputError as exc:
+            click.echo(f"error: {exc}", err=True)
+            ctx.exit(2)
+
+
+@click.group(cls=_Group)
+@click.version_option(package_name="scorecard")
+def main():
+    """Build, apply and monitor credit-style scorecards."""
+
+
+@main.command()
+@click.argument("config", type=click.Path(dir_okay=False, path_type=Path))
+@click.option("--workbook", type=click.Path(dir_okay=False, path_type=Path),
+              help="Write the workbook here instead of output.workbook.")
+@click.option("--model", type=click.Path(dir_okay=False, path_type=Path),
+              help="Write the model file here instead of output.model.")
+@click.option("--quiet", is_flag=True, help="Print nothing but errors.")
+def build(config, workbook, model, quiet):
+    """Build the scorecard that CONFIG describes."""
+    from .run import build as run_build
+    result = run_build(config, workbook=workbook, model=model, progress=StageLog(quiet))
+    if not quiet:
+        _print_summary(result)
+
+
+def _print_summary(result) -> None:
+    card = result.card
+    click.echo(f"{card.name}: {len(card.characteristics)} characteristics, "
+               f"scores {card.min_score} to {card.max_score}")
+    for name, perf in result.performance.items():
+        click.echo(f"  {name:12s} AUC {perf.auc:.4f}  Gini {perf.gini:.4f}  KS {perf.ks:.4f}")
+    for kind, path in result.outputs.items():
+        click.echo(f"  {kind}: {path}")
+
+
+@main.command()
+@click.option("--dir", "directory", type=click.Path(file_okay=False, path_type=Path),
+              default=Path("demo"), show_default=True, help="Folder for the demo files.")
+@click.option("--rows", type=click.IntRange(min=500), default=20_000, show_default=True)
+@click.option("--seed", type=int, default=2024, show_default=True)
+@click.option("--quiet", is_flag=True, help="Print nothing but errors.")
+def demo(directory, rows, seed, quiet):
+    """Write an invented sample and its config into DIR and build it."""
+    from .demo import write_demo
+    from .run import build as run_build
+    config = write_demo(directory, rows=rows, seed=seed)
+    result = run_build(config, progress=StageLog(quiet))
+    if not quiet:
+        click.echo(f"demo config: {config}")
+        _print_summary(result)
+
+
+@main.command()
+@click.argument("data", type=click.Path(path_type=Path))
+@click.option("--target", required=True, help="The outcome column.")
+@click.option("--out", type=click.Path(dir_okay=False, path_type=Path),
+              help="Write the config here (default: print it).")
+def init(data, target, out):
+    """Write a starter config for DATA with every column classified."""
+    from .starter import starter_config
+    text = starter_config(data, target, out)
+    if out is None:
+        click.echo(text, nl=False)
+    else:
+        from .atomic import write_text
+        write_text(out, text)
+        click.echo(f"wrote {out}")
+
+
+@main.command()
+@click.argument("model", type=click.Path(dir_okay=False, path_type=Path))
+@click.argument("data", type=click.Path(path_type=Path))
+@click.option("--out", required=True, type=click.Path(dir_okay=False, path_type=Path),
+              help="Scored file (.csv or .parquet).")
+@click.option("--keep", multiple=True, help="Input column to copy to the output (repeatable).")
+@click.option("--reasons", type=click.IntRange(min=0), default=4, show_default=True,
+              help="Reason codes per row.")
+def score(model, data, out, keep, reasons):
+    """Apply a built scorecard MODEL to the rows of DATA."""
+    from .score_file import score_file
+    summary = score_file(model, data, out, keep=keep, reasons=reasons)
+    click.echo(summary.text())
+
+
+if __name__ == "__main__":
+    sys.exit(main())

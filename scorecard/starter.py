@@ -1,0 +1,95 @@
+"""A starter config for a new data file: every column classified, every default written out."""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import yaml
+
+from .data import column_kind, read_frame
+from .errors import InputError
+
+IDENTIFIER_SHARE = 0.5   # a text column with more distinct values than this share of rows
+
+
+def _column_role(series: pd.Series) -> tuple[str, str]:
+    kind = column_kind(series)
+    if kind == "date":
+        return "date", "a date: usable for an out-of-time sample, not as a characteristic"
+    distinct = series.nunique(dropna=True)
+    if distinct <= 1:
+        return "constant", "a single value: it cannot rank applicants"
+    if kind == "categorical" and distinct > IDENTIFIER_SHARE * series.notna().sum():
+        return "identifier", f"identifier-like: {distinct} distinct values"
+    if kind == "numeric" and pd.api.types.is_integer_dtype(series.dtype) \
+            and distinct == series.notna().sum() and distinct > 1000:
+        return "identifier", "identifier-like: every value distinct"
+    missing = series.isna().mean()
+    return kind, f"{kind}, {distinct} distinct values, {missing:.1%} missing"
+
+
+def _scalar(value) -> str:
+    return yaml.safe_dump(value, default_flow_style=True).strip().removesuffix("\n...").strip()
+
+
+def starter_config(data, target: str, out=None) -> str:
+    """YAML text of a starter config for ``data`` with outcome column ``target``.
+
+    The outcome's rarer value is proposed as bad; every other column is listed under
+    ``characteristics`` (with its kind) or under ``ignore`` (with the reason), as a comment
+    beside it, for the modeller to check.
+    """
+    data = Path(data)
+    frame = read_frame(data)
+    if target not in frame.columns:
+        raise InputError(f"{data}: column {target}: the target column is not in the data")
+    values = frame[target].dropna().value_counts()
+    if len(values) < 2:
+        raise InputError(f"column {target}: needs at least two distinct outcome values")
+    bad, good = values.index[-1], [v for v in values.index[:-1]]
+    base = Path(out).parent if out else Path(".")
+    source = os.path.relpath(data.resolve(), base.resolve())
+    ignore, chars, dates = [], [], []
+    for name in frame.columns:
+        if name == target:
+            continue
+        role, why = _column_role(frame[name])
+        if role in ("identifier", "constant"):
+            ignore.append((name, why))
+        elif role == "date":
+            dates.append((name, why))
+            ignore.append((name, why))
+        else:
+            chars.append((name, role, why))
+    lines = [f"name: {_scalar(data.stem.replace('_', ' ').capitalize())}",
+             "data:",
+             f"  source: {_scalar(source)}",
+             f"  target: {_scalar(target)}",
+             f"  bad: [{_scalar(_plain(bad))}]            # check: the rarer outcome value",
+             f"  good: [{', '.join(_scalar(_plain(v)) for v in good)}]",
+             "  weight: null",
+             "  ignore:" + ("" if ignore else " []")]
+    lines += [f"    - {_scalar(n)}            # {why}" for n, why in ignore]
+    lines += ["  protected: []                # columns never used, examined for fairness",
+              "samples:", "  holdout: 0.3", "  seed: 2024"]
+    if dates:
+        lines += [f"  out_of_time: null            # e.g. {{column: {dates[0][0]}, from: 2025-01-01}}"]
+    else:
+        lines += ["  out_of_time: null"]
+    lines += ["binning:", "  fine_bins: 40", "  max_bins: 6", "  min_bin_share: 0.05",
+              "  min_bin_goods: 10", "  min_bin_bads: 10", "  trend: auto",
+              "  special_values: []", "characteristics:" + ("" if chars else " {}")]
+    lines += [f"  {_scalar(n)}: {{kind: {role}}}            # {why}" for n, role, why in chars]
+    lines += ["selection:", "  min_iv: 0.02", "  max_correlation: 0.6", "  max_vif: 5.0",
+              "  method: stepwise", "  entry_p_value: 0.05", "  max_characteristics: 12",
+              "  keep: []", "scaling:", "  base_score: 600", "  base_odds: 50", "  pdo: 20",
+              "output:", "  workbook: out/scorecard.xlsx", "  model: out/scorecard.json",
+              "engine: local"]
+    return "\n".join(lines) + "\n"
+
+
+def _plain(value):
+    return value.item() if isinstance(value, np.generic) else value
