@@ -522,6 +522,8 @@ def _display(path: tuple) -> str:
 
 def _message(file: str, key: str, what: str, line: int | None = None) -> str:
     text = ": ".join(part for part in (file, key, what) if part)
+    # Values quoted from the file may hold line breaks or control characters; a message is one line.
+    text = "".join(char if char.isprintable() else repr(char)[1:-1] for char in text)
     return text if line is None else f"{text} (line {line})"
 
 
