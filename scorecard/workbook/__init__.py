@@ -1,0 +1,1 @@
+"""The reviewer's workbook of a built scorecard (an .xlsx file)."""

@@ -1,0 +1,37 @@
+"""The workbook's look: one restrained palette, fonts and number formats.
+
+Colour always repeats what a word or a sign already says, so a black-and-white print reads the
+same: a cool blue tint marks lower risk (positive weight of evidence, higher points), a warm
+sand tint marks higher risk, and the header band is a dark slate with white text.
+"""
+
+from __future__ import annotations
+
+from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
+
+HEADER_FILL = PatternFill("solid", fgColor="2F3E4E")
+HEADER_FONT = Font(bold=True, color="FFFFFF")
+TITLE_FONT = Font(bold=True, size=14, color="2F3E4E")
+HEADING_FONT = Font(bold=True, size=11, color="2F3E4E")
+NOTE_FONT = Font(italic=True, size=9, color="555555")
+BOLD = Font(bold=True)
+LOWER_RISK_FILL = PatternFill("solid", fgColor="DCE8F2")
+HIGHER_RISK_FILL = PatternFill("solid", fgColor="F6E3CC")
+INPUT_FILL = PatternFill("solid", fgColor="FFF8D6")
+HEADER_BORDER = Border(bottom=Side(style="thin", color="2F3E4E"))
+WRAP = Alignment(wrap_text=True, vertical="top")
+
+# Chart series colours, in the same meaning as the tints: blue for goods, warm for bads.
+GOOD_LINE = "3B6E9C"
+BAD_LINE = "C0712B"
+NEUTRAL_LINE = "7F7F7F"
+
+PERCENT = "0.0%"
+COUNT = "#,##0"
+INTEGER = "0"
+WOE = "0.0000"
+MEASURE = "0.000"
+PROBABILITY = "0.0000%"
+# A sign on every non-zero value so that the direction of risk reads without colour.
+SIGNED_WOE = "+0.0000;-0.0000;0.0000"
+SIGNED_POINTS = "+0;-0;0"
