@@ -1,0 +1,23 @@
+"""Shared fixtures: the invented demo sample, built once per test session."""
+
+from __future__ import annotations
+
+import pytest
+
+from scorecard.build import build_scorecard
+from scorecard.config import load_config
+from scorecard.demo import write_demo
+from scorecard.run import open_engine
+
+
+@pytest.fixture(scope="session")
+def demo_config_path(tmp_path_factory):
+    """A demo folder (20,000 invented applications, config, drifted sample)."""
+    return write_demo(tmp_path_factory.mktemp("demo"), rows=20_000, seed=2024)
+
+
+@pytest.fixture(scope="session")
+def demo_build(demo_config_path):
+    """The demo scorecard built in memory (no files written)."""
+    config = load_config(demo_config_path)
+    return build_scorecard(config, open_engine(config))

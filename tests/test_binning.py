@@ -1,0 +1,92 @@
+"""Coarse classing of one characteristic from its counts."""
+
+import numpy as np
+import pytest
+
+from scorecard.binning import (OTHER_LEVELS, Limits, bin_weights_of_evidence, class_categorical,
+                               class_numeric)
+from scorecard.errors import InputError
+from scorecard.fine import NumericLayout
+from scorecard.model import LEVELS, MISSING, RANGE, SPECIAL
+
+LIMITS = Limits(max_bins=4, min_count=50, min_goods=5, min_bads=5)
+
+
+def _numeric_counts(seed=0):
+    rng = np.random.default_rng(seed)
+    cuts = np.arange(1, 100, dtype=float)
+    layout = NumericLayout(cuts, (-999.0, -1.0))
+    x = rng.uniform(0, 100, 5000)
+    bad = rng.random(5000) < 0.02 + 0.002 * x      # bad rate rises with x
+    cell = np.searchsorted(cuts, x, side="right")
+    n = layout.n_codes
+    goods = np.bincount(cell[~bad], minlength=n).astype(float)
+    bads = np.bincount(cell[bad], minlength=n).astype(float)
+    goods[layout.missing_code] += 300
+    bads[layout.missing_code] += 40
+    goods[layout.missing_code + 1] += 100           # -999 present; -1 absent
+    bads[layout.missing_code + 1] += 30
+    return layout, goods, bads
+
+
+def test_numeric_bins_are_monotone_and_missing_and_specials_stay_apart():
+    layout, goods, bads = _numeric_counts()
+    out = class_numeric("x", layout, goods, bads, fine_bins=20, trend="auto", limits=LIMITS,
+                        development_range=(0.0, 100.0))
+    assert out.trend == "ascending" and out.reason == ""
+    kinds = [b.kind for b in out.draft.bins]
+    ranges = kinds.count(RANGE)
+    assert 2 <= ranges <= LIMITS.max_bins
+    # Special values the development rows never take get no bin (-1 here).
+    assert kinds[ranges:] == [MISSING, SPECIAL]
+    assert out.draft.special_values == (-999.0,)
+    assert list(out.draft.cuts) == sorted(out.draft.cuts)
+    assert set(out.draft.cuts) <= set(layout.cuts)
+
+
+def test_manual_cuts_override_the_optimiser():
+    layout, goods, bads = _numeric_counts()
+    out = class_numeric("x", layout, goods, bads, fine_bins=20, trend="auto", limits=LIMITS,
+                        development_range=(0.0, 100.0), manual_cuts=(25.5, 60.0))
+    assert out.trend == "manual"
+    assert out.draft.cuts == (25.5, 60.0)
+    assert [b.label for b in out.draft.bins][:3] == ["< 25.5", "25.5 to < 60", ">= 60"]
+
+
+def test_a_single_value_cannot_form_two_bins_and_says_so():
+    layout = NumericLayout(np.array([1.0, 2.0]), ())
+    goods = np.array([0, 500, 0, 0], dtype=float)
+    bads = np.array([0, 50, 0, 0], dtype=float)
+    out = class_numeric("x", layout, goods, bads, fine_bins=10, trend="auto", limits=LIMITS,
+                        development_range=(1.0, 1.0))
+    assert out.draft is None and "cannot form two bins" in out.reason
+
+
+def test_categorical_levels_ordered_by_bad_rate_and_rare_levels_pooled():
+    levels = ("a", "b", "c", "d", "rare1", "rare2")
+    goods = np.array([900, 700, 500, 300, 3, 2, 50], dtype=float)   # last entry: missing
+    bads = np.array([20, 40, 60, 80, 1, 1, 10], dtype=float)
+    out = class_categorical("k", levels, goods, bads, rare_share=0.01, limits=LIMITS)
+    groups = [b for b in out.draft.bins if b.kind == LEVELS]
+    members = [lv for g in groups for lv in g.levels]
+    assert sorted(members) == sorted(levels)
+    assert any(OTHER_LEVELS in g.label for g in groups)
+    rates = [g.levels for g in groups]
+    assert rates[0][0] == "a"            # lowest bad rate first
+
+
+def test_manual_groups_must_cover_every_level():
+    levels = ("owner", "renter", "boat")
+    goods = np.array([100, 100, 100, 0], dtype=float)
+    bads = np.array([10, 20, 30, 0], dtype=float)
+    with pytest.raises(InputError, match="characteristics.housing.groups: level 'boat'"):
+        class_categorical("housing", levels, goods, bads, rare_share=0.0, limits=LIMITS,
+                          manual_groups=(("owner",), ("renter",)),
+                          override_key="characteristics.housing")
+
+
+def test_small_missing_bin_falls_back_to_average_risk():
+    woe, notes = bin_weights_of_evidence(np.array([500., 400., 3.]), np.array([50., 80., 1.]),
+                                         [RANGE, RANGE, MISSING], LIMITS)
+    assert woe[2] == 0.0 and "too few rows" in notes[2]
+    assert woe[0] == pytest.approx(np.log((500 / 903) / (50 / 131)))

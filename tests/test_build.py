@@ -1,0 +1,135 @@
+"""End-to-end invariants of a build on the invented demo sample.
+
+The checks are definitions (counts conserved, bins monotone, points integer, score = sum of
+points) and reproducibility (the model file alone reproduces the scores behind the workbook).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from scorecard.build import build_scorecard
+from scorecard.config import load_config
+from scorecard.data import (DEVELOPMENT, EXCLUDED, assign_samples, code_outcome, parse_dates,
+                            read_frame)
+from scorecard.evaluate import score_histogram
+from scorecard.model import LEVELS, RANGE, Scorecard
+from scorecard.run import open_engine
+from scorecard.scoring import apply_scorecard
+
+
+def _samples(config, frame):
+    d = config.data
+    out = code_outcome(frame[d.target], d.bad, d.good)
+    oot = config.samples.out_of_time
+    late = parse_dates(frame[oot.column], oot.column) >= np.datetime64(pd.Timestamp(oot.from_date))
+    return out, assign_samples(out.label, config.samples.holdout, config.samples.seed, late)
+
+
+def test_every_column_has_a_fate_and_reserved_columns_never_enter(demo_build):
+    names = {r.name for r in demo_build.reports}
+    config = demo_build.config
+    reserved = {config.data.target, *config.data.ignore, *config.data.protected}
+    assert not names & reserved
+    assert not set(demo_build.card.names) & reserved
+    assert all(r.reason or r.status == "in model" for r in demo_build.reports)
+    assert {r.status for r in demo_build.reports} <= {"in model", "not selected", "not binned",
+                                                      "not used"}
+    useless = next(r for r in demo_build.reports if r.name == "phone_contract")
+    assert useless.status == "not selected" and useless.stage == "information value"
+
+
+def test_counts_are_conserved_in_every_binned_characteristic(demo_build):
+    facts = demo_build.samples
+    for rep in demo_build.reports:
+        if rep.characteristic is None:
+            continue
+        bins = rep.characteristic.bins
+        assert sum(b.goods for b in bins) == pytest.approx(facts.goods["development"])
+        assert sum(b.bads for b in bins) == pytest.approx(facts.bads["development"])
+        per_sample = rep.sample_counts.sum(axis=(0, 2))
+        assert per_sample.tolist() == pytest.approx(
+            [facts.rows["development"], facts.rows["holdout"], facts.rows["out of time"]])
+
+
+def test_bins_meet_the_limits_and_follow_the_trend(demo_build):
+    b = demo_build.config.binning
+    total = demo_build.samples.rows["development"]
+    for rep in demo_build.reports:
+        char = rep.characteristic
+        if char is None:
+            continue
+        ordered = [x for x in char.bins if x.kind in (RANGE, LEVELS)]
+        assert len(ordered) <= b.max_bins
+        for x in ordered:
+            assert x.count >= b.min_bin_share * total - 1e-9
+            assert x.goods >= b.min_bin_goods and x.bads >= b.min_bin_bads
+        rates = np.array([x.bads / x.count for x in ordered])
+        woe = np.array([x.woe for x in ordered])
+        if rep.trend == "ascending":
+            assert np.all(np.diff(rates) > 0) and np.all(np.diff(woe) < 0)
+        elif rep.trend == "descending":
+            assert np.all(np.diff(rates) < 0) and np.all(np.diff(woe) > 0)
+
+
+def test_woe_matches_its_definition(demo_build):
+    # WoE = ln(share of goods / share of bads) (DESIGN.md, the trade's definition).
+    char = demo_build.card.characteristics[0]
+    g = np.array([b.goods for b in char.bins])
+    bd = np.array([b.bads for b in char.bins])
+    for b in char.bins:
+        if b.kind == RANGE:
+            assert b.woe == pytest.approx(np.log((b.goods / g.sum()) / (b.bads / bd.sum())))
+
+
+def test_points_are_integers_and_scores_are_sums_of_points(demo_build, demo_config_path):
+    card = demo_build.card
+    for c in card.characteristics:
+        assert all(isinstance(b.points, int) for b in c.bins)
+        assert c.coefficient > 0
+    frame = read_frame(load_config(demo_config_path).data.source)
+    s = apply_scorecard(card, frame.iloc[:500])
+    assert np.array_equal(s.score, s.points.sum(axis=1))
+
+
+def test_model_file_reproduces_the_scores_behind_the_workbook(demo_build, demo_config_path):
+    # Reproducibility: the JSON alone, applied to the development rows, gives exactly the
+    # development score histogram from which the workbook's figures come.
+    config = load_config(demo_config_path)
+    card = Scorecard.from_json(demo_build.card.to_json())
+    assert card == demo_build.card
+    frame = read_frame(config.data.source)
+    outcome, sample = _samples(config, frame)
+    scores = apply_scorecard(card, frame).score
+    for code, name in ((0, "development"), (1, "holdout"), (2, "out of time")):
+        keep = sample == code
+        h = score_histogram(scores[keep], outcome.label[keep], outcome.weight[keep],
+                            card.min_score, card.max_score)
+        built = demo_build.histograms[name]
+        assert np.array_equal(h.goods, built.goods) and np.array_equal(h.bads, built.bads)
+    assert (sample == EXCLUDED).sum() == demo_build.samples.left_out
+
+
+def test_holdout_is_stratified(demo_build):
+    f = demo_build.samples
+    dev_rate = f.bads["development"] / (f.goods["development"] + f.bads["development"])
+    hold_rate = f.bads["holdout"] / (f.goods["holdout"] + f.bads["holdout"])
+    assert abs(dev_rate - hold_rate) < 2 / f.rows["holdout"]
+    share = f.rows["holdout"] / (f.rows["holdout"] + f.rows["development"])
+    assert share == pytest.approx(demo_build.config.samples.holdout, abs=1e-3)
+
+
+def test_rebuild_gives_the_same_model_file(demo_config_path, demo_build):
+    config = load_config(demo_config_path)
+    again = build_scorecard(config, open_engine(config))
+    assert again.card.to_json() == demo_build.card.to_json()
+
+
+def test_holdout_discrimination_is_sensible(demo_build):
+    # The demo outcome comes from a logistic model of its characteristics, so the holdout
+    # must rank well but not perfectly.
+    perf = demo_build.performance["holdout"]
+    assert 0.7 < perf.auc < 0.95
+    assert perf.gini == pytest.approx(2 * perf.auc - 1)

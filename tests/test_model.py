@@ -1,0 +1,45 @@
+"""The model file: round trip, and refusal of files edited into inconsistency."""
+
+import json
+
+import pytest
+
+from scorecard.errors import InputError
+from scorecard.model import Scorecard, load_scorecard
+
+
+def test_round_trip_is_exact(demo_build):
+    card = demo_build.card
+    assert Scorecard.from_json(card.to_json()) == card
+    assert json.loads(card.to_json())["format_version"] == 1
+
+
+def _edited(card, change):
+    raw = json.loads(card.to_json())
+    change(raw)
+    return json.dumps(raw)
+
+
+@pytest.mark.parametrize("change, message", [
+    (lambda r: r.update(format_version=2), "format_version 2 is not supported"),
+    (lambda r: r["scaling"].update(offset=1.0), "factor and offset do not match"),
+    (lambda r: r["characteristics"][0]["cuts"].reverse(), "cuts must be strictly increasing"),
+    (lambda r: r["characteristics"][0]["bins"][0].update(points=1.5), "points must be integers"),
+    (lambda r: r["characteristics"][0]["bins"][0].update(kind="blob"), "unknown kind"),
+    (lambda r: r.update(characteristics=[]), "the model has none"),
+    (lambda r: r.pop("intercept"), "incomplete or malformed"),
+])
+def test_hand_edited_model_is_refused(demo_build, change, message):
+    numeric_first = sorted(demo_build.card.characteristics, key=lambda c: c.kind != "numeric")
+    card = Scorecard(**{**demo_build.card.__dict__, "characteristics": tuple(numeric_first)})
+    with pytest.raises(InputError, match=message):
+        Scorecard.from_json(_edited(card, change), "m.json")
+
+
+def test_unreadable_model_file(tmp_path):
+    bad = tmp_path / "m.json"
+    bad.write_text("{not json")
+    with pytest.raises(InputError, match="m.json: not a model file"):
+        load_scorecard(bad)
+    with pytest.raises(InputError, match="cannot read"):
+        load_scorecard(tmp_path / "absent.json")
