@@ -68,7 +68,7 @@ def read_frame(path, columns=None, encoding="utf-8", delimiter=",") -> pd.DataFr
         dup = next(n for n in names if names.count(n) > 1)
         raise InputError(f"{path}: column {dup}: the name appears more than once")
     table = pa.table({n: _dictionary_text(table.column(n)) for n in names})
-    return table.to_pandas(split_blocks=True, self_destruct=True)
+    return table.to_pandas(split_blocks=True, self_destruct=True, date_as_object=False)
 
 
 def _dictionary_text(column: pa.ChunkedArray) -> pa.ChunkedArray:

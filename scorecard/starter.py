@@ -25,8 +25,9 @@ def _column_role(series: pd.Series) -> tuple[str, str]:
     if kind == "categorical" and distinct > IDENTIFIER_SHARE * series.notna().sum():
         return "identifier", f"identifier-like: {distinct} distinct values"
     if kind == "numeric" and pd.api.types.is_integer_dtype(series.dtype) \
-            and distinct == series.notna().sum() and distinct > 1000:
-        return "identifier", "identifier-like: every value distinct"
+            and distinct == series.notna().sum() and distinct >= 50 \
+            and series.max() - series.min() < 2 * distinct:
+        return "identifier", "identifier-like: distinct, nearly consecutive whole numbers"
     missing = series.isna().mean()
     return kind, f"{kind}, {distinct} distinct values, {missing:.1%} missing"
 
@@ -38,7 +39,7 @@ def _scalar(value) -> str:
 def starter_config(data, target: str, out=None) -> str:
     """YAML text of a starter config for ``data`` with outcome column ``target``.
 
-    The outcome's rarer value is proposed as bad; every other column is listed under
+    The outcome's commonest value is proposed as good and the next as bad; every other column is listed under
     ``characteristics`` (with its kind) or under ``ignore`` (with the reason), as a comment
     beside it, for the modeller to check.
     """
@@ -49,7 +50,8 @@ def starter_config(data, target: str, out=None) -> str:
     values = frame[target].dropna().value_counts()
     if len(values) < 2:
         raise InputError(f"column {target}: needs at least two distinct outcome values")
-    bad, good = values.index[-1], [v for v in values.index[:-1]]
+    # The two commonest values are taken as good (commonest) and bad; rarer ones are left out.
+    good, bad, others = [values.index[0]], values.index[1], list(values.index[2:])
     base = Path(out).parent if out else Path(".")
     source = os.path.relpath(data.resolve(), base.resolve())
     ignore, chars, dates = [], [], []
@@ -68,8 +70,9 @@ def starter_config(data, target: str, out=None) -> str:
              "data:",
              f"  source: {_scalar(source)}",
              f"  target: {_scalar(target)}",
-             f"  bad: [{_scalar(_plain(bad))}]            # check: the rarer outcome value",
-             f"  good: [{', '.join(_scalar(_plain(v)) for v in good)}]",
+             f"  bad: [{_scalar(_plain(bad))}]            # check: which values are bad",
+             f"  good: [{', '.join(_scalar(_plain(v)) for v in good)}]" +
+             (f"            # left out: {', '.join(str(_plain(v)) for v in others)}" if others else ""),
              "  weight: null",
              "  ignore:" + ("" if ignore else " []")]
     lines += [f"    - {_scalar(n)}            # {why}" for n, why in ignore]

@@ -1,0 +1,73 @@
+"""The command layer, through click's CliRunner: the demo end to end, init, score."""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pandas as pd
+import yaml
+from click.testing import CliRunner
+
+from scorecard.cli import main
+from scorecard.config import parse_config
+from scorecard.data import read_frame
+from scorecard.demo import write_demo
+from scorecard.model import load_scorecard
+from scorecard.scoring import apply_scorecard
+
+
+def test_demo_builds_end_to_end_and_its_model_scores_the_rows(tmp_path):
+    runner = CliRunner()
+    result = runner.invoke(main, ["demo", "--dir", str(tmp_path), "--rows", "3000", "--quiet"])
+    assert result.exit_code == 0, result.output
+    workbook = tmp_path / "out" / "scorecard.xlsx"
+    model = tmp_path / "out" / "scorecard.json"
+    assert workbook.stat().st_size > 0 and model.stat().st_size > 0
+    card = load_scorecard(model)
+    assert json.loads(model.read_text())["format_version"] == 1
+
+    out = tmp_path / "scored.csv"
+    scored = runner.invoke(main, ["score", str(model), str(tmp_path / "applications.csv"),
+                                  "--out", str(out), "--keep", "application_id"])
+    assert scored.exit_code == 0, scored.output
+    frame = pd.read_csv(out)
+    rows = read_frame(tmp_path / "applications.csv")
+    assert len(frame) == len(rows)
+    assert list(frame.columns[:3]) == ["application_id", "score", "bad_probability"]
+    assert np.array_equal(frame["score"].to_numpy(), apply_scorecard(card, rows).score)
+    points = frame[[f"points_{n}" for n in card.names]].to_numpy()
+    assert np.array_equal(points.sum(axis=1), frame["score"].to_numpy())
+
+
+def test_build_prints_one_line_per_stage_and_quiet_silences_it(tmp_path):
+    runner = CliRunner()
+    runner.invoke(main, ["demo", "--dir", str(tmp_path), "--rows", "2000", "--quiet"])
+    loud = runner.invoke(main, ["build", str(tmp_path / "scorecard.yaml")])
+    assert loud.exit_code == 0, loud.output
+    assert "model fitted on" in loud.stderr and "AUC" in loud.stdout
+    quiet = runner.invoke(main, ["build", str(tmp_path / "scorecard.yaml"), "--quiet"])
+    assert quiet.exit_code == 0 and quiet.stdout == "" and quiet.stderr == ""
+
+
+def test_init_writes_a_config_that_loads_and_classifies_every_column(tmp_path):
+    runner = CliRunner()
+    write_demo(tmp_path, rows=1000)
+    data = tmp_path / "applications.csv"
+    out = tmp_path / "starter.yaml"
+    result = runner.invoke(main, ["init", str(data), "--target", "outcome", "--out", str(out)])
+    assert result.exit_code == 0, result.output
+    config = parse_config(out.read_text(), out)
+    raw = yaml.safe_load(out.read_text())
+    listed = set(raw["characteristics"]) | set(raw["data"]["ignore"]) | {"outcome"}
+    assert listed == set(pd.read_csv(data, nrows=1).columns)
+    assert "application_id" in config.data.ignore
+    assert config.data.bad == ("defaulted",)
+    assert raw["characteristics"]["housing"] == {"kind": "categorical"}
+
+
+def test_bad_input_is_one_error_line_and_exit_status_two(tmp_path):
+    result = CliRunner().invoke(main, ["build", str(tmp_path / "absent.yaml")])
+    assert result.exit_code == 2
+    assert result.stderr.startswith("error: ") and len(result.stderr.splitlines()) == 1
+    assert "Traceback" not in result.output
