@@ -127,7 +127,7 @@ class Comparison(NamedTuple):
     stability : StabilityComparison
         Score and characteristic stability indices with their tables.
     unusual : pandas.DataFrame
-        Per characteristic and file: levels not seen in development, missing values where
+        Per characteristic and sample ('baseline', 'current'): levels not seen in development, missing values where
         development had none, values beyond the development range.
     performance : dict
         ``'baseline'`` / ``'current'`` -> SamplePerformance, for the files with an outcome.
@@ -425,12 +425,12 @@ def _calibration_held(performance: dict) -> bool | None:
     return bool(cur.hosmer_lemeshow.p_value >= SIGNIFICANCE)
 
 
-def _unusual(card, files) -> pd.DataFrame:
-    records = [{"Characteristic": name, "File": counts.path,
+def _unusual(card, files: dict) -> pd.DataFrame:
+    records = [{"Characteristic": name, "Sample": sample,
                 "Levels not seen in development": u.unseen_levels,
                 "Missing where development had none": u.unseen_missing,
                 "Beyond the development range": u.out_of_range}
-               for name in card.names for counts in files
+               for name in card.names for sample, counts in files.items()
                for u in (counts.unusual[name],)]
     return pd.DataFrame(records)
 
@@ -508,7 +508,7 @@ def compare(model_path, baseline_path, current_path, *, bands=None, watch=None,
         rows={BASELINE: base.rows, CURRENT: cur.rows},
         rejected={BASELINE: base.rejected, CURRENT: cur.rejected},
         stability=_stability(card, base, cur, starts, watch, shift),
-        unusual=_unusual(card, (base, cur)),
+        unusual=_unusual(card, {BASELINE: base, CURRENT: cur}),
         performance=performance,
         ranking_held=_ranking_held(performance),
         calibration_held=_calibration_held(performance),
