@@ -107,3 +107,5 @@ def score(model, data, out, keep, reasons):
 
 if __name__ == "__main__":
     sys.exit(main())
+from .compare import compare_command  # noqa: E402
+main.add_command(compare_command)

@@ -127,8 +127,8 @@ class Comparison(NamedTuple):
     stability : StabilityComparison
         Score and characteristic stability indices with their tables.
     unusual : pandas.DataFrame
-        Per characteristic and sample ('baseline', 'current'): levels not seen in development, missing values where
-        development had none, values beyond the development range.
+        Per characteristic and sample ('baseline', 'current'): levels not seen in development,
+        missing values where development had none, values beyond the development range.
     performance : dict
         ``'baseline'`` / ``'current'`` -> SamplePerformance, for the files with an outcome.
     ranking_held, calibration_held : bool or None
