@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-from openpyxl.styles import Alignment
 from openpyxl.worksheet.worksheet import Worksheet
 
 from .fairness import FairnessReport
@@ -78,7 +77,7 @@ def write_fairness_sheet(ws: Worksheet, report: FairnessReport) -> int:
 def _caution(ws: Worksheet, row: int) -> None:
     cell = ws.cell(row, 1, CAUTION)
     cell.font = style.BOLD
-    cell.alignment = Alignment(wrap_text=True, vertical="top")
+    cell.alignment = style.WRAP
     ws.merge_cells(start_row=row, start_column=1, end_row=row, end_column=_CAUTION_COLUMNS)
     ws.row_dimensions[row].height = 48
 
