@@ -7,17 +7,20 @@ after the read works on numpy arrays.
 
 from __future__ import annotations
 
+import codecs
 from pathlib import Path
 from typing import NamedTuple
 
 import numpy as np
 import pandas as pd
 import pyarrow as pa
+import pyarrow.compute as pc
 import pyarrow.csv as pacsv
 import pyarrow.dataset as pads
 import pyarrow.parquet as pq
 
 from .errors import InputError
+from .scoring import level_labels
 
 PARQUET_SUFFIXES = (".parquet", ".pq")
 CSV_SUFFIXES = (".csv", ".txt", ".tsv")
@@ -28,32 +31,159 @@ SAMPLE_NAMES = {DEVELOPMENT: "development", HOLDOUT: "holdout", OUT_OF_TIME: "ou
 
 
 def read_table(path, columns=None, encoding="utf-8", delimiter=",") -> pa.Table:
-    """Read a CSV file, a Parquet file or a folder of Parquet files into an Arrow table."""
+    """Read a CSV file, a Parquet file or a folder of Parquet files into an Arrow table.
+
+    Files are only ever opened for reading. A CSV whose text does not decode, or whose rows do
+    not all have the header's number of fields, raises InputError naming the row.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "rows.csv"
+    >>> _ = path.write_text("age;outcome\\n31;repaid\\n")
+    >>> read_table(path, delimiter=";").column_names
+    ['age', 'outcome']
+    """
     path = Path(path)
     if not path.exists():
         raise InputError(f"{path}: data file not found")
+    suffix = "" if path.is_dir() else path.suffix.lower()
     try:
         if path.is_dir():
-            return pads.dataset(path, format="parquet").to_table(columns=columns)
-        suffix = path.suffix.lower()
+            table = pads.dataset(path, format="parquet").to_table(columns=columns)
+            if not table.column_names:
+                raise InputError(f"{path}: the folder holds no Parquet files")
+            return table
         if suffix in PARQUET_SUFFIXES:
             return pq.read_table(path, columns=columns)
         if suffix in CSV_SUFFIXES:
             return _read_csv(path, columns, encoding, delimiter)
-    except (pa.ArrowInvalid, pa.ArrowKeyError, OSError, UnicodeDecodeError) as exc:
+    except pa.ArrowInvalid as exc:
+        if suffix in CSV_SUFFIXES and "CSV parse error" in str(exc):
+            raise InputError(_parse_error(path, encoding, delimiter, exc)) from None
         raise InputError(f"{path}: cannot read the data: {_first_line(exc)}") from None
+    except (pa.ArrowKeyError, OSError) as exc:
+        raise InputError(f"{path}: cannot read the data: {_first_line(exc)}") from None
+    except UnicodeDecodeError as exc:
+        raise InputError(f"{path}: the text is not valid {encoding} ({exc.reason}); "
+                         f"{_ENCODING_HINT}") from None
     raise InputError(f"{path}: unknown data format {path.suffix!r} "
                      "(expected .csv, .parquet or a folder of Parquet files)")
+
+
+def _csv_options(path: Path, encoding: str, delimiter: str, threads: bool = True):
+    read = pacsv.ReadOptions(encoding=encoding, block_size=1 << 24, use_threads=threads)
+    parse = pacsv.ParseOptions(delimiter="\t" if path.suffix.lower() == ".tsv" else delimiter)
+    return read, parse
 
 
 def _read_csv(path: Path, columns, encoding: str, delimiter: str) -> pa.Table:
     if path.stat().st_size == 0:
         raise InputError(f"{path}: the file is empty")
-    read = pacsv.ReadOptions(encoding=encoding, block_size=1 << 24)
-    parse = pacsv.ParseOptions(delimiter="\t" if path.suffix.lower() == ".tsv" else delimiter)
+    try:
+        codec = codecs.lookup(encoding).name
+    except LookupError:
+        raise InputError(f"{path}: {encoding!r} is not a known text encoding") from None
+    if codec.startswith("utf-8"):
+        _refuse_nul_bytes(path)
+    read, parse = _csv_options(path, encoding, delimiter)
     convert = pacsv.ConvertOptions(strings_can_be_null=True, auto_dict_encode=True,
                                    auto_dict_max_cardinality=1 << 16, include_columns=columns)
-    return pacsv.read_csv(path, read_options=read, parse_options=parse, convert_options=convert)
+    table = pacsv.read_csv(path, read_options=read, parse_options=parse, convert_options=convert)
+    _check_text(path, table, encoding)
+    _check_delimiter(path, table, parse.delimiter)
+    return table
+
+
+def _refuse_nul_bytes(path: Path) -> None:
+    # UTF-8 text never holds NUL bytes; UTF-16 text and spreadsheet files do, and would otherwise
+    # surface as a confusing count of fields.
+    with open(path, "rb") as file:
+        head = file.read(1 << 16)
+    if b"\x00" in head:
+        raise InputError(f"{path}: the file holds NUL bytes, so it is not UTF-8 text: if it is "
+                         "UTF-16, give data.encoding: utf-16; a spreadsheet must be saved as CSV")
+
+
+def _parse_error(path: Path, encoding: str, delimiter: str, exc: Exception) -> str:
+    """The parse error with its data row, found by a second, single-threaded read."""
+    found = []
+
+    def note(row):
+        found.append(row)
+        return "skip"
+
+    read, parse = _csv_options(path, encoding, delimiter, threads=False)
+    parse.invalid_row_handler = note
+    try:
+        pacsv.read_csv(path, read_options=read, parse_options=parse)
+    except pa.ArrowInvalid:
+        pass
+    if found and found[0].number is not None:
+        # The reader counts the header as row 1; messages count data rows from 1.
+        bad = found[0]
+        return (f"{path}: row {bad.number - 1}: expected {bad.expected_columns} fields as in the "
+                f"header, found {bad.actual_columns}")
+    return f"{path}: cannot read the data: {_first_line(exc)}"
+
+
+_ENCODING_HINT = "give the file's encoding as data.encoding (for example latin-1 or cp1252)"
+
+
+def _check_text(path: Path, table: pa.Table, encoding: str) -> None:
+    # The CSV reader keeps text that does not decode as raw bytes (or, in the header, as U+FFFD)
+    # instead of failing; such a column would silently become levels like b'caf\xe9'.
+    for name in table.column_names:
+        if "\ufffd" in name:
+            raise InputError(f"{path}: the header is not valid {encoding} text; {_ENCODING_HINT}")
+    for name in table.column_names:
+        column = table.column(name)
+        kind = column.type.value_type if pa.types.is_dictionary(column.type) else column.type
+        if pa.types.is_binary(kind) or pa.types.is_large_binary(kind):
+            row = _first_undecodable_row(column)
+            where = "" if row is None else f" row {row + 1}:"
+            raise InputError(f"{path}: column {name}:{where} the text is not valid {encoding}; "
+                             f"{_ENCODING_HINT}")
+
+
+def _first_undecodable_row(column: pa.ChunkedArray) -> int | None:
+    """Position of the first value that is not UTF-8, or None if no single value is to blame."""
+    start = 0
+    for chunk in column.chunks:
+        if pa.types.is_dictionary(chunk.type):
+            entry = _first_undecodable(chunk.dictionary)
+            at = -1 if entry is None else pc.index(chunk.indices, entry).as_py()
+        else:
+            found = _first_undecodable(chunk)
+            at = -1 if found is None else found
+        if at >= 0:
+            return start + at
+        start += len(chunk)
+    return None
+
+
+def _first_undecodable(values: pa.Array) -> int | None:
+    """Index of the first binary value that is not UTF-8, decoding all bytes at once."""
+    offsets_type = np.int64 if pa.types.is_large_binary(values.type) else np.int32
+    buffers = values.buffers()
+    offsets = np.frombuffer(buffers[1], dtype=offsets_type)[values.offset:
+                                                            values.offset + len(values) + 1]
+    data = buffers[2].to_pybytes()[offsets[0]:offsets[-1]] if buffers[2] else b""
+    try:
+        data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        return int(np.searchsorted(offsets, offsets[0] + exc.start, side="right")) - 1
+    return None
+
+
+def _check_delimiter(path: Path, table: pa.Table, delimiter: str) -> None:
+    if table.num_columns != 1:
+        return
+    header = table.column_names[0]
+    other = next((d for d in (";", "\t", "|", ",") if d != delimiter and d in header), None)
+    if other is not None:
+        raise InputError(f"{path}: the file reads as a single column {header[:40]!r}; its fields "
+                         f"seem to be separated by {other!r}: give that as data.delimiter")
 
 
 def _first_line(exc: Exception) -> str:
@@ -61,12 +191,47 @@ def _first_line(exc: Exception) -> str:
 
 
 def read_frame(path, columns=None, encoding="utf-8", delimiter=",") -> pd.DataFrame:
-    """Read a data file into pandas; text columns come back as categoricals."""
+    """Read a data file into pandas; text columns come back as categoricals.
+
+    Parameters
+    ----------
+    path : path
+        A CSV file (.csv, .txt, .tsv), a Parquet file (.parquet, .pq) or a folder of Parquet files.
+    columns : list of str, optional
+        Read only these columns.
+    encoding : str, default "utf-8"
+        Text encoding of a CSV file.
+    delimiter : str, default ","
+        Field separator of a CSV file (a .tsv file is always tab-separated).
+
+    Returns
+    -------
+    pandas.DataFrame
+        One row per data row, in file order, with a default integer index (row ``i`` of the
+        file is label ``i``; messages about a row count from 1).
+
+    Raises
+    ------
+    InputError
+        The file is missing, empty, has a header but no rows, repeats a column name, or cannot
+        be read or decoded; the message names the file and, where it can, the column and row.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "rows.csv"
+    >>> _ = path.write_text("age,outcome\\n31,repaid\\n45,defaulted\\n")
+    >>> frame = read_frame(path)
+    >>> frame["age"].tolist(), column_kind(frame["outcome"])
+    ([31, 45], 'categorical')
+    """
     table = read_table(path, columns, encoding, delimiter)
     names = table.column_names
     if len(set(names)) != len(names):
         dup = next(n for n in names if names.count(n) > 1)
         raise InputError(f"{path}: column {dup}: the name appears more than once")
+    if table.num_rows == 0:
+        raise InputError(f"{path}: the data has column names but no rows")
     table = pa.table({n: _dictionary_text(table.column(n)) for n in names})
     return table.to_pandas(split_blocks=True, self_destruct=True, date_as_object=False)
 
@@ -103,10 +268,21 @@ class Outcome(NamedTuple):
     left_out: int          # rows whose outcome is neither bad nor good (including missing)
 
 
+_YES_WORDS, _NO_WORDS = ("true", "yes", "on"), ("false", "no", "off")
+
+
+def _outcome_key(text: str) -> str:
+    """Outcome text as matched: the YAML words for yes and no stand for one value each."""
+    low = text.lower()
+    return "true" if low in _YES_WORDS else "false" if low in _NO_WORDS else text
+
+
 def _matches(labels: list[str], values) -> np.ndarray:
-    wanted = {str(v).lower() if isinstance(v, bool) else str(v) for v in values}
-    return np.array([(lv.lower() if lv.lower() in ("true", "false") else lv) in wanted
-                     for lv in labels], dtype=bool)
+    # The config reads ``yes`` as true and ``1.0`` as a float; a column holding the text "yes"
+    # or the integer 1 means the same outcome.
+    wanted = {_outcome_key(str(v).lower() if isinstance(v, bool) else level_labels([v])[0])
+              for v in values}
+    return np.array([_outcome_key(lv) in wanted for lv in labels], dtype=bool)
 
 
 def code_outcome(series: pd.Series, bad, good, weight: pd.Series | None = None,
@@ -119,7 +295,6 @@ def code_outcome(series: pd.Series, bad, good, weight: pd.Series | None = None,
     >>> o.label.tolist(), o.goods, o.bads, o.left_out
     ([0, 1, -1, -1], 1.0, 1.0, 2)
     """
-    from .scoring import level_labels
     cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
     labels = level_labels(cat.cat.categories)
     lookup = np.where(_matches(labels, bad), BAD, np.where(_matches(labels, good), GOOD, OTHER))
@@ -131,28 +306,45 @@ def code_outcome(series: pd.Series, bad, good, weight: pd.Series | None = None,
                    int((label == OTHER).sum()))
 
 
+def _row_number(series: pd.Series, position: int) -> int:
+    """Data row (from 1) of a position in ``series``.
+
+    A chunk of a frame read by :func:`read_frame` keeps the frame's integer index, so the label
+    says where the row is in the whole file, not just in the chunk.
+    """
+    label = series.index[position]
+    return int(label) + 1 if isinstance(label, (int, np.integer)) else position + 1
+
+
 def _weights(series: pd.Series, name: str) -> np.ndarray:
     if not pd.api.types.is_numeric_dtype(series.dtype) or pd.api.types.is_bool_dtype(series.dtype):
-        raise InputError(f"column {name}: weights must be numbers")
+        raise InputError(f"column {name}: weights must be numbers, found {series.dtype} values")
     w = series.to_numpy(dtype=np.float64, na_value=np.nan)
     bad = ~np.isfinite(w) | (w < 0)
     if bad.any():
-        row = int(np.flatnonzero(bad)[0])
-        raise InputError(f"column {name}: row {row + 1}: weight {w[row]} is not a finite "
-                         "non-negative number")
+        at = int(np.flatnonzero(bad)[0])
+        what = "is missing" if np.isnan(w[at]) else f"{w[at]:g} is not a finite non-negative number"
+        raise InputError(f"column {name}: row {_row_number(series, at)}: the weight {what}")
     return w
 
 
 def parse_dates(series: pd.Series, name: str) -> np.ndarray:
-    """The column as datetime64; InputError naming the first value that does not parse."""
+    """The column as datetime64; InputError naming the first value that does not parse.
+
+    Examples
+    --------
+    >>> np.datetime_as_string(parse_dates(pd.Series(["2025-07-01", None]), "decided_on"), "D")
+    array(['2025-07-01', 'NaT'], dtype='<U28')
+    """
     if pd.api.types.is_datetime64_any_dtype(series.dtype):
         return series.to_numpy(dtype="datetime64[ns]")
     text = series.astype("string")
     parsed = pd.to_datetime(text, errors="coerce", format="mixed")
     bad = parsed.isna() & text.notna()
     if bad.any():
-        row = int(np.flatnonzero(bad.to_numpy())[0])
-        raise InputError(f"column {name}: row {row + 1}: {text.iloc[row]!r} is not a date")
+        at = int(np.flatnonzero(bad.to_numpy())[0])
+        raise InputError(f"column {name}: row {_row_number(series, at)}: {text.iloc[at]!r} "
+                         "is not a date")
     return parsed.to_numpy(dtype="datetime64[ns]")
 
 
