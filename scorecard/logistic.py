@@ -24,6 +24,12 @@ from .errors import InputError
 # Newton's method converges quadratically, so a relative step of 1e-12 costs at most one or two
 # iterations more than a loose tolerance and makes two fits of the same data agree to ~1e-10.
 _STEP_TOLERANCE = 1e-12
+# Forward selection only ranks candidates by score tests, which a 1e-9 step does not move; the
+# reported fit is statsmodels' own at full precision.
+SELECTION_TOLERANCE = 1e-9
+# Steps larger than this are checked against the log-likelihood and halved if they overshoot;
+# within it Newton's method is in its quadratic range and every full step is an improvement.
+_CHECKED_STEP = 1e-2
 _MAX_ITERATIONS = 100
 # statsmodels' IRLS re-solves a weighted least-squares problem each iteration, whose rounding
 # noise is larger than Newton's; a tighter bound could fail to be met and look like divergence.
@@ -72,7 +78,7 @@ class _Optimum(NamedTuple):
     iterations: int
 
 
-def fit_logistic(X, successes, failures, names=None) -> LogisticFit:
+def fit_logistic(X, successes, failures, names=None, start=None) -> LogisticFit:
     """Fit a logistic regression with intercept to grouped success and failure counts.
 
     Parameters
@@ -84,6 +90,9 @@ def fit_logistic(X, successes, failures, names=None) -> LogisticFit:
         Rows whose two weights are both zero carry no information and are ignored.
     names : sequence of str, optional
         Names of the ``k`` columns; ``x1``, ``x2``, ... by default.
+    start : array_like of shape (k + 1,), optional
+        Starting coefficients (intercept first), e.g. a fast fit's optimum, which saves
+        iterations; the optimum does not depend on it.
 
     Returns
     -------
@@ -117,6 +126,7 @@ def fit_logistic(X, successes, failures, names=None) -> LogisticFit:
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         result = sm.GLM(np.column_stack([s, f]), X1, family=sm.families.Binomial()).fit(
+            start_params=None if start is None else np.asarray(start, dtype=float),
             tol_criterion="params",
             atol=_SM_TOLERANCE,
             rtol=_SM_TOLERANCE,
@@ -191,14 +201,24 @@ def fit_logistic_fast(X, successes, failures, start=None) -> tuple[np.ndarray, n
                 f"start: expected {X1.shape[1]} coefficients (intercept first), "
                 f"got shape {start.shape}"
             )
-    optimum = _newton(X1, s, f, start, np.zeros(X1.shape[1]))
+    coefficients, information, _ = newton_fit(X1, s, f, start)
+    return coefficients, information
+
+
+def newton_fit(X1, s, f, start=None, tolerance=_STEP_TOLERANCE) -> tuple[np.ndarray, np.ndarray, float]:
+    """The unchecked core of :func:`fit_logistic_fast`, for designs prepared once.
+
+    ``X1`` holds the intercept column and only rows of positive weight. Returns the
+    coefficients, the information matrix and the log-likelihood at the optimum.
+    """
+    optimum = _newton(X1, s, f, start, np.zeros(X1.shape[1]), tolerance)
     if not optimum.converged:
         warnings.warn(
             f"fast logistic fit did not converge after {optimum.iterations} iterations "
             "(the data may be separated); returning the last iterate",
-            stacklevel=2,
+            stacklevel=3,
         )
-    return optimum.coefficients, optimum.hessian
+    return optimum.coefficients, optimum.hessian, _log_likelihood(X1 @ optimum.coefficients, s, f)
 
 
 def score_test(X_in, X_candidates, successes, failures, coefficients):
@@ -244,13 +264,24 @@ def score_test(X_in, X_candidates, successes, failures, coefficients):
             f"coefficients: expected {X1.shape[1]} values (intercept first), "
             f"got shape {coefficients.shape}"
         )
+    return score_statistics(X1, Z, s, f, coefficients)
+
+
+def score_statistics(X1, Z, s, f, coefficients, Z_squared=None):
+    """Score statistics and p-values for candidates ``Z`` given a model fitted on ``X1``.
+
+    The unchecked core of :func:`score_test`: ``X1`` already holds the intercept column and
+    only rows of positive weight, so forward selection can call it on arrays prepared once.
+    """
     eta = X1 @ coefficients
-    weight = (s + f) * special.expit(eta) * special.expit(-eta)
-    residual = s - (s + f) * special.expit(eta)
+    p = special.expit(eta)
+    weight = (s + f) * p * special.expit(-eta)
+    residual = s - (s + f) * p
     score = Z.T @ residual
-    cross = X1.T @ (weight[:, None] * Z)
-    information = X1.T @ (weight[:, None] * X1)
-    own = np.einsum("ij,i,ij->j", Z, weight, Z)
+    weighted = X1 * weight[:, None]
+    cross = weighted.T @ Z
+    information = weighted.T @ X1
+    own = (Z * Z if Z_squared is None else Z_squared).T @ weight
     variance = own - np.einsum("ij,ij->j", cross, np.linalg.solve(information, cross))
     # What is left of a candidate after projecting out the model can be rounding noise only.
     informative = variance > 1e-10 * np.maximum(own, np.finfo(float).tiny)
@@ -384,23 +415,28 @@ def _log_likelihood(eta, s, f) -> float:
     return float(s @ special.log_expit(eta) + f @ special.log_expit(-eta))
 
 
-def _newton(X1, s, f, start, penalty) -> _Optimum:
-    """Maximise the log-likelihood minus ``sum(penalty * b**2) / 2`` by damped Newton steps."""
+def _newton(X1, s, f, start, penalty, tolerance=_STEP_TOLERANCE) -> _Optimum:
+    """Maximise the log-likelihood minus ``sum(penalty * b**2) / 2`` by damped Newton steps.
+
+    The linear predictor of each accepted iterate is kept, so each iteration costs one
+    product with the design for the predictor and one for the information matrix.
+    """
     n = s + f
     if start is None:
         start = np.zeros(X1.shape[1])
         start[0] = np.log(s.sum() / f.sum())
     b = np.asarray(start, dtype=float).copy()
-
-    def objective(coefficients):
-        return _log_likelihood(X1 @ coefficients, s, f) - 0.5 * penalty @ coefficients**2
-
-    current = objective(b)
+    eta = X1 @ b
+    current = _log_likelihood(eta, s, f) - 0.5 * penalty @ b**2
+    last_step = np.inf
     for iteration in range(1, _MAX_ITERATIONS + 1):
-        eta = X1 @ b
         p = special.expit(eta)
         gradient = X1.T @ (s - n * p) - penalty * b
-        hessian = X1.T @ ((n * p * special.expit(-eta))[:, None] * X1)
+        # Near the optimum the information matrix barely changes, so the last one is reused:
+        # the gradient is exact, so the iterates still converge to the exact optimum, and each
+        # step costs two products with the design instead of a weighted cross product.
+        if last_step > _CHECKED_STEP ** 2:
+            hessian = _information_at(X1, n, eta)
         try:
             step = np.linalg.solve(hessian + np.diag(penalty), gradient)
         except np.linalg.LinAlgError:
@@ -412,16 +448,21 @@ def _newton(X1, s, f, start, penalty) -> _Optimum:
         # Halving guards the rare overshoot far from the optimum; near it the full step is taken.
         while scale > 1e-10:
             candidate = b + scale * step
-            value = objective(candidate)
+            candidate_eta = X1 @ candidate
+            if np.max(np.abs(scale * step)) <= _CHECKED_STEP * (1.0 + np.max(np.abs(b))):
+                value = current
+                break
+            value = _log_likelihood(candidate_eta, s, f) - 0.5 * penalty @ candidate**2
             if value >= current - 1e-12 * abs(current):
                 break
             scale /= 2
-        b, current = candidate, value
-        if np.max(np.abs(scale * step)) <= _STEP_TOLERANCE * (1.0 + np.max(np.abs(b))):
-            return _Optimum(b, _information(X1, n, b), True, iteration)
-    return _Optimum(b, _information(X1, n, b), False, iteration)
+        b, eta, current = candidate, candidate_eta, value
+        last_step = np.max(np.abs(scale * step)) / (1.0 + np.max(np.abs(b)))
+        if last_step <= tolerance:
+            return _Optimum(b, _information_at(X1, n, eta), True, iteration)
+    return _Optimum(b, _information_at(X1, n, eta), False, iteration)
 
 
-def _information(X1, n, b) -> np.ndarray:
-    eta = X1 @ b
-    return X1.T @ ((n * special.expit(eta) * special.expit(-eta))[:, None] * X1)
+def _information_at(X1, n, eta) -> np.ndarray:
+    weighted = X1 * (n * special.expit(eta) * special.expit(-eta))[:, None]
+    return weighted.T @ X1

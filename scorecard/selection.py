@@ -24,7 +24,8 @@ from typing import NamedTuple
 import numpy as np
 
 from .errors import InputError
-from .logistic import LogisticFit, fit_logistic, fit_logistic_fast, log_likelihood, score_test
+from .logistic import (SELECTION_TOLERANCE, LogisticFit, fit_logistic, newton_fit,
+                       score_statistics)
 
 METHODS = ("stepwise", "all")
 
@@ -230,16 +231,26 @@ def select_characteristics(
     successes = _weights(successes, "successes", n)
     failures = _weights(failures, "failures", n)
     keep = _keep(keep, names, max_characteristics)
+    weights = successes + failures
+    correlation = weighted_correlation(X, weights, names=names)
+    # The design with intercept is built once, on the rows that carry weight; every refit
+    # and score test below works on column subsets of it.
+    used = weights > 0
+    candidates = np.ascontiguousarray(X if used.all() else X[used])
     data = _Candidates(
         X=X,
         successes=successes,
         failures=failures,
-        weights=successes + failures,
+        weights=weights,
         names=names,
         iv=_information_values(information_values, names),
         kept=tuple(names.index(name) for name in keep),
+        used_successes=successes[used],
+        used_failures=failures[used],
+        correlation=correlation,
+        candidates=candidates,
+        candidates_squared=candidates**2,
     )
-    correlation = weighted_correlation(X, data.weights, names=names)
     _require_estimable(data)
 
     fates = {name: Fate(True, "kept by config", "named in keep") for name in keep}
@@ -259,9 +270,10 @@ def select_characteristics(
             break
 
     chosen = tuple(names[j] for j in selected)
-    fit = fit_logistic(X[:, selected], successes, failures, names=chosen)
+    start, _, _ = data.fast_fit(selected)
+    fit = fit_logistic(X[:, selected], successes, failures, names=chosen, start=start)
     _warn_about_outcome(fit, chosen, keep)
-    vif = variance_inflation(X[:, selected], data.weights, names=chosen)
+    vif = data.vif(selected)
     for j in selected:
         passed = Fate(True, "selected", f"IV {data.iv[j]:.3f}; passed every stage")
         fates.setdefault(names[j], passed)
@@ -283,9 +295,36 @@ class _Candidates(NamedTuple):
     names: list[str]
     iv: np.ndarray
     kept: tuple[int, ...]
+    used_successes: np.ndarray
+    used_failures: np.ndarray
+    correlation: np.ndarray
+    candidates: np.ndarray
+    candidates_squared: np.ndarray
 
-    def fast_fit(self, columns, start=None):
-        return fit_logistic_fast(self.X[:, columns], self.successes, self.failures, start)
+    def columns(self, columns) -> np.ndarray:
+        """The design of the model on ``columns``, intercept column first."""
+        ones = np.ones((len(self.candidates), 1))
+        return np.hstack([ones, self.candidates[:, list(columns)]])
+
+    def fast_fit(self, columns, start=None, design=None):
+        """Coefficients, information matrix and log-likelihood of the model on ``columns``."""
+        design = self.columns(columns) if design is None else design
+        return newton_fit(design, self.used_successes, self.used_failures, start,
+                          SELECTION_TOLERANCE)
+
+    def score(self, design, coefficients):
+        """Score-test statistics and p-values of every candidate against a fitted model."""
+        return score_statistics(design, self.candidates, self.used_successes,
+                                self.used_failures, coefficients, self.candidates_squared)
+
+    def vif(self, columns) -> np.ndarray:
+        """VIF from the correlation matrix computed once: no pass over the patterns."""
+        if not len(columns):
+            return np.empty(0)
+        sub = self.correlation[np.ix_(columns, columns)]
+        if np.isnan(sub).any():
+            return np.full(len(columns), np.inf)
+        return _inverse_diagonal(sub)
 
 
 def _iv_floor(data: _Candidates, constant, min_iv, fates) -> list[int]:
@@ -333,14 +372,16 @@ def _prune_correlated(data: _Candidates, candidates, correlation, max_correlatio
 
 
 def _forward(data: _Candidates, candidates, entry_p_value, cap, fates):
-    X, s, f, names = data.X, data.successes, data.failures, data.names
+    names = data.names
     chosen = list(data.kept)
-    coefficients, _ = data.fast_fit(chosen)
+    design = data.columns(chosen)
+    coefficients, _, _ = data.fast_fit(chosen, design=design)
     remaining = sorted(candidates, key=lambda j: names[j])
     last_p: dict[int, float] = {}
     steps = []
     while remaining and len(chosen) < cap:
-        statistics, p_values = score_test(X[:, chosen], X[:, remaining], s, f, coefficients)
+        every_statistic, every_p = data.score(design, coefficients)
+        statistics, p_values = every_statistic[remaining], every_p[remaining]
         last_p = dict(zip(remaining, p_values))
         # The largest statistic is the smallest p-value, without the p-values' underflow to 0;
         # `remaining` is sorted by name, so argmax breaks ties by name.
@@ -349,13 +390,14 @@ def _forward(data: _Candidates, candidates, entry_p_value, cap, fates):
             break
         entering = remaining.pop(best)
         chosen.append(entering)
-        coefficients, _ = data.fast_fit(chosen, start=np.append(coefficients, 0.0))
+        design = np.column_stack([design, data.candidates[:, entering]])
+        coefficients, _, fitted = data.fast_fit(chosen, np.append(coefficients, 0.0), design)
         steps.append(
             {
                 "step": len(steps) + 1,
                 "entered": names[entering],
                 "p_value": float(p_values[best]),
-                "log_likelihood": log_likelihood(X[:, chosen], s, f, coefficients),
+                "log_likelihood": fitted,
             }
         )
         fates[names[entering]] = Fate(
@@ -389,7 +431,7 @@ def _take_all(data: _Candidates, survivors, cap, fates) -> list[int]:
 def _drop_wrong_signs(data: _Candidates, selected, fates) -> list[int]:
     selected = list(selected)
     while selected:
-        coefficients, information = data.fast_fit(selected)
+        coefficients, information, _ = data.fast_fit(selected)
         slopes = coefficients[1:]
         z = slopes / np.sqrt(np.diag(np.linalg.inv(information)))[1:]
         wrong = [i for i, j in enumerate(selected) if j not in data.kept and slopes[i] <= 0]
@@ -409,9 +451,7 @@ def _drop_wrong_signs(data: _Candidates, selected, fates) -> list[int]:
 def _drop_collinear(data: _Candidates, selected, max_vif, fates) -> list[int]:
     selected = list(selected)
     while selected:
-        vif = variance_inflation(
-            data.X[:, selected], data.weights, names=[data.names[j] for j in selected]
-        )
+        vif = data.vif(selected)
         high = [i for i, j in enumerate(selected) if j not in data.kept and vif[i] > max_vif]
         if not high:
             break
