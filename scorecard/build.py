@@ -20,6 +20,7 @@ from .data import (BAD, DEVELOPMENT, EXCLUDED, GOOD, HOLDOUT, OUT_OF_TIME, SAMPL
                    assign_samples, code_outcome, column_kind, parse_dates)
 from .errors import InputError
 from .evaluate import ScoreHistogram, band_edges, gains_table, performance
+from .fairness import compute_fairness
 from .fine import NumericLayout, candidate_cuts
 from .measures import iv_strength, outcome_mutual_information
 from .model import LEVELS, MISSING, OUT_OF_RANGE, RANGE, UNSEEN, Bin, Characteristic, Scorecard
@@ -72,6 +73,7 @@ class BuildResult:
     gains_sample: str
     band_starts: np.ndarray
     patterns: object = None
+    fairness: object = None         # scorecard.fairness.FairnessReport, or None without protected columns
     outputs: dict = field(default_factory=dict)
 
 
@@ -365,5 +367,9 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
     starts = band_edges(histograms[gains_sample], config.evaluation.score_bands)
     gains = gains_table(histograms[gains_sample], starts, card.scaling)
     ordered = [reports[n] for n in head.columns if n in reports]
+    fairness = compute_fairness(config, engine, rows, card)
+    if fairness is not None:
+        _say(progress, f"fairness check on {', '.join(config.data.protected)}: "
+                       f"{len(fairness.flags)} findings")
     return BuildResult(config, card, ordered, selection, facts, histograms, perf, gains,
-                       gains_sample, starts, patterns)
+                       gains_sample, starts, patterns, fairness=fairness)

@@ -407,6 +407,11 @@ scaling:
   base_odds: 50
   pdo: 20
 
+fairness:
+  # age_band is protected and never used; months_at_address carries a mild trace of it.
+  # A Cramer's V of 0.10 flags such a trace for the reviewer's attention.
+  proxy_cramers_v: 0.10
+
 output:
   workbook: out/scorecard.xlsx
   model: out/scorecard.json

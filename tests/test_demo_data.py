@@ -361,9 +361,12 @@ def test_config_has_the_contract_sections_in_order(config):
         "characteristics",
         "selection",
         "scaling",
+        "fairness",
         "output",
         "engine",
     ]
+    # The fairness threshold is lowered so the demo's mild built-in proxy gets flagged.
+    assert config["fairness"] == {"proxy_cramers_v": 0.10}
     assert config["name"] == "Cargo-bike lease applications (invented demo data)"
 
 
