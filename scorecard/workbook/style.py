@@ -20,11 +20,19 @@ HIGHER_RISK_FILL = PatternFill("solid", fgColor="F6E3CC")
 INPUT_FILL = PatternFill("solid", fgColor="FFF8D6")
 HEADER_BORDER = Border(bottom=Side(style="thin", color="2F3E4E"))
 WRAP = Alignment(wrap_text=True, vertical="top")
+HEADER_LEFT = Alignment(wrap_text=True, vertical="bottom", horizontal="left", indent=1)
+HEADER_RIGHT = Alignment(wrap_text=True, vertical="bottom", horizontal="right")
+# A text cell after a right-aligned number would touch it; the indent keeps them apart.
+TEXT = Alignment(horizontal="left", indent=1)
 
 # Chart series colours, in the same meaning as the tints: blue for goods, warm for bads.
-GOOD_LINE = "3B6E9C"
-BAD_LINE = "C0712B"
+GOOD_LINE = "2F5D87"
+BAD_LINE = "D9954F"
 NEUTRAL_LINE = "7F7F7F"
+# Baseline against current sample: light grey against the dark header slate, neither of the
+# risk colours, since neither sample is the riskier one.
+BASELINE_FILL = "B4B4B4"
+CURRENT_FILL = "2F3E4E"
 
 PERCENT = "0.0%"
 COUNT = "#,##0"

@@ -52,7 +52,7 @@ def safe_value(value):
     >>> str(safe_value('=HYPERLINK("http://x","y")'))
     '=HYPERLINK("http://x","y")'
     """
-    if value is None or value is pd.NaT:
+    if value is None or value is pd.NaT or value is pd.NA:
         return None
     if isinstance(value, (bool, np.bool_)):
         return bool(value)
@@ -118,23 +118,41 @@ def write_table(ws: Worksheet, frame: pd.DataFrame, *, start_row: int = 1, start
     if title is not None:
         ws.cell(start_row, start_col, safe_value(title)).font = style.HEADING_FONT
         header_row += 1
+    header_lines = 1
     for j, name in enumerate(frame.columns):
         col = start_col + j
+        numeric = pd.api.types.is_numeric_dtype(frame[name].dtype)
         cell = ws.cell(header_row, col, safe_value(name))
         cell.font, cell.fill, cell.border = style.HEADER_FONT, style.HEADER_FILL, style.HEADER_BORDER
-        cell.alignment = style.WRAP
+        cell.alignment = style.HEADER_RIGHT if numeric else style.HEADER_LEFT
         fmt = formats.get(name)
         values = [safe_value(v) for v in frame[name].tolist()]
         for i, value in enumerate(values, start=header_row + 1):
             cell = ws.cell(i, col, value)
             if fmt is not None and value is not None:
                 cell.number_format = fmt
-        _fit_width(ws, col, str(name), values, fmt)
+            elif isinstance(value, (str, CellRichText)):
+                cell.alignment = style.TEXT
+        width = _fit_width(ws, col, str(name), values, fmt)
+        header_lines = max(header_lines, _lines(str(name), width))
+    # Spreadsheet programs do not grow a row for wrapped text written by another program.
+    ws.row_dimensions[header_row].height = 15 * header_lines + 2
     return header_row, header_row + len(frame)
 
 
-def _fit_width(ws: Worksheet, col: int, header: str, values: list, fmt: str | None) -> None:
-    """Widen the column to its longest entry; never narrow what another table needs."""
+def _lines(text: str, width: float) -> int:
+    """Lines that ``text`` takes when wrapped at word boundaries in a column ``width`` wide."""
+    lines, used = 1, 0
+    for word in text.split():
+        if used and used + 1 + len(word) > width - 1:
+            lines, used = lines + 1, len(word)
+        else:
+            used += len(word) + (1 if used else 0)
+    return lines
+
+
+def _fit_width(ws: Worksheet, col: int, header: str, values: list, fmt: str | None) -> float:
+    """Widen the column to its longest entry, never narrowing it; returns the new width."""
     longest = max((_shown_length(v, fmt) for v in values), default=0)
     header_length = max((len(word) for word in header.split()), default=0)
     width = min(MAX_WIDTH, max(MIN_WIDTH, longest + 2, header_length + 2, min(len(header), 18) + 2))
@@ -142,6 +160,7 @@ def _fit_width(ws: Worksheet, col: int, header: str, values: list, fmt: str | No
     # Reading an unset column would create it with openpyxl's default width, so check first.
     current = ws.column_dimensions[letter].width if letter in ws.column_dimensions else 0
     ws.column_dimensions[letter].width = max(current or 0, width)
+    return ws.column_dimensions[letter].width
 
 
 def _shown_length(value, fmt: str | None) -> int:
@@ -151,7 +170,8 @@ def _shown_length(value, fmt: str | None) -> int:
         return len(f"{value:.6g}")
     if isinstance(value, (int, float)) and not isinstance(value, bool):
         return len(f"{value:,.0f}") + (fmt.count("0") if fmt and "." in fmt else 0) + 1
-    return max((len(line) for line in str(value).splitlines()), default=0)
+    # Text cells carry an indent of about two characters.
+    return max((len(line) for line in str(value).splitlines()), default=0) + 2
 
 
 def finish_table_sheet(ws: Worksheet, header_row: int, last_row: int, n_columns: int,

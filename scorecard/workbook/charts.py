@@ -1,0 +1,139 @@
+"""Native spreadsheet charts over ranges of the workbook's own tables.
+
+Charts read their numbers from cells, so a reader can trace every bar to a table row. Goods are
+drawn in a dark cool colour and bads in a light warm one, and lines of bads are dashed, so the
+series stay apart in black and white; every series carries its name in the legend.
+"""
+
+from __future__ import annotations
+
+from typing import NamedTuple
+
+from openpyxl.chart import BarChart, LineChart, Reference, Series
+from openpyxl.chart.text import RichText, Text
+from openpyxl.chart.title import Title
+from openpyxl.drawing.text import CharacterProperties, Paragraph, ParagraphProperties, RegularTextRun
+from openpyxl.utils import get_column_letter
+from openpyxl.worksheet.worksheet import Worksheet
+
+from . import style
+
+WIDTH_CM, HEIGHT_CM = 14.0, 8.0
+# A chart of this height covers about this many rows of the default height.
+ROWS_PER_CHART = 17
+TITLE_SIZE, AXIS_TITLE_SIZE = 1000, 800   # hundredths of a point
+
+
+class Line(NamedTuple):
+    """One series: the column of values, its legend word, colour and dash style."""
+
+    column: int
+    title: str
+    colour: str
+    dash: str | None = None
+
+
+def column_ref(ws: Worksheet, column: int, first_row: int, last_row: int) -> Reference:
+    return Reference(ws, min_col=column, max_col=column, min_row=first_row, max_row=last_row)
+
+
+def text_title(text: str, size: int = TITLE_SIZE) -> Title:
+    """A chart or axis title in a modest bold size, so the plot keeps most of the frame."""
+    font = CharacterProperties(sz=size, b=True)
+    paragraph = Paragraph(pPr=ParagraphProperties(defRPr=font), r=[RegularTextRun(rPr=font, t=text)])
+    return Title(tx=Text(rich=RichText(p=[paragraph])), overlay=False)
+
+
+def _finish(chart, title: str, x_title: str | None, y_title: str, y_format: str) -> None:
+    chart.title = text_title(title)
+    chart.width, chart.height = WIDTH_CM, HEIGHT_CM
+    if x_title is not None:
+        chart.x_axis.title = text_title(x_title, AXIS_TITLE_SIZE)
+    chart.y_axis.title = text_title(y_title, AXIS_TITLE_SIZE)
+    chart.y_axis.number_format = y_format
+    chart.y_axis.majorGridlines = None
+    # openpyxl marks axes as deleted unless told otherwise; readers then draw no axes.
+    chart.x_axis.delete = False
+    chart.y_axis.delete = False
+    chart.legend.position = "b"
+    # Filtering the table hides rows; the chart should still show every attribute.
+    chart.plot_visible_only = False
+
+
+def bad_rate_and_woe_chart(ws: Worksheet, title: str, first_row: int, last_row: int, *,
+                           label_col: int, bad_rate_col: int, woe_col: int) -> BarChart:
+    """Bars of the bad rate (left axis) and a line of the weight of evidence (right axis)."""
+    bars = BarChart()
+    bars.type = "col"
+    bars.gapWidth = 60
+    rate = Series(column_ref(ws, bad_rate_col, first_row, last_row), title="Bad rate")
+    rate.graphicalProperties.solidFill = style.BAD_LINE
+    rate.graphicalProperties.line.solidFill = style.BAD_LINE
+    bars.series.append(rate)
+    bars.set_categories(column_ref(ws, label_col, first_row, last_row))
+    _finish(bars, title, None, "Bad rate (bars)", "0%")
+
+    line = LineChart()
+    woe = Series(column_ref(ws, woe_col, first_row, last_row), title="Weight of evidence")
+    woe.graphicalProperties.line.solidFill = style.GOOD_LINE
+    woe.graphicalProperties.line.width = 28575
+    woe.smooth = False
+    woe.marker.symbol = "circle"
+    woe.marker.graphicalProperties.solidFill = style.GOOD_LINE
+    line.series.append(woe)
+    line.y_axis.axId = 200
+    line.y_axis.title = text_title("Weight of evidence (line)", AXIS_TITLE_SIZE)
+    line.y_axis.number_format = "0.0"
+    line.y_axis.majorGridlines = None
+    line.y_axis.crosses = "max"
+    line.y_axis.delete = False
+    bars += line
+    return bars
+
+
+def bar_chart(ws: Worksheet, title: str, first_row: int, last_row: int, *, label_col: int,
+              series: list[Line], x_title: str, y_title: str, y_format: str = "0%") -> BarChart:
+    """Side-by-side bars of several columns against one column of labels."""
+    chart = BarChart()
+    chart.type = "col"
+    chart.gapWidth = 40
+    for spec in series:
+        s = Series(column_ref(ws, spec.column, first_row, last_row), title=spec.title)
+        s.graphicalProperties.solidFill = spec.colour
+        s.graphicalProperties.line.solidFill = spec.colour
+        chart.series.append(s)
+    chart.set_categories(column_ref(ws, label_col, first_row, last_row))
+    _finish(chart, title, x_title, y_title, y_format)
+    return chart
+
+
+def line_chart(ws: Worksheet, title: str, first_row: int, last_row: int, *, label_col: int,
+               series: list[Line], x_title: str, y_title: str, y_format: str = "0%",
+               y_max: float | None = None) -> LineChart:
+    """Lines of several columns against one column of labels, dashed where asked."""
+    chart = LineChart()
+    if y_max is not None:
+        chart.y_axis.scaling.min, chart.y_axis.scaling.max = 0, y_max
+    for spec in series:
+        s = Series(column_ref(ws, spec.column, first_row, last_row), title=spec.title)
+        s.graphicalProperties.line.solidFill = spec.colour
+        s.graphicalProperties.line.width = 22225
+        if spec.dash is not None:
+            s.graphicalProperties.line.dashStyle = spec.dash
+        s.smooth = False
+        chart.series.append(s)
+    chart.set_categories(column_ref(ws, label_col, first_row, last_row))
+    _finish(chart, title, x_title, y_title, y_format)
+    return chart
+
+
+def column_after(ws: Worksheet, start_col: int, width_cm: float) -> int:
+    """The first column to the right of a chart of ``width_cm`` anchored at ``start_col``."""
+    covered, col = 0.0, start_col
+    while covered < width_cm:
+        letter = get_column_letter(col)
+        width = ws.column_dimensions[letter].width if letter in ws.column_dimensions else None
+        # Column widths count characters of the default font, about 0.19 cm each.
+        covered += (width or 8.43) * 0.19
+        col += 1
+    return col

@@ -1,0 +1,602 @@
+"""The reviewer's workbook: sheet contract, readability, safety, charts and reproducibility.
+
+Outside checks: a second, independent reader of .xlsx files (python_calamine, reference
+library) reads the Points sheet; LibreOffice (a real spreadsheet program) recalculates the
+Calculator's formulas, and its totals must equal the product's own scoring of the same row.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+import re
+import shutil
+import subprocess
+import zipfile
+from pathlib import Path, PurePosixPath
+from xml.etree import ElementTree
+
+import numpy as np
+import pandas as pd
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from openpyxl import Workbook, load_workbook
+from python_calamine import CalamineWorkbook
+
+import scorecard.run
+from scorecard.demo import write_demo
+from scorecard.model import (LEVELS, MISSING, OUT_OF_RANGE, RANGE, SPECIAL, UNSEEN,
+                             load_scorecard)
+from scorecard.scoring import apply_scorecard
+from scorecard.stability import build_stability
+from scorecard.workbook import SHEETS, write_workbook
+from scorecard.workbook import frames
+from scorecard.workbook.calculator import defined_name
+from scorecard.workbook.manifest import source_sha256
+from scorecard.workbook.overview import CAUTION, RUN_TIME_LABEL
+from scorecard.workbook.tables import safe_value, write_table
+
+TABLE_SHEETS = ("Characteristics", "Bins", "Model", "Points", "Score bands", "Stability")
+FIRST_HEADERS = {
+    "Characteristics": ["Characteristic", "Kind", "Status", "Stage", "Reason", "Fine classes",
+                        "Trend", "Information value", "Strength", "Mutual information (nats)",
+                        "Mutual information (bits)"],
+    "Bins": frames.BIN_COLUMNS,
+    "Model": ["Name", "Coefficient", "Standard error", "z", "p-value", "VIF"],
+    "Points": frames.POINT_COLUMNS,
+    "Score bands": ["Band", "Lowest score", "Highest score", "Rows", "Goods", "Bads"],
+    "Stability": ["Baseline", "Current", "Measure", "Stability index", "Status"],
+    "Calculator": ["Characteristic", "Attribute (choose from the list)", "Points", "Check"],
+}
+INJECTIONS = ('=HYPERLINK("http://x","y")', "+1+1", "@SUM(A1)")
+MAIN = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}"
+REL = "{http://schemas.openxmlformats.org/officeDocument/2006/relationships}"
+
+
+@pytest.fixture(scope="module")
+def demo(tmp_path_factory):
+    """The demo (4,000 rows) built with its files written: (result, workbook path, folder)."""
+    folder = tmp_path_factory.mktemp("demo_workbook")
+    result = scorecard.run.build(write_demo(folder, rows=4000))
+    return result, result.outputs["workbook"], folder
+
+
+@pytest.fixture(scope="module")
+def book(demo):
+    return load_workbook(demo[1])
+
+
+def _header(ws) -> list:
+    return [c.value for c in ws[1] if c.value is not None]
+
+
+def _table(ws, first_row: int = 1) -> pd.DataFrame:
+    """The table whose header is ``first_row``, down to its first blank row."""
+    rows = ws.iter_rows(min_row=first_row, values_only=True)
+    header = [h for h in next(rows) if h is not None]
+    body = []
+    for row in rows:
+        if all(v is None for v in row[:len(header)]):
+            break
+        body.append(row[:len(header)])
+    return pd.DataFrame(body, columns=header)
+
+
+# --- sheet contract and readability ---------------------------------------------------------
+
+def test_sheets_come_in_the_contract_order_with_headers_in_row_1(demo, book):
+    # The demo declares a protected column, so its build examines fairness.
+    assert demo[0].fairness is not None
+    assert book.sheetnames == [*SHEETS, "Fairness"]
+    for name, expected in FIRST_HEADERS.items():
+        assert _header(book[name])[:len(expected)] == expected, name
+
+
+def test_table_sheets_freeze_the_header_filter_and_print_landscape_fitted_to_width(book):
+    for name in TABLE_SHEETS + ("Calculator",):
+        ws = book[name]
+        assert ws.freeze_panes == "A2", name
+        assert ws.print_title_rows == "$1:$1", name
+        assert ws.page_setup.orientation == "landscape", name
+        assert ws.page_setup.fitToWidth == 1 and ws.sheet_properties.pageSetUpPr.fitToPage
+    for name in TABLE_SHEETS:
+        ws = book[name]
+        width = len(_header(ws))
+        assert ws.auto_filter.ref == f"A1:{chr(ord('A') + width - 1)}{len(_table(ws)) + 1}", name
+
+
+def test_number_formats_show_shares_as_percent_and_points_as_integers(book):
+    bins = book["Bins"]
+    header = _header(bins)
+    row = 2
+    assert bins.cell(row, header.index("Bad rate") + 1).number_format == "0.0%"
+    assert bins.cell(row, header.index("Share of rows") + 1).number_format == "0.0%"
+    assert bins.cell(row, header.index("Weight of evidence") + 1).number_format.startswith("+0.0000")
+    assert bins.cell(row, header.index("Points") + 1).number_format == "0"
+    points = book["Points"]
+    assert points.cell(2, 3).number_format == "0"
+
+
+def test_colour_follows_the_sign_of_the_weight_of_evidence(book):
+    ws = book["Bins"]
+    col = _header(ws).index("Weight of evidence") + 1
+    fills = {}
+    for row in range(2, len(_table(ws)) + 2):
+        value = ws.cell(row, col).value
+        if value:
+            fills.setdefault(value > 0, set()).add(ws.cell(row, col).fill.fgColor.rgb)
+    assert len(fills[True]) == 1 and len(fills[False]) == 1
+    assert fills[True] != fills[False]
+
+
+# --- content ----------------------------------------------------------------------------------
+
+def test_points_sheet_read_by_a_second_reader_equals_the_model_file(demo):
+    # Reference library: python_calamine is an independent .xlsx reader (Rust calamine).
+    result, path, _ = demo
+    card = load_scorecard(result.outputs["model"])
+    rows = CalamineWorkbook.from_path(str(path)).get_sheet_by_name("Points").to_python()
+    assert rows[0][:3] == ["Characteristic", "Attribute", "Points"]
+    read = [(r[0], r[1], r[2]) for r in rows[1:] if r[0] != "" and r[1] != ""]
+    expected = [(c.name, b.label, b.points) for c in card.characteristics for b in c.bins]
+    assert read == expected
+
+
+def test_characteristics_sheet_ranks_every_column_by_information_value(demo, book):
+    result = demo[0]
+    table = _table(book["Characteristics"])
+    assert sorted(table["Characteristic"]) == sorted(r.name for r in result.reports)
+    ivs = table["Information value"].dropna().to_numpy()
+    assert np.all(np.diff(ivs) <= 0)
+    by_name = {r.name: r for r in result.reports}
+    for row in table.itertuples(index=False):
+        assert row.Status == by_name[row.Characteristic].status
+
+
+def test_bins_sheet_conserves_rows_and_sums_to_each_information_value(demo, book):
+    result = demo[0]
+    table = _table(book["Bins"])
+    dev_rows = result.samples.rows["development"]
+    for rep in frames.binned_reports(result.reports):
+        mine = table[table["Characteristic"] == rep.name]
+        assert len(mine) == len(rep.characteristic.bins)
+        assert mine["Rows"].sum() == pytest.approx(dev_rows)
+        assert mine["IV contribution"].sum() == pytest.approx(rep.information_value, rel=1e-9)
+        if rep.status == "in model":
+            assert mine["Points"].tolist() == [b.points for b in rep.characteristic.bins]
+        else:
+            assert mine["Points"].isna().all()
+
+
+def test_model_sheet_holds_the_fit_and_every_stepwise_step(demo, book):
+    result = demo[0]
+    fit = result.selection.fit
+    table = _table(book["Model"])
+    assert table["Name"].tolist() == list(fit.names)
+    assert table["Coefficient"].to_numpy() == pytest.approx(fit.coefficients)
+    ws = book["Model"]
+    title_row = next(r for r in range(1, ws.max_row + 1)
+                     if str(ws.cell(r, 1).value).startswith("Characteristic selection steps"))
+    steps = _table(ws, title_row + 1)
+    assert steps["Entered"].tolist() == [s["entered"] for s in result.selection.steps]
+
+
+def test_score_bands_sheet_holds_the_gains_and_names_its_sample(demo, book):
+    result = demo[0]
+    ws = book["Score bands"]
+    table = _table(ws)
+    assert table["Rows"].sum() == pytest.approx(result.samples.rows[result.gains_sample])
+    texts = [str(c.value) for row in ws.iter_rows() for c in row if isinstance(c.value, str)]
+    assert any(t.startswith(f"Sample: {result.gains_sample}") for t in texts)
+    assert f"Score distribution of the {result.gains_sample} sample" in texts
+
+
+def test_score_to_odds_table_follows_the_published_scaling():
+    # Published (Siddiqi 2006, from memory): 600 points at 50:1 and 20 points to double the
+    # odds put odds of 100:1 at 620 and 25:1 at 580.
+    from scorecard.points import scaling
+    from scorecard.model import Bin, Characteristic, Scorecard
+    bins = (Bin("< 1", RANGE, 1, 1, 0.0, 280, upper=1.0), Bin(">= 1", RANGE, 1, 1, 0.0, 640, lower=1.0))
+    card = Scorecard("s", scaling(600, 50, 20), 0.0,
+                     (Characteristic("x", "numeric", bins, 1.0, "R01", "x", cuts=(1.0,)),))
+    table = frames.odds_frame(card).set_index("Score")
+    assert table.loc[620, "Good:bad odds"] == pytest.approx(100)
+    assert table.loc[580, "Good:bad odds"] == pytest.approx(25)
+    assert table.loc[600, "Bad probability"] == pytest.approx(1 / 51)
+
+
+def test_stability_sheet_lists_every_index_of_build_stability(demo, book):
+    result = demo[0]
+    comparisons = build_stability(result)
+    table = _table(book["Stability"])
+    expected = [(c.current, r.name, r.index, r.status) for c in comparisons
+                for r in (c.score, *c.characteristics)]
+    got = list(zip(table["Current"], table["Measure"], table["Stability index"], table["Status"]))
+    assert [(a, b, d) for a, b, _, d in got] == [(a, b, d) for a, b, _, d in expected]
+    assert [g[2] for g in got] == pytest.approx([e[2] for e in expected])
+    assert {c.current for c in comparisons} == {"holdout", "out of time"}
+
+
+def test_overview_states_the_facts_the_manifest_and_the_cautions(demo, book):
+    result, _, folder = demo
+    ws = book["Overview"]
+    facts = {ws.cell(r, 1).value: ws.cell(r, 2).value for r in range(1, ws.max_row + 1)}
+    assert ws["A1"].value == result.config.name
+    texts = [ws.cell(r, 1).value for r in range(1, ws.max_row + 1)]
+    assert CAUTION in texts
+    assert facts["Rows read"] == 4000
+    assert facts["Rows left out (outcome neither bad nor good)"] == result.samples.left_out
+    assert facts["Largest score change caused by rounding"] == pytest.approx(result.card.rounding_change)
+    data = Path(result.config.data.source)
+    # Reference library: hashlib over the whole file at once (the product reads in chunks).
+    assert facts["Data file SHA-256 (a folder: of its files' hashes)"] == \
+        hashlib.sha256(data.read_bytes()).hexdigest()
+    assert facts["Config file SHA-256"] == \
+        hashlib.sha256(Path(result.config.config_file).read_bytes()).hexdigest()
+    assert facts["Random seed of the holdout split"] == result.config.samples.seed
+    for package in ("scorecard", "numpy", "pandas", "scipy", "statsmodels", "openpyxl", "pyarrow"):
+        assert facts[f"Version of {package}"]
+    assert re.fullmatch(r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d\+00:00", facts[RUN_TIME_LABEL])
+    model_title = next(r for r, t in enumerate(texts, 1) if str(t).startswith("Characteristics in"))
+    listed = _table(ws, model_title + 1)["Characteristic"].tolist()
+    assert listed == list(result.card.names)
+
+
+def test_a_folder_is_hashed_by_its_files_hashes_whatever_their_order(tmp_path):
+    (tmp_path / "b.parquet").write_bytes(b"second")
+    (tmp_path / "a.parquet").write_bytes(b"first")
+    listing = "".join(f"{name} {hashlib.sha256(data).hexdigest()}\n"
+                      for name, data in (("a.parquet", b"first"), ("b.parquet", b"second")))
+    assert source_sha256(tmp_path) == hashlib.sha256(listing.encode()).hexdigest()
+    # Published test vector (FIPS 180-2, appendix B.1): SHA-256 of "abc".
+    (tmp_path / "abc").write_bytes(b"abc")
+    assert source_sha256(tmp_path / "abc") == \
+        "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+
+
+# --- charts -----------------------------------------------------------------------------------
+
+def _chart_formulas(path, sheet: str) -> list[list[str]]:
+    """The cell ranges (``<c:f>``) of every chart on ``sheet``, chart by chart, in anchor order."""
+    with zipfile.ZipFile(path) as z:
+        def rels(part):
+            p = PurePosixPath(part)
+            name = f"{p.parent}/_rels/{p.name}.rels"
+            if name not in z.namelist():
+                return {}
+            root = ElementTree.fromstring(z.read(name))
+            return {r.get("Id"): str(PurePosixPath(p.parent, r.get("Target")))
+                    for r in root}
+
+        def norm(target):
+            parts = []
+            for piece in target.split("/"):
+                if piece == "..":
+                    parts.pop()
+                elif piece not in (".", ""):
+                    parts.append(piece)
+            return "/".join(parts)
+
+        book = ElementTree.fromstring(z.read("xl/workbook.xml"))
+        book_rels = rels("xl/workbook.xml")
+        sheet_id = next(s.get(f"{REL}id") for s in book.iter(f"{MAIN}sheet") if s.get("name") == sheet)
+        sheet_part = norm(book_rels[sheet_id])
+        drawings = [norm(t) for t in rels(sheet_part).values() if "drawing" in t]
+        out = []
+        for drawing in drawings:
+            for target in rels(drawing).values():
+                xml = ElementTree.fromstring(z.read(norm(target)))
+                out.append([f.text for f in xml.iter("{http://schemas.openxmlformats.org/drawingml/2006/chart}f")])
+        return out
+
+
+def _rows_of(ref: str) -> tuple[str, int, int]:
+    m = re.fullmatch(r"'?([^'!]+)'?!\$([A-Z]+)\$(\d+):\$[A-Z]+\$(\d+)", ref)
+    return m.group(2), int(m.group(3)), int(m.group(4))
+
+
+def test_each_binned_characteristic_has_a_chart_over_its_own_rows(demo, book):
+    path = demo[1]
+    ws = book["Bins"]
+    table = _table(ws)
+    header = _header(ws)
+    letter = {name: chr(ord("A") + i) for i, name in enumerate(header)}
+    found = _chart_formulas(path, "Bins")
+    names = list(dict.fromkeys(table["Characteristic"]))
+    assert len(found) == len(names)
+    for refs in found:
+        parsed = [_rows_of(r) for r in refs]
+        columns = {c for c, _, _ in parsed}
+        assert columns == {letter["Attribute"], letter["Bad rate"], letter["Weight of evidence"]}
+        (_, first, last), = {(None, f, l) for _, f, l in parsed}
+        owners = {ws.cell(r, 1).value for r in range(first, last + 1)}
+        assert len(owners) == 1
+        owner = owners.pop()
+        assert last - first + 1 == (table["Characteristic"] == owner).sum()
+        names.remove(owner)
+    assert names == []
+
+
+def test_score_band_and_stability_charts_read_their_tables(demo, book):
+    path = demo[1]
+    score_charts = _chart_formulas(path, "Score bands")
+    assert len(score_charts) == 2
+    ws = book["Score bands"]
+    title = next(r for r in range(1, ws.max_row + 1) for c in range(1, 20)
+                 if str(ws.cell(r, c).value).startswith("Score distribution of the"))
+    n_groups = len(frames.distribution_frame(demo[0].histograms[demo[0].gains_sample]))
+    for refs in score_charts:
+        for ref in refs:
+            _, first, last = _rows_of(ref)
+            assert (first, last) == (title + 2, title + 1 + n_groups)
+    stability = _chart_formulas(path, "Stability")
+    assert len(stability) == len(build_stability(demo[0]))
+    ws = book["Stability"]
+    for refs in stability:
+        col, first, last = _rows_of(refs[0])
+        assert ws[f"{col}{first - 1}"].value == "Band"
+        assert last - first + 1 == len(demo[0].band_starts)
+
+
+# --- the calculator, recalculated by LibreOffice ----------------------------------------------
+
+def _row_value(char, b):
+    """A raw value that falls in bin ``b`` of ``char``."""
+    if b.kind == RANGE:
+        return b.lower if b.lower is not None else float(np.nextafter(b.upper, -np.inf))
+    if b.kind == SPECIAL:
+        return b.value
+    if b.kind == LEVELS:
+        return b.levels[0]
+    if b.kind == UNSEEN:
+        return "a level never seen in development"
+    if b.kind == OUT_OF_RANGE:
+        return char.development_range[1] + 1.0
+    assert b.kind == MISSING
+    return np.nan if char.kind == "numeric" else None
+
+
+def _product_score(card, chosen: dict) -> int:
+    """The product's own score of one row built to fall in the chosen bins."""
+    row = {c.name: [_row_value(c, c.bins[chosen[c.name]])] for c in card.characteristics}
+    frame = pd.DataFrame({k: pd.Series(v, dtype=float if isinstance(v[0], float) else object)
+                          for k, v in row.items()})
+    return int(apply_scorecard(card, frame).score[0])
+
+
+def _recalculate(paths, workdir: Path) -> list[Path]:
+    out = workdir / "recalculated"
+    profile = (workdir / "profile").as_uri()
+    subprocess.run(["soffice", f"-env:UserInstallation={profile}", "--headless", "--convert-to",
+                    "xlsx", "--outdir", str(out), *map(str, paths)],
+                   check=True, capture_output=True, timeout=240)
+    return [out / p.name for p in paths]
+
+
+def _choose(path, target, labels: list[str]) -> Path:
+    wb = load_workbook(path)
+    ws = wb["Calculator"]
+    for row, label in enumerate(labels, start=2):
+        ws.cell(row, 2, safe_value(label))
+    wb.save(target)
+    return target
+
+
+@pytest.mark.skipif(shutil.which("soffice") is None, reason="LibreOffice (soffice) is not installed")
+def test_libreoffice_recalculates_the_calculator_to_the_products_scores(demo, tmp_path):
+    # A real spreadsheet program is the reference: LibreOffice evaluates every formula.
+    result, path, _ = demo
+    card = result.card
+    labels = [frames.attribute_labels(c) for c in card.characteristics]
+    default = {c.name: max(range(len(c.bins)), key=lambda i: (c.bins[i].count, -i))
+               for c in card.characteristics}
+    worst = {c.name: min(range(len(c.bins)), key=lambda i: (c.bins[i].points, i))
+             for c in card.characteristics}
+    worst_file = _choose(path, tmp_path / "worst.xlsx",
+                         [lab[worst[c.name]] for c, lab in zip(card.characteristics, labels)])
+    wrong = [lab[0] for lab in labels]
+    wrong[0] = "not an attribute"
+    wrong_file = _choose(path, tmp_path / "wrong.xlsx", wrong)
+    original = tmp_path / "default.xlsx"
+    shutil.copy(path, original)
+    done = _recalculate([original, worst_file, wrong_file], tmp_path)
+
+    k = len(card.characteristics)
+    for file, chosen in zip(done[:2], (default, worst)):
+        ws = load_workbook(file, data_only=True)["Calculator"]
+        for j, c in enumerate(card.characteristics, start=2):
+            assert ws.cell(j, 1).value == c.name
+            assert ws.cell(j, 3).value == c.bins[chosen[c.name]].points
+            assert ws.cell(j, 4).value == "ok"
+        total = ws.cell(k + 3, 3).value
+        assert total == _product_score(card, chosen)
+        s = card.scaling
+        assert ws.cell(k + 4, 3).value == pytest.approx(math.exp((total - s.offset) / s.factor), rel=1e-12)
+        assert ws.cell(k + 5, 3).value == pytest.approx(
+            float(scorecard.scoring.bad_probability(card, total)), rel=1e-12)
+    assert _product_score(card, worst) == card.min_score
+    ws = load_workbook(done[2], data_only=True)["Calculator"]
+    assert ws.cell(2, 4).value == "choose one of its attributes"
+    assert ws.cell(2, 3).value == "#N/A" and ws.cell(k + 3, 3).value == "#N/A"
+
+
+def test_calculator_lists_come_from_named_ranges_on_the_points_sheet(book):
+    ws = book["Calculator"]
+    rules = ws.data_validations.dataValidation
+    assert len(rules) == len(_table(book["Points"])["Characteristic"].unique())
+    points = book["Points"]
+    for rule in rules:
+        assert rule.type == "list" and not rule.allow_blank
+        name = rule.formula1.lstrip("=")
+        assert re.fullmatch(r"[A-Za-z_][A-Za-z0-9_]*", name)
+        (sheet, cells), = book.defined_names[name].destinations
+        assert sheet == "Points"
+        first, last = (int(x) for x in re.findall(r"\d+", cells))
+        row = int(str(rule.sqref).lstrip("B"))
+        owner = {points.cell(r, 1).value for r in range(first, last + 1)}
+        assert owner == {ws.cell(row, 1).value}
+
+
+# --- safety -----------------------------------------------------------------------------------
+
+def _tiny_config(folder: Path) -> Path:
+    """A small build whose categorical levels and title look like formulas."""
+    rng = np.random.default_rng(11)
+    n = 3000
+    levels = np.array(INJECTIONS + ("plain",))
+    channel = rng.integers(0, len(levels), n)
+    x = rng.normal(size=n)
+    logit = -2.0 + 0.8 * channel - 0.9 * x
+    bad = rng.random(n) < 1 / (1 + np.exp(-logit))
+    pd.DataFrame({"channel": levels[channel], "x value (=1)": x,
+                  "outcome": np.where(bad, "bad", "good")}).to_csv(folder / "tiny.csv", index=False)
+    config = folder / "tiny.yaml"
+    config.write_text(
+        "name: \"=SUM(1,2)\"\n"
+        "data: {source: tiny.csv, target: outcome, bad: [bad], good: [good]}\n"
+        "samples: {holdout: 0.3, seed: 7}\n"
+        "selection: {min_iv: 0.0, entry_p_value: 0.5}\n"
+        "output: {workbook: out/tiny.xlsx, model: out/tiny.json}\n", encoding="utf-8")
+    return config
+
+
+def _cells(path) -> list[tuple[str, str, ElementTree.Element]]:
+    """(sheet part, cell type, cell element) of every cell in the file."""
+    out = []
+    with zipfile.ZipFile(path) as z:
+        for name in z.namelist():
+            if name.startswith("xl/worksheets/sheet"):
+                for c in ElementTree.fromstring(z.read(name)).iter(f"{MAIN}c"):
+                    out.append((name, c.get("t"), c))
+    return out
+
+
+def _text(cell) -> str:
+    return "".join(t.text or "" for t in cell.iter(f"{MAIN}t"))
+
+
+def test_labels_that_look_like_formulas_stay_text(tmp_path):
+    result = scorecard.run.build(_tiny_config(tmp_path))
+    path = result.outputs["workbook"]
+    assert "channel" in result.card.names
+    found = set()
+    for part, kind, cell in _cells(path):
+        text = _text(cell)
+        if any(s in text for s in INJECTIONS) or text == "=SUM(1,2)":
+            assert kind in ("s", "inlineStr"), (part, text)
+            assert cell.find(f"{MAIN}f") is None, (part, text)
+            found.add(text)
+    assert set(INJECTIONS) <= found and "=SUM(1,2)" in found
+    # Formulas exist only where the product writes them: none carries a data label.
+    formulas = [c.find(f"{MAIN}f").text for _, _, c in _cells(path) if c.find(f"{MAIN}f") is not None]
+    assert formulas and not any("HYPERLINK" in f or "SUM(A1)" in f for f in formulas)
+    points = CalamineWorkbook.from_path(str(path)).get_sheet_by_name("Points").to_python()
+    assert set(INJECTIONS) <= {r[1] for r in points}
+    book = load_workbook(path)
+    assert all(re.fullmatch(r"[A-Za-z_][A-Za-z0-9_]*", n) for n in book.defined_names)
+
+
+@settings(max_examples=150, deadline=None)
+@given(st.text(max_size=40))
+def test_any_text_is_written_as_a_string_cell(text):
+    ws = Workbook().active
+    cell = ws.cell(1, 1, safe_value(text))
+    cleaned = re.sub(r"[\x00-\x08\x0b\x0c\x0e-\x1f]", "", text)
+    if cleaned == "":
+        assert cell.value in ("", None) or str(cell.value) == ""
+    else:
+        assert cell.data_type == "s"
+        assert str(cell.value) == cleaned
+
+
+@settings(max_examples=100, deadline=None)
+@given(st.one_of(st.floats(allow_nan=True, allow_infinity=True), st.integers(-2**62, 2**62),
+                 st.booleans(), st.none()))
+def test_numbers_stay_numbers_and_non_finite_values_become_empty(value):
+    out = safe_value(np.float64(value) if isinstance(value, float) else value)
+    if isinstance(value, float) and not math.isfinite(value):
+        assert out is None
+    else:
+        assert out == value and type(out) is type(value)
+
+
+def test_defined_names_are_safe_and_unique_whatever_the_text():
+    taken = set()
+    names = [defined_name("attributes", t, taken) for t in ("A1", "a1", "=x!", "ä b", "A1")]
+    assert all(re.fullmatch(r"attributes_[A-Za-z0-9_]+", n) for n in names)
+    assert len({n.lower() for n in names}) == len(names)
+
+
+def test_write_table_returns_its_rows_and_keeps_formats():
+    ws = Workbook().active
+    frame = pd.DataFrame({"Attribute": ["=1+1", "b"], "Bad rate": [0.25, np.nan]})
+    assert write_table(ws, frame, start_row=3, title="T", formats={"Bad rate": "0.0%"}) == (4, 6)
+    assert ws["A3"].value == "T" and ws["A4"].value == "Attribute"
+    assert ws["A5"].data_type == "s" and str(ws["A5"].value) == "=1+1"
+    assert ws["B5"].number_format == "0.0%" and ws["B6"].value is None
+    with pytest.raises(ValueError, match="Bad rates"):
+        write_table(ws, frame, formats={"Bad rates": "0%"})
+
+
+# --- tables as data ---------------------------------------------------------------------------
+
+def test_attribute_labels_are_unique_within_a_characteristic():
+    from scorecard.model import Bin, Characteristic
+    bins = (Bin("missing", LEVELS, 1, 1, 0, 1, levels=("missing",)),
+            Bin("missing", MISSING, 1, 1, 0, 2), Bin("a", LEVELS, 1, 1, 0, 3, levels=("a",)))
+    labels = frames.attribute_labels(Characteristic("x", "categorical", bins, 1.0, "R01", "x"))
+    assert len(set(labels)) == 3 and labels[2] == "a"
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.integers(0, 400), st.lists(st.integers(0, 50), min_size=1, max_size=300),
+       st.integers(1, 60))
+def test_distribution_table_keeps_every_row_and_ends_at_one(low, goods, max_rows):
+    from scorecard.evaluate import ScoreHistogram
+    g = np.array(goods, dtype=float)
+    b = g[::-1].copy() + 1
+    table = frames.distribution_frame(ScoreHistogram(low, g, b), max_rows=max_rows)
+    assert table["Goods"].sum() == pytest.approx(g.sum())
+    assert table["Bads"].sum() == pytest.approx(b.sum())
+    assert table["Score from"].iloc[0] == low and table["Score to"].iloc[-1] == low + len(g) - 1
+    assert np.all(table["Score from"].to_numpy()[1:] == table["Score to"].to_numpy()[:-1] + 1)
+    assert table["Cumulative share of bads"].iloc[-1] == pytest.approx(1)
+    if g.sum() > 0:
+        assert table["Cumulative share of goods"].iloc[-1] == pytest.approx(1)
+
+
+# --- whole or nothing, and the same every time -------------------------------------------------
+
+def test_a_failed_write_leaves_the_previous_workbook_whole(demo, tmp_path, monkeypatch):
+    target = tmp_path / "book.xlsx"
+    target.write_bytes(b"previous")
+
+    def broken_save(self, filename):
+        Path(filename).write_bytes(b"half")
+        raise OSError("disk full")
+
+    monkeypatch.setattr(Workbook, "save", broken_save)
+    with pytest.raises(OSError):
+        write_workbook(demo[0], target)
+    assert target.read_bytes() == b"previous"
+    assert [p.name for p in tmp_path.iterdir()] == ["book.xlsx"]
+
+
+def test_rebuilding_gives_the_same_cells_except_the_run_time(demo, tmp_path):
+    result, first, folder = demo
+    again = scorecard.run.build(result.config.config_file, workbook=tmp_path / "again.xlsx",
+                                model=tmp_path / "again.json")
+    one, two = load_workbook(first), load_workbook(again.outputs["workbook"])
+    assert one.sheetnames == two.sheetnames
+    differing = []
+    for ws in one:
+        other = two[ws.title]
+        assert ws.max_row == other.max_row and ws.max_column == other.max_column, ws.title
+        for row_a, row_b in zip(ws.iter_rows(), other.iter_rows()):
+            for a, b in zip(row_a, row_b):
+                if a.value != b.value:
+                    differing.append((ws.title, a.coordinate))
+    run_time_row = next(r for r in range(1, one["Overview"].max_row + 1)
+                        if one["Overview"].cell(r, 1).value == RUN_TIME_LABEL)
+    assert set(differing) <= {("Overview", f"B{run_time_row}")}
