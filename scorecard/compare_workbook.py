@@ -147,7 +147,9 @@ def _ranking_sentence(comparison: Comparison) -> str:
             d = cur.discrimination
             return (f"Ranking not assessed against the baseline (it has no outcome); current "
                     f"AUC {d.auc:.4f}, Gini {d.gini:.4f}, KS {d.ks:.4f}.")
-        return "Ranking not assessed: the current file has no goods and bads to rank."
+        if cur is None:
+            return "Ranking not assessed: the current file has no outcome column."
+        return "Ranking not assessed: the current file lacks goods or bads to rank."
     base, cur = perf[BASELINE].discrimination, perf[CURRENT].discrimination
     verdict = "held" if comparison.ranking_held else "weakened beyond chance"
     return (f"Ranking {verdict}: Gini {cur.gini:.4f} now against {base.gini:.4f} in the "
@@ -156,11 +158,14 @@ def _ranking_sentence(comparison: Comparison) -> str:
 
 def _calibration_sentence(comparison: Comparison) -> str:
     if comparison.calibration_held is None:
-        return "Calibration not assessed: the current file has no outcome in three or more bands."
+        if CURRENT not in comparison.performance:
+            return "Calibration not assessed: the current file has no outcome column."
+        return "Calibration not assessed: fewer than three score bands hold rows with an outcome."
     fit = comparison.performance[CURRENT].hosmer_lemeshow
     verdict = "held" if comparison.calibration_held else "did not hold"
+    degrees = "degree" if fit.dof == 1 else "degrees"
     return (f"Calibration {verdict}: Hosmer-Lemeshow statistic {fit.statistic:.2f} on {fit.dof} "
-            f"degrees of freedom, p-value {fit.p_value:.4f} in the current file.")
+            f"{degrees} of freedom, p-value {fit.p_value:.4f} in the current file.")
 
 
 def _turned_sentences(comparison: Comparison) -> list[str]:
