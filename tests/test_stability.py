@@ -1,4 +1,4 @@
-"""Stability indices on counts: hand-worked values, the critical value, invariants, the build's tables."""
+"""Stability indices on counts: hand-worked values, critical value, invariants, build tables."""
 
 from __future__ import annotations
 
