@@ -52,42 +52,66 @@ def categorical_codes(series: pd.Series, levels) -> np.ndarray:
     return np.where(codes < 0, -1, lookup[codes] if len(lookup) else -2)
 
 
+def _bin_or_refuse(char: Characteristic, kind: str, what: str) -> int:
+    """Index of the bin of ``kind``; InputError when a hand-edited model lacks it."""
+    index = char.bin_index(kind)
+    if index is None:
+        raise InputError(f"column {char.name}: {what}, and the scorecard has no {kind} bin "
+                         "to put it in")
+    return index
+
+
 def bin_codes(char: Characteristic, series: pd.Series) -> tuple[np.ndarray, UnusualValues]:
-    """Bin index of every row for one characteristic, and counts of unseen values."""
-    missing_bin = char.bin_index(MISSING)
-    empty_missing = char.bins[missing_bin].count == 0
+    """Bin index of every row for one characteristic, and counts of unseen values.
+
+    Numeric: a special value goes to its own bin, a missing value to the missing bin, a value
+    beyond the development range to the out-of-range bin when the scorecard has one (else to
+    the end range bin), any other value to the range bin ``lower <= x < upper``. Categorical:
+    a level goes to the bin of its group, matched by level text; a missing value to the missing
+    bin and a level not seen in development to the unseen bin.
+    """
+    empty_missing = (char.bin_index(MISSING) is not None
+                     and char.bins[char.bin_index(MISSING)].count == 0)
     if char.kind == "numeric":
-        x = numeric_values(series, char.name)
-        codes = np.searchsorted(np.asarray(char.cuts, dtype=float), x, side="right")
-        missing = np.isnan(x)
-        codes[missing] = missing_bin
-        outside = 0
+        return _numeric_codes(char, series, empty_missing)
+    return _categorical_bin_codes(char, series, empty_missing)
+
+
+def _numeric_codes(char: Characteristic, series: pd.Series, empty_missing: bool):
+    x = numeric_values(series, char.name)
+    codes = np.searchsorted(np.asarray(char.cuts, dtype=float), x, side="right")
+    missing = np.isnan(x)
+    if missing.any():
+        codes[missing] = _bin_or_refuse(char, MISSING, "a value is missing")
+    beyond = np.zeros(len(x), dtype=bool)
+    if char.development_range is not None:
+        low, high = char.development_range
+        beyond = ~missing & ((x < low) | (x > high))
         oor = char.bin_index(OUT_OF_RANGE)
-        if char.development_range is not None:
-            low, high = char.development_range
-            beyond = ~missing & ((x < low) | (x > high))
-            outside_mask = beyond
-            if oor is not None:
-                codes[beyond] = oor
-        else:
-            outside_mask = np.zeros(len(x), dtype=bool)
-        for i, b in enumerate(char.bins):
-            if b.kind == SPECIAL:
-                hit = x == b.value
-                codes[hit] = i
-                outside_mask &= ~hit
-        outside = int(outside_mask.sum())
-        unusual = UnusualValues(0, int(missing.sum()) if empty_missing else 0, outside)
-        return codes.astype(np.int16), unusual
+        if oor is not None:
+            codes[beyond] = oor
+    for i, b in enumerate(char.bins):
+        if b.kind == SPECIAL:
+            hit = x == b.value
+            codes[hit] = i
+            beyond &= ~hit
+    unusual = UnusualValues(0, int(missing.sum()) if empty_missing else 0, int(beyond.sum()))
+    return codes.astype(np.int16), unusual
+
+
+def _categorical_bin_codes(char: Characteristic, series: pd.Series, empty_missing: bool):
     level_bin = {lv: i for i, b in enumerate(char.bins) for lv in b.levels}
     levels = list(level_bin)
     idx = categorical_codes(series, levels)
-    to_bin = np.array([level_bin[lv] for lv in levels] + [char.bin_index(UNSEEN), missing_bin],
+    unseen, missing = idx == -2, idx == -1
+    unseen_bin = _bin_or_refuse(char, UNSEEN, "a level was not seen in development") \
+        if unseen.any() else 0
+    missing_bin = _bin_or_refuse(char, MISSING, "a value is missing") if missing.any() else 0
+    to_bin = np.array([level_bin[lv] for lv in levels] + [unseen_bin, missing_bin],
                       dtype=np.int16)
     # -2 (unseen level) maps to the unseen bin, -1 (missing) to the missing bin.
-    codes = to_bin[np.where(idx < 0, len(levels) + (idx == -1), idx)]
-    unusual = UnusualValues(int((idx == -2).sum()),
-                            int((idx == -1).sum()) if empty_missing else 0, 0)
+    codes = to_bin[np.where(idx < 0, len(levels) + missing, idx)]
+    unusual = UnusualValues(int(unseen.sum()), int(missing.sum()) if empty_missing else 0, 0)
     return codes, unusual
 
 
@@ -99,6 +123,7 @@ class Scores(NamedTuple):
     codes: np.ndarray            # (rows, characteristics) bin indices
     rejected: np.ndarray         # bool: a row fell in a bin the scorecard refuses
     unusual: dict                # name -> UnusualValues
+    refused: np.ndarray          # (rows, characteristics) bool: this characteristic refused the row
 
 
 def points_tables(card: Scorecard) -> list[np.ndarray]:
@@ -125,15 +150,15 @@ def apply_scorecard(card: Scorecard, frame: pd.DataFrame) -> Scores:
     n, k = len(frame), len(card.characteristics)
     codes = np.empty((n, k), dtype=np.int16)
     points = np.empty((n, k), dtype=np.int64)
-    rejected = np.zeros(n, dtype=bool)
+    refused = np.zeros((n, k), dtype=bool)
     unusual = {}
     for j, (char, table) in enumerate(zip(card.characteristics, points_tables(card))):
         codes[:, j], unusual[char.name] = bin_codes(char, frame[char.name])
         points[:, j] = table[codes[:, j]]
-        refused = np.array([b.rejected for b in char.bins])
-        if refused.any():
-            rejected |= refused[codes[:, j]]
-    return Scores(points.sum(axis=1), points, codes, rejected, unusual)
+        refusing = np.array([b.rejected for b in char.bins])
+        if refusing.any():
+            refused[:, j] = refusing[codes[:, j]]
+    return Scores(points.sum(axis=1), points, codes, refused.any(axis=1), unusual, refused)
 
 
 def bad_probability(card: Scorecard, score) -> np.ndarray:
@@ -141,19 +166,109 @@ def bad_probability(card: Scorecard, score) -> np.ndarray:
     return bad_probability_of_score(score, card.scaling)
 
 
-def reasons(card: Scorecard, points: np.ndarray, n: int = 4) -> np.ndarray:
-    """Reason codes per row: the characteristics that lost most points against their maximum.
+REFUSED_PREFIX = "REJECTED:"
 
-    A characteristic where the row scored its maximum is never a reason. Ties in the shortfall
-    are broken by the characteristic's order in the scorecard (earlier first). Returns an
-    object array (rows, n) of reason codes, with ``""`` where fewer than n reasons apply.
+
+class ReasonCodes(NamedTuple):
+    """Reasons of a batch of rows, as indices into a short list of labels.
+
+    ``labels`` holds the distinct reason codes (or texts) in order of first appearance in the
+    scorecard, then one ``REJECTED:<name>`` label per characteristic; ``index`` is (rows, n)
+    int32 with -1 where fewer than n reasons apply. Labels stay few whatever the row count, so
+    writers can store the reasons dictionary-encoded without touching a string per row.
     """
-    maxima = np.array([c.max_points for c in card.characteristics], dtype=np.int64)
-    shortfall = maxima - points
-    order = np.argsort(-shortfall, axis=1, kind="stable")[:, :n]
+
+    labels: tuple[str, ...]
+    index: np.ndarray
+
+    def as_text(self) -> np.ndarray:
+        """The reasons as an object array (rows, n), ``""`` where none applies."""
+        table = np.array(self.labels + ("",), dtype=object)
+        return table[self.index]
+
+
+def reason_groups(card: Scorecard, text: bool = False) -> tuple[tuple[str, ...], np.ndarray]:
+    """Distinct reason codes in order of first appearance, and each characteristic's group.
+
+    Characteristics that share a reason code form one group. With ``text=True`` a group is
+    labelled by the reason texts of its characteristics (distinct ones joined by ``"; "``).
+    """
+    codes = [c.reason_code for c in card.characteristics]
+    distinct = list(dict.fromkeys(codes))
+    group = np.array([distinct.index(code) for code in codes], dtype=np.intp)
+    if not text:
+        return tuple(distinct), group
+    texts = [list(dict.fromkeys(c.reason for c, g in zip(card.characteristics, group) if g == i))
+             for i in range(len(distinct))]
+    return tuple("; ".join(t) for t in texts), group
+
+
+def reason_codes(card: Scorecard, points: np.ndarray, n: int = 4,
+                 refused: np.ndarray | None = None, text: bool = False) -> ReasonCodes:
+    """Up to ``n`` reasons per row: the reason codes that lost most points against the maximum.
+
+    A characteristic's shortfall is its maximum attainable points (over the bins that held
+    development rows) minus the row's points. Characteristics sharing a reason code pool their
+    shortfalls, so a code is given at most once. Codes are ranked by shortfall, largest first;
+    ties go to the code that appears first in the scorecard. A code whose shortfall is not
+    positive is never a reason, so a row at the maximum of every characteristic has none.
+    A row that a characteristic refused gets ``REJECTED:<name>`` for each refusing
+    characteristic instead, in scorecard order.
+
+    Parameters
+    ----------
+    card : Scorecard
+    points : ndarray (rows, characteristics)
+        Points of every row, as in :attr:`Scores.points`.
+    n : int
+        Reasons per row, at least 0.
+    refused : ndarray (rows, characteristics) of bool, optional
+        As in :attr:`Scores.refused`.
+    text : bool
+        Label reasons by their reason text instead of their code.
+
+    Examples
+    --------
+    >>> from scorecard.model import Bin, Characteristic, Scorecard, RANGE
+    >>> from scorecard.points import scaling
+    >>> def char(name, code):
+    ...     bins = (Bin("< 1", RANGE, 5, 5, 0.0, 10, upper=1.0), Bin(">= 1", RANGE, 5, 5, 0.0, 30, lower=1.0))
+    ...     return Characteristic(name, "numeric", bins, 1.0, code, name + " is low", cuts=(1.0,))
+    >>> card = Scorecard("demo", scaling(600, 50, 20), 0.0, (char("a", "RA"), char("b", "RB")))
+    >>> reason_codes(card, np.array([[10, 10], [30, 10], [30, 30]]), 2).as_text().tolist()
+    [['RA', 'RB'], ['RB', ''], ['', '']]
+    """
+    if n < 0:
+        raise ValueError("n must be at least 0")
+    labels, group = reason_groups(card, text)
+    chars = card.characteristics
+    rows, m = len(points), len(labels)
+    maxima = np.array([c.max_points for c in chars], dtype=np.int64)
+    shortfall = maxima - np.asarray(points, dtype=np.int64)
+    if m < len(chars):
+        member = np.zeros((len(chars), m), dtype=np.int64)
+        member[np.arange(len(chars)), group] = 1
+        shortfall = shortfall @ member
+    # One key per code: shortfall first, then earlier codes above later ones, so the keys of a
+    # row are distinct and any sort gives the stated order.
+    key = shortfall * m + (m - 1 - np.arange(m))
+    order = np.argsort(-key, axis=1)[:, :n]
     lost = np.take_along_axis(shortfall, order, axis=1) > 0
-    codes = np.array([c.reason_code for c in card.characteristics], dtype=object)
-    out = np.where(lost, codes[order], "")
-    if out.shape[1] < n:
-        out = np.hstack([out, np.full((len(points), n - out.shape[1]), "", dtype=object)])
-    return out
+    index = np.full((rows, n), -1, dtype=np.int32)
+    index[:, :order.shape[1]] = np.where(lost, order, -1)
+    if refused is not None and refused.any():
+        hit = np.flatnonzero(refused.any(axis=1))
+        mask = refused[hit]
+        first = np.argsort(~mask, axis=1, kind="stable")[:, :n]
+        named = np.take_along_axis(mask, first, axis=1)
+        index[hit] = -1
+        index[hit, :first.shape[1]] = np.where(named, m + first, -1)
+    return ReasonCodes(labels + tuple(REFUSED_PREFIX + c.name for c in chars), index)
+
+
+def reasons(card: Scorecard, points: np.ndarray, n: int = 4) -> np.ndarray:
+    """Reason codes per row as an object array (rows, n), ``""`` where fewer than n apply.
+
+    The ranking is that of :func:`reason_codes`.
+    """
+    return reason_codes(card, points, n).as_text()
