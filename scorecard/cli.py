@@ -109,3 +109,5 @@ if __name__ == "__main__":
     sys.exit(main())
 from .compare import compare_command  # noqa: E402
 main.add_command(compare_command)
+from .export import export_command  # noqa: E402
+main.add_command(export_command)

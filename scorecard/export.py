@@ -1,0 +1,35 @@
+"""``scorecard export``: a model file as a PMML document or a SQL scoring query."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from .model import load_scorecard
+
+
+@click.command("export")
+@click.argument("model", type=click.Path(dir_okay=False, path_type=Path))
+@click.option("--format", "form", required=True, type=click.Choice(["pmml", "sql"]),
+              help="pmml: a PMML 4.4 Scorecard document; sql: one standard SQL query.")
+@click.option("--out", required=True, type=click.Path(dir_okay=False, path_type=Path),
+              help="File to write.")
+@click.option("--table", default="applications", show_default=True,
+              help="sql: the table of applications to score.")
+@click.option("--keep", multiple=True,
+              help="sql: a column of the table to copy to the result, e.g. its key (repeatable).")
+@click.option("--reasons", type=click.IntRange(min=0), default=4, show_default=True,
+              help="Reason codes per row.")
+def export_command(model, form, out, table, keep, reasons):
+    """Write the scorecard MODEL in a deployable form: PMML or SQL."""
+    card = load_scorecard(model)
+    if form == "pmml":
+        if keep:
+            raise click.UsageError("--keep applies to --format sql only")
+        from .export_pmml import write_pmml
+        write_pmml(card, out, reasons)
+    else:
+        from .export_sql import write_sql
+        write_sql(card, out, table, keep, reasons)
+    click.echo(f"wrote {out}")
