@@ -414,7 +414,8 @@ def _ridge_fallback(X1, s, f) -> tuple[np.ndarray, np.ndarray, int]:
 
 def _log_likelihood(eta, s, f) -> float:
     # s log p + f log(1 - p) = s eta - (s + f) log(1 + e^eta): one transcendental pass, not two.
-    return float(s @ eta - (s + f) @ np.logaddexp(0.0, eta))
+    # numpy's own sum, not a BLAS dot: threaded BLAS on a 1-d dot stalls on a busy machine.
+    return float((s * eta - (s + f) * np.logaddexp(0.0, eta)).sum())
 
 
 def _newton(X1, s, f, start, penalty, tolerance=_STEP_TOLERANCE) -> _Optimum:
