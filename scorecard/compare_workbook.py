@@ -78,8 +78,8 @@ def _write_summary(ws: Worksheet, comparison: Comparison) -> None:
     ws.merge_cells(start_row=2, start_column=1, end_row=2, end_column=_CAUTION_COLUMNS)
     ws.row_dimensions[2].height = 60
     row = _lines(ws, 4, "What was compared", _files(comparison), None)
-    row = _lines(ws, row + 1, "Findings", findings(comparison), style.BOLD)
-    _, row = write_table(ws, index_table(comparison), start_row=row + 1,
+    row = _lines(ws, row + 1, "Findings", _findings(comparison), style.BOLD)
+    _, row = write_table(ws, _index_table(comparison), start_row=row + 1,
                          title="Stability indices (current against baseline)",
                          formats={"Stability index": INDEX, "Critical value (95%)": INDEX,
                                   "Points shift": "+0.00;-0.00;0.00"})
@@ -112,7 +112,7 @@ def _index_phrase(result) -> str:
             f"{result.critical_value:.4f})")
 
 
-def findings(comparison: Comparison) -> list[str]:
+def _findings(comparison: Comparison) -> list[str]:
     """The Summary's findings, one sentence each.
 
     Parameters
@@ -195,7 +195,7 @@ def _unusual_sentences(comparison: Comparison) -> list[str]:
     return out
 
 
-def index_table(comparison: Comparison) -> pd.DataFrame:
+def _index_table(comparison: Comparison) -> pd.DataFrame:
     """Every index of the comparison, the score's first."""
     score = comparison.stability.score
     labelled = [("the score", score)] + [(r.name, r) for r in comparison.stability.characteristics]
@@ -240,7 +240,7 @@ def _write_score_sheet(ws: Worksheet, comparison: Comparison) -> None:
                                table.attrs.get("note", "")])
 
 
-def characteristic_table(comparison: Comparison) -> pd.DataFrame:
+def _characteristic_table(comparison: Comparison) -> pd.DataFrame:
     """Every characteristic's attributes with their shares and contributions, one table."""
     parts = []
     for r in comparison.stability.characteristics:
@@ -251,7 +251,7 @@ def characteristic_table(comparison: Comparison) -> pd.DataFrame:
 
 
 def _write_characteristic_sheet(ws: Worksheet, comparison: Comparison) -> None:
-    table = characteristic_table(comparison)
+    table = _characteristic_table(comparison)
     header, last = write_table(ws, table, formats=_SHARE_FORMATS)
     finish_table_sheet(ws, header, last, len(table.columns))
     notes = [f"{r.name}: {r.table.attrs.get('note', '')}"
@@ -262,7 +262,7 @@ def _write_characteristic_sheet(ws: Worksheet, comparison: Comparison) -> None:
                 formats={k: style.COUNT for k in comparison.unusual.columns[2:]})
 
 
-def performance_table(comparison: Comparison) -> pd.DataFrame:
+def _performance_table(comparison: Comparison) -> pd.DataFrame:
     """Ranking and calibration of each file that holds the outcome."""
     records = []
     for p in comparison.performance.values():
@@ -283,7 +283,7 @@ def _write_performance_sheet(ws: Worksheet, comparison: Comparison) -> None:
         ws.cell(1, 1, "Neither file holds the outcome column, so ranking and calibration are "
                       "not assessed.").font = style.BOLD
         return
-    table = performance_table(comparison)
+    table = _performance_table(comparison)
     header, last = write_table(ws, table, formats={
         "Goods": style.COUNT, "Bads": style.COUNT, "Other outcome": style.COUNT,
         "AUC": style.MEASURE, "AUC standard error": INDEX, "Gini": style.MEASURE,

@@ -243,7 +243,15 @@ def band_labels(starts, highest: int) -> list[str]:
 
 
 def band_counts(hist, starts) -> np.ndarray:
-    """Weight of a score histogram in each band starting at ``starts``."""
+    """Weight of a score histogram in each band starting at ``starts``.
+
+    Examples
+    --------
+    >>> from scorecard.evaluate import ScoreHistogram
+    >>> hist = ScoreHistogram(300, np.array([1.0, 2, 3]), np.array([0.0, 1, 0]))
+    >>> band_counts(hist, [300, 301]).tolist()
+    [1.0, 6.0]
+    """
     index = np.searchsorted(np.asarray(starts), hist.scores, side="right") - 1
     return np.bincount(index, weights=hist.goods + hist.bads, minlength=len(starts))
 
