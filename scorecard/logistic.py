@@ -252,8 +252,8 @@ def score_test(X_in, X_candidates, successes, failures, coefficients):
     >>> np.round(statistics, 4)
     array([2.])
     """
-    X_in = _matrix(X_in, "X_in")
-    Z = _matrix(X_candidates, "X_candidates")
+    X_in = as_design(X_in, "X_in")
+    Z = as_design(X_candidates, "X_candidates")
     if Z.shape[0] != X_in.shape[0]:
         raise InputError(f"X_candidates: expected {X_in.shape[0]} rows like X_in, got {Z.shape[0]}")
     # Preparing both together drops the same zero-weight rows from each.
@@ -323,7 +323,8 @@ def log_likelihood(X, successes, failures, coefficients) -> float:
     return _log_likelihood(X1 @ coefficients, s, f)
 
 
-def _matrix(X, label: str) -> np.ndarray:
+def as_design(X, label: str) -> np.ndarray:
+    """``X`` as a finite 2-d float array; InputError naming the first bad cell."""
     X = np.asarray(X, dtype=float)
     if X.ndim != 2:
         raise InputError(f"{label}: expected a 2-D array (rows, columns), got {X.ndim} dimensions")
@@ -334,7 +335,8 @@ def _matrix(X, label: str) -> np.ndarray:
     return X
 
 
-def _weights(values, label: str, n: int) -> np.ndarray:
+def as_weights(values, label: str, n: int) -> np.ndarray:
+    """``values`` as n finite non-negative floats; InputError naming the first bad row."""
     values = np.asarray(values, dtype=float)
     if values.shape != (n,):
         raise InputError(
@@ -349,9 +351,9 @@ def _weights(values, label: str, n: int) -> np.ndarray:
 
 def _prepare(X, successes, failures) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Validate, drop rows of zero weight and add the intercept column."""
-    X = _matrix(X, "X")
-    s = _weights(successes, "successes", X.shape[0])
-    f = _weights(failures, "failures", X.shape[0])
+    X = as_design(X, "X")
+    s = as_weights(successes, "successes", X.shape[0])
+    f = as_weights(failures, "failures", X.shape[0])
     if s.sum() <= 0:
         raise InputError("successes: all zero; a logistic fit needs both successes and failures")
     if f.sum() <= 0:

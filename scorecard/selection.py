@@ -24,8 +24,8 @@ from typing import NamedTuple
 import numpy as np
 
 from .errors import InputError
-from .logistic import (SELECTION_TOLERANCE, LogisticFit, fit_logistic, newton_fit,
-                       score_statistics)
+from .logistic import (SELECTION_TOLERANCE, LogisticFit, as_design, as_weights, fit_logistic,
+                       newton_fit, score_statistics)
 
 METHODS = ("stepwise", "all")
 
@@ -105,7 +105,7 @@ def weighted_correlation(X, weights, *, names=None) -> np.ndarray:
     array([[1.    , 0.4264],
            [0.4264, 1.    ]])
     """
-    X = _matrix(X, "X")
+    X = as_design(X, "X")
     w = _weights(weights, "weights", X.shape[0])
     w = w / w.sum()
     centred = X - w @ X
@@ -224,7 +224,7 @@ def select_characteristics(
     >>> result.selected, result.fates["b"].stage
     (('a',), 'information value')
     """
-    X = _matrix(X, "X")
+    X = as_design(X, "X")
     n, k = X.shape
     _check_settings(min_iv, max_correlation, max_vif, method, entry_p_value, max_characteristics)
     names = _names(names, k)
@@ -515,27 +515,8 @@ def _inverse_diagonal(correlation: np.ndarray) -> np.ndarray:
     return diagonal
 
 
-def _matrix(X, label: str) -> np.ndarray:
-    X = np.asarray(X, dtype=float)
-    if X.ndim != 2:
-        raise InputError(f"{label}: expected a 2-D array (rows, columns), got {X.ndim} dimensions")
-    bad = ~np.isfinite(X)
-    if bad.any():
-        row, column = np.argwhere(bad)[0]
-        raise InputError(f"{label}: value at row {row}, column {column} is not finite")
-    return X
-
-
 def _weights(values, label: str, n: int) -> np.ndarray:
-    values = np.asarray(values, dtype=float)
-    if values.shape != (n,):
-        raise InputError(
-            f"{label}: expected shape ({n},) to match the rows of X, got {values.shape}"
-        )
-    bad = ~np.isfinite(values) | (values < 0)
-    if bad.any():
-        row = int(np.flatnonzero(bad)[0])
-        raise InputError(f"{label}: row {row} is {values[row]}, expected a finite value >= 0")
+    values = as_weights(values, label, n)
     if values.sum() <= 0:
         raise InputError(f"{label}: all zero")
     return values
