@@ -10,7 +10,9 @@ from pathlib import Path
 
 import click
 
+from .compare import compare_command
 from .errors import InputError
+from .export import export_command
 from .progress import StageLog
 
 
@@ -105,9 +107,8 @@ def score(model, data, out, keep, reasons):
     click.echo(summary.text())
 
 
+main.add_command(compare_command)
+main.add_command(export_command)
+
 if __name__ == "__main__":
     sys.exit(main())
-from .compare import compare_command  # noqa: E402
-main.add_command(compare_command)
-from .export import export_command  # noqa: E402
-main.add_command(export_command)
