@@ -131,13 +131,16 @@ _ENCODING_HINT = "give the file's encoding as data.encoding (for example latin-1
 
 
 def _check_text(path: Path, table: pa.Table, encoding: str) -> None:
-    # The CSV reader keeps text that does not decode as raw bytes (or, in the header, as U+FFFD)
-    # instead of failing; such a column would silently become levels like b'caf\xe9'.
-    for name in table.column_names:
-        if "\ufffd" in name:
-            raise InputError(f"{path}: the header is not valid {encoding} text; {_ENCODING_HINT}")
-    for name in table.column_names:
-        column = table.column(name)
+    # The CSV reader keeps text that does not decode as raw bytes instead of failing: in the
+    # header they fail only when the names are read, in a column they would silently become
+    # levels like b'caf\xe9'.
+    try:
+        names = table.column_names
+    except UnicodeDecodeError:
+        raise InputError(f"{path}: the header is not valid {encoding} text; "
+                         f"{_ENCODING_HINT}") from None
+    for index, name in enumerate(names):
+        column = table.column(index)
         kind = column.type.value_type if pa.types.is_dictionary(column.type) else column.type
         if pa.types.is_binary(kind) or pa.types.is_large_binary(kind):
             row = _first_undecodable_row(column)
