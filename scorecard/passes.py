@@ -1,22 +1,32 @@
 """The passes over the rows. Each takes one chunk of rows and returns small count tables.
 
 Counts from different chunks add up, so an engine may run a pass over one in-memory frame or
-over the partitions of a Dask dataframe and merge the results with :func:`merge`.
+over the partitions of a Dask dataframe and merge the results with the matching ``merge_*``
+function. Merging in chunk order keeps every result independent of how the rows were cut.
+
+Within a chunk the characteristics are coded on a few threads: the heavy numpy loops
+(``searchsorted``, comparisons, gathers) release the interpreter lock.
 """
 
 from __future__ import annotations
 
+import os
+from concurrent.futures import ThreadPoolExecutor
 from typing import NamedTuple
 
 import numpy as np
 import pandas as pd
 
-from .data import DEVELOPMENT, EXCLUDED, GOOD, BAD
+from .data import BAD, DEVELOPMENT, EXCLUDED
 from .fine import NumericLayout, numeric_codes, regular_range
-from .patterns import Patterns, distinct_patterns
+from .patterns import Patterns, distinct_patterns, merge_distinct
 from .scoring import bin_codes, categorical_codes, level_labels, numeric_values
 
 N_SAMPLES = 3  # development, holdout, out of time
+MAX_THREADS = 4
+# Rows per block when laying per-characteristic codes side by side: a block of the code matrix
+# then stays in cache while every column is written into it.
+_FILL_ROWS = 1 << 16
 
 
 class RowFacts(NamedTuple):
@@ -27,18 +37,33 @@ class RowFacts(NamedTuple):
     sample: np.ndarray
 
 
+def pass_threads() -> int:
+    """Threads a pass may use inside one chunk: the cores this process may run on, at most 4."""
+    try:
+        cores = len(os.sched_getaffinity(0))
+    except AttributeError:  # not every platform reports the affinity
+        cores = os.cpu_count() or 1
+    return max(1, min(MAX_THREADS, cores))
+
+
+def _each(fn, items: list) -> list:
+    if len(items) < 2 or pass_threads() == 1:
+        return [fn(item) for item in items]
+    with ThreadPoolExecutor(pass_threads()) as pool:
+        return list(pool.map(fn, items))
+
+
 def column_summary(frame: pd.DataFrame, kinds: dict, special_values: dict) -> dict:
     """Per column: (min, max) of regular numeric values, or the set of categorical levels."""
-    out = {}
-    for name, kind in kinds.items():
+    def one(item):
+        name, kind = item
         series = frame[name]
         if kind == "numeric":
-            out[name] = regular_range(numeric_values(series, name), special_values[name])
-        else:
-            cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
-            used = np.unique(cat.cat.codes.to_numpy())
-            out[name] = frozenset(level_labels(cat.cat.categories[used[used >= 0]]))
-    return out
+            return name, regular_range(numeric_values(series, name), special_values[name])
+        cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
+        seen = np.bincount(cat.cat.codes.to_numpy() + 1, minlength=len(cat.cat.categories) + 1)
+        return name, frozenset(level_labels(cat.cat.categories[seen[1:] > 0]))
+    return dict(_each(one, list(kinds.items())))
 
 
 def merge_summaries(a: dict, b: dict) -> dict:
@@ -50,7 +75,7 @@ def merge_summaries(a: dict, b: dict) -> dict:
             out[name] = out[name] | value
         else:
             lo, hi = out[name]
-            out[name] = (np.fmin(lo, value[0]), np.fmax(hi, value[1]))
+            out[name] = (float(np.fmin(lo, value[0])), float(np.fmax(hi, value[1])))
     return out
 
 
@@ -62,33 +87,41 @@ class FineCounts(NamedTuple):
     development_range: tuple[float, float] | None
 
 
-def _goods_bads(codes: np.ndarray, rows: RowFacts, n_codes: int, dev: np.ndarray):
-    c, lab, w = codes[dev], rows.label[dev], rows.weight[dev]
-    pair = np.bincount(c * 2 + (lab == BAD), weights=w, minlength=2 * n_codes).reshape(-1, 2)
-    return pair[:, 0], pair[:, 1]
-
-
 def fine_counts(frame: pd.DataFrame, rows: RowFacts, layouts: dict) -> dict:
     """Fine-class counts on the development rows for every characteristic.
 
     ``layouts`` maps a name to a :class:`NumericLayout` or to the tuple of its levels.
     Categorical codes are the level index, with the missing code last.
+
+    Examples
+    --------
+    >>> rows = RowFacts(np.array([0, 1, 0], np.int8), np.ones(3), np.zeros(3, np.int8))
+    >>> c = fine_counts(pd.DataFrame({"x": [1.0, 5.0, None]}), rows,
+    ...                 {"x": NumericLayout(np.array([2.0]), ())})["x"]
+    >>> c.goods.tolist(), c.bads.tolist(), c.development_range
+    ([1.0, 0.0, 1.0], [0.0, 1.0, 0.0], (1.0, 5.0))
     """
     dev = rows.sample == DEVELOPMENT
-    out = {}
-    for name, layout in layouts.items():
+    # Rows outside development weigh nothing: one weighted count per column, no row selection.
+    dev_weight = np.where(dev, rows.weight, 0.0)
+    bad = (rows.label == BAD).astype(np.intp)
+
+    def counted(codes, n_codes):
+        pair = np.bincount(codes * 2 + bad, weights=dev_weight, minlength=2 * n_codes)
+        return pair[0::2], pair[1::2]
+
+    def one(item):
+        name, layout = item
         series = frame[name]
         if isinstance(layout, NumericLayout):
             x = numeric_values(series, name)
-            codes = numeric_codes(x, layout)
-            g, b = _goods_bads(codes, rows, layout.n_codes, dev)
-            out[name] = FineCounts(g, b, regular_range(x[dev], layout.special_values))
-        else:
-            idx = categorical_codes(series, layout)
-            codes = np.where(idx < 0, len(layout), idx)
-            g, b = _goods_bads(codes, rows, len(layout) + 1, dev)
-            out[name] = FineCounts(g, b, None)
-    return out
+            goods, bads = counted(numeric_codes(x, layout), layout.n_codes)
+            return name, FineCounts(goods, bads, regular_range(x, layout.special_values, dev))
+        idx = categorical_codes(series, layout)
+        goods, bads = counted(np.where(idx < 0, len(layout), idx), len(layout) + 1)
+        return name, FineCounts(goods, bads, None)
+
+    return dict(_each(one, list(layouts.items())))
 
 
 def merge_fine(a: dict, b: dict) -> dict:
@@ -108,30 +141,49 @@ def coded_patterns(frame: pd.DataFrame, rows: RowFacts, drafts) -> Patterns:
 
     The first two columns of the pattern codes are the sample and the outcome (0 good, 1 bad);
     the rest are the bin index of each characteristic in ``drafts`` order. Weights: one column.
+    Rows outside every sample are left out.
     """
     keep = rows.sample != EXCLUDED
-    sub = frame[keep] if not keep.all() else frame
-    codes = np.empty((int(keep.sum()), 2 + len(drafts)), dtype=np.int16)
-    codes[:, 0] = rows.sample[keep]
-    codes[:, 1] = rows.label[keep]
-    for j, char in enumerate(drafts):
-        codes[:, 2 + j] = bin_codes(char, sub[char.name])[0]
-    radix = [N_SAMPLES, 2] + [len(c.bins) for c in drafts]
-    return distinct_patterns(codes, radix, [rows.weight[keep]])
+    every = bool(keep.all())
+
+    def one(char):
+        codes = bin_codes(char, frame[char.name])[0]
+        return codes if every else codes[keep]
+
+    columns = [rows.sample if every else rows.sample[keep],
+               rows.label if every else rows.label[keep]] + _each(one, list(drafts))
+    radix = pattern_radix(drafts)
+    weight = rows.weight if every else rows.weight[keep]
+    return distinct_patterns(_side_by_side(columns), radix, [weight])
+
+
+def pattern_radix(drafts) -> list[int]:
+    """Number of values of each pattern column: samples, outcomes, then bins per characteristic."""
+    return [N_SAMPLES, 2] + [len(c.bins) for c in drafts]
+
+
+def _side_by_side(columns: list) -> np.ndarray:
+    n = len(columns[0])
+    out = np.empty((n, len(columns)), dtype=np.int16)
+    for start in range(0, n, _FILL_ROWS):
+        block = out[start:start + _FILL_ROWS]
+        for j, column in enumerate(columns):
+            block[:, j] = column[start:start + _FILL_ROWS]
+    return out
 
 
 def merge_patterns(a: Patterns, b: Patterns, radix) -> Patterns:
-    codes = np.concatenate([a.codes, b.codes])
-    weights = np.concatenate([a.weights, b.weights])
-    return distinct_patterns(codes, radix, [weights[:, 0]])
+    """Patterns of two chunks as one table; ``a``'s chunk comes first in the rows."""
+    return merge_distinct(a, b, radix)
 
 
 def bin_tables(patterns: Patterns, n_bins) -> list[np.ndarray]:
     """Per characteristic: weights by (bin, sample, outcome) as an array (bins, 3, 2)."""
-    sample, label = patterns.codes[:, 0].astype(np.int64), patterns.codes[:, 1].astype(np.int64)
+    codes = patterns.codes
+    base = codes[:, 0].astype(np.intp) * 2 + codes[:, 1]
     w = patterns.weights[:, 0]
     out = []
     for j, nb in enumerate(n_bins):
-        key = (patterns.codes[:, 2 + j].astype(np.int64) * N_SAMPLES + sample) * 2 + label
+        key = codes[:, 2 + j].astype(np.intp) * (N_SAMPLES * 2) + base
         out.append(np.bincount(key, weights=w, minlength=nb * N_SAMPLES * 2).reshape(nb, N_SAMPLES, 2))
     return out
