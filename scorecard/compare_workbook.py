@@ -14,13 +14,10 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from .atomic import atomic_path
 from .compare import BASELINE, CURRENT, Comparison, SamplePerformance
+from .cautions import CAUTION
 from .workbook import style
 from .workbook.tables import finish_table_sheet, safe_value, set_print_layout, write_table
 
-CAUTION = ("A scorecard is a statistical aid to credit decisions, not a decision maker. Its use "
-           "must follow the credit and anti-discrimination law where it is used and the lender's "
-           "model-risk and compliance policy, and it needs qualified review before it decides "
-           "anything about anyone.")
 SHEETS = ("Summary", "Score stability", "Characteristic stability", "Performance")
 INDEX = "0.0000"
 P_VALUE = "0.0000"

@@ -5,12 +5,11 @@ from __future__ import annotations
 from openpyxl.worksheet.worksheet import Worksheet
 
 from .fairness import FairnessReport
+from .cautions import CAUTION as _GENERAL, SCREEN
 from .workbook import style
 from .workbook.tables import safe_value, set_print_layout, write_table
 
-CAUTION = ("A scorecard is a statistical aid; its use must follow the credit and "
-           "anti-discrimination law where it is used and the lender's model-risk and compliance "
-           "review. This check is a screen, not a legal opinion.")
+CAUTION = f"{_GENERAL} {SCREEN}"
 NO_FINDINGS = ("No characteristic reaches the proxy limit and no group falls below four-fifths "
                "of the most favoured group's approval rate at these cut-offs.")
 # The caution spans the width of the widest table, so it reads as one paragraph above them.

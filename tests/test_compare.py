@@ -281,7 +281,7 @@ def test_command_writes_the_json_contract_and_the_workbook(model_path, demo_dir,
     assert workbook.sheetnames == list(SHEETS)
     assert workbook["Summary"]["A2"].value == CAUTION
     assert CAUTION.startswith("A scorecard is a statistical aid")
-    assert "qualified review" in CAUTION
+    assert "review by qualified people" in CAUTION
 
 
 def test_fail_on_trips_only_when_an_index_reaches_the_status(model_path, demo_dir, drifted,
