@@ -34,7 +34,8 @@ from scorecard.workbook import SHEETS, write_workbook
 from scorecard.workbook import frames
 from scorecard.workbook.calculator import defined_name
 from scorecard.workbook.manifest import source_sha256
-from scorecard.workbook.overview import CAUTION, RUN_TIME_LABEL
+from scorecard.cautions import CAUTION
+from scorecard.workbook.overview import DATA_HASH_LABEL, RUN_TIME_LABEL
 from scorecard.workbook.tables import safe_value, write_table
 
 TABLE_SHEETS = ("Characteristics", "Bins", "Model", "Points", "Score bands", "Stability")
@@ -51,6 +52,7 @@ FIRST_HEADERS = {
 }
 INJECTIONS = ('=HYPERLINK("http://x","y")', "+1+1", "@SUM(A1)")
 MAIN = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}"
+CHART = "{http://schemas.openxmlformats.org/drawingml/2006/chart}"
 REL = "{http://schemas.openxmlformats.org/officeDocument/2006/relationships}"
 
 
@@ -230,7 +232,7 @@ def test_overview_states_the_facts_the_manifest_and_the_cautions(demo, book):
     assert facts["Largest score change caused by rounding"] == pytest.approx(result.card.rounding_change)
     data = Path(result.config.data.source)
     # Reference library: hashlib over the whole file at once (the product reads in chunks).
-    assert facts["Data file SHA-256 (a folder: of its files' hashes)"] == \
+    assert facts[DATA_HASH_LABEL] == \
         hashlib.sha256(data.read_bytes()).hexdigest()
     assert facts["Config file SHA-256"] == \
         hashlib.sha256(Path(result.config.config_file).read_bytes()).hexdigest()
@@ -287,7 +289,9 @@ def _chart_formulas(path, sheet: str) -> list[list[str]]:
         for drawing in drawings:
             for target in rels(drawing).values():
                 xml = ElementTree.fromstring(z.read(norm(target)))
-                out.append([f.text for f in xml.iter("{http://schemas.openxmlformats.org/drawingml/2006/chart}f")])
+                # Filtering the table must not blank the chart: hidden rows are still plotted.
+                assert xml.find(f".//{CHART}plotVisOnly").get("val") in ("0", "false")
+                out.append([f.text for f in xml.iter(f"{CHART}f")])
         return out
 
 
@@ -309,11 +313,13 @@ def test_each_binned_characteristic_has_a_chart_over_its_own_rows(demo, book):
         parsed = [_rows_of(r) for r in refs]
         columns = {c for c, _, _ in parsed}
         assert columns == {letter["Attribute"], letter["Bad rate"], letter["Weight of evidence"]}
-        (_, first, last), = {(None, f, l) for _, f, l in parsed}
-        owners = {ws.cell(r, 1).value for r in range(first, last + 1)}
-        assert len(owners) == 1
-        owner = owners.pop()
-        assert last - first + 1 == (table["Characteristic"] == owner).sum()
+        (first, last), = {(f, l) for _, f, l in parsed}
+        owner = ws.cell(first, 1).value
+        mine = table.index[table["Characteristic"] == owner] + 2
+        # The chart starts at the characteristic's first bin and ends at its last bin with
+        # development rows; the bins after it are empty.
+        filled = [r for r in mine if table.loc[r - 2, "Rows"] > 0]
+        assert (first, last) == (mine[0], filled[-1])
         names.remove(owner)
     assert names == []
 
@@ -459,6 +465,19 @@ def _tiny_config(folder: Path) -> Path:
         "selection: {min_iv: 0.0, entry_p_value: 0.5}\n"
         "output: {workbook: out/tiny.xlsx, model: out/tiny.json}\n", encoding="utf-8")
     return config
+
+
+def test_without_a_holdout_every_figure_comes_from_development(tmp_path):
+    config = _tiny_config(tmp_path)
+    config.write_text(config.read_text().replace("holdout: 0.3", "holdout: null"))
+    with pytest.warns(UserWarning, match="no holdout"):
+        result = scorecard.run.build(config)
+    book = load_workbook(result.outputs["workbook"])
+    stability = [c.value for c in book["Stability"]["A"] if c.value]
+    assert stability[-1] == "No holdout or out-of-time sample: nothing to compare with."
+    assert _table(book["Stability"]).empty
+    texts = [c.value for row in book["Score bands"].iter_rows() for c in row if isinstance(c.value, str)]
+    assert any(t.startswith("Sample: development") for t in texts)
 
 
 def _cells(path) -> list[tuple[str, str, ElementTree.Element]]:

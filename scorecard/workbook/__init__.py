@@ -38,9 +38,10 @@ def write_workbook(result, path) -> Path:
 
     Examples
     --------
-    >>> import scorecard.demo, scorecard.run  # doctest: +SKIP
-    >>> result = scorecard.run.build(scorecard.demo.write_demo("demo"))  # doctest: +SKIP
-    >>> write_workbook(result, "demo/out/again.xlsx").name  # doctest: +SKIP
+    >>> import tempfile, scorecard.demo, scorecard.run
+    >>> folder = tempfile.mkdtemp()
+    >>> result = scorecard.run.build(scorecard.demo.write_demo(folder, rows=2000))
+    >>> write_workbook(result, f"{folder}/again.xlsx").name
     'again.xlsx'
     """
     from ..stability import build_stability

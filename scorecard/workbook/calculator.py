@@ -57,9 +57,10 @@ def write_calculator(ws: Worksheet, card, points_header: int) -> None:
     """Fill the calculator; ``points_header`` is the header row of the Points sheet's table."""
     wb = ws.parent
     taken: set = set()
-    ws.append(HEADERS)
-    for cell in ws[1]:
+    for col, text in enumerate(HEADERS, start=1):
+        cell = ws.cell(1, col, text)
         cell.font, cell.fill, cell.border = style.HEADER_FONT, style.HEADER_FILL, style.HEADER_BORDER
+        cell.alignment = style.HEADER_RIGHT if text == "Points" else style.HEADER_LEFT
     first = points_header + 1
     for row, char in enumerate(card.characteristics, start=2):
         last = first + len(char.bins) - 1
@@ -85,13 +86,13 @@ def write_calculator(ws: Worksheet, card, points_header: int) -> None:
 
 def _characteristic_row(ws, row, char, attributes, points, offset) -> None:
     labels = frames.attribute_labels(char)
-    ws.cell(row, 1, safe_value(char.name))
+    ws.cell(row, 1, safe_value(char.name)).alignment = style.TEXT
     choice = ws.cell(row, 2, safe_value(labels[default_attribute(char)]))
-    choice.fill = style.INPUT_FILL
+    choice.fill, choice.alignment = style.INPUT_FILL, style.TEXT
     match = f"SUMPRODUCT(EXACT({attributes},B{row})*1)=1"
     position = f"SUMPRODUCT(EXACT({attributes},B{row})*(ROW({attributes})-{offset}))"
     ws.cell(row, 3, f"=IF({match},INDEX({points},{position}),NA())").number_format = style.INTEGER
-    ws.cell(row, 4, f'=IF({match},"ok","choose one of its attributes")')
+    ws.cell(row, 4, f'=IF({match},"ok","choose one of its attributes")').alignment = style.TEXT
     rule = DataValidation(type="list", formula1=f"={attributes}", allow_blank=False,
                           showErrorMessage=True, errorTitle="Not an attribute",
                           error="Choose one of the attributes in the list.")

@@ -7,6 +7,7 @@ series stay apart in black and white; every series carries its name in the legen
 
 from __future__ import annotations
 
+import math
 from typing import NamedTuple
 
 from openpyxl.chart import BarChart, LineChart, Reference, Series
@@ -18,13 +19,58 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from . import style
 
-WIDTH_CM, HEIGHT_CM = 14.0, 8.0
-# A chart of this height covers about this many rows of the default height.
+WIDTH_CM, HEIGHT_CM, MAX_WIDTH_CM = 14.0, 8.0, 20.0
+ASPECT = 0.55                       # height over width
+ROW_CM = 0.53                       # a row of the default height (15 points)
+CHARACTER_CM = 0.19                 # a unit of column width (one character of the default font)
+DEFAULT_COLUMN_WIDTH = 8.43         # what spreadsheet programs show for a column left unset
+# A4 landscape inside the margins that tables.set_print_layout sets.
+PRINT_WIDTH_CM, PRINT_HEIGHT_CM = 27.0, 17.5
+# A chart of the default height covers about this many rows.
 ROWS_PER_CHART = 17
 TITLE_SIZE, AXIS_TITLE_SIZE = 1000, 800   # hundredths of a point
 
 
-class Line(NamedTuple):
+class Grid(NamedTuple):
+    """Size of charts laid out in a grid under a table, and how many grid rows a page holds."""
+
+    width_cm: float
+    height_cm: float
+    rows_per_chart: int
+    chart_rows_per_page: int
+
+
+def chart_grid(table_width_cm: float, across: int = 2) -> Grid:
+    """Charts ``across`` side by side as wide as the table above them, and whole on a page.
+
+    Printing fits the sheet to the page width, so a wide table shrinks the page; the charts are
+    sized to the table and the number of chart rows per page follows from the same scale.
+
+    Examples
+    --------
+    >>> chart_grid(42.0)
+    Grid(width_cm=20.0, height_cm=11.0, rows_per_chart=22, chart_rows_per_page=2)
+    """
+    width = min(MAX_WIDTH_CM, max(WIDTH_CM, (table_width_cm - 0.5) / across))
+    height = round(width * ASPECT, 2)
+    rows = math.ceil(height / ROW_CM) + 1
+    scale = min(1.0, PRINT_WIDTH_CM / max(table_width_cm, across * (width + 0.5)))
+    # Three rows go to the repeated header and the space around it.
+    page_rows = PRINT_HEIGHT_CM / scale / ROW_CM - 3
+    return Grid(width, height, rows, max(1, int(page_rows // rows)))
+
+
+def table_width_cm(ws: Worksheet, n_columns: int, start_col: int = 1) -> float:
+    """Printed width of ``n_columns`` columns from ``start_col``."""
+    total = 0.0
+    for col in range(start_col, start_col + n_columns):
+        letter = get_column_letter(col)
+        width = ws.column_dimensions[letter].width if letter in ws.column_dimensions else None
+        total += (width or DEFAULT_COLUMN_WIDTH) * CHARACTER_CM
+    return total
+
+
+class Plotted(NamedTuple):
     """One series: the column of values, its legend word, colour and dash style."""
 
     column: int
@@ -57,7 +103,7 @@ def _finish(chart, title: str, x_title: str | None, y_title: str, y_format: str)
     chart.y_axis.delete = False
     chart.legend.position = "b"
     # Filtering the table hides rows; the chart should still show every attribute.
-    chart.plot_visible_only = False
+    chart.visible_cells_only = False
 
 
 def bad_rate_and_woe_chart(ws: Worksheet, title: str, first_row: int, last_row: int, *,
@@ -92,7 +138,7 @@ def bad_rate_and_woe_chart(ws: Worksheet, title: str, first_row: int, last_row: 
 
 
 def bar_chart(ws: Worksheet, title: str, first_row: int, last_row: int, *, label_col: int,
-              series: list[Line], x_title: str, y_title: str, y_format: str = "0%") -> BarChart:
+              series: list[Plotted], x_title: str, y_title: str, y_format: str = "0%") -> BarChart:
     """Side-by-side bars of several columns against one column of labels."""
     chart = BarChart()
     chart.type = "col"
@@ -108,7 +154,7 @@ def bar_chart(ws: Worksheet, title: str, first_row: int, last_row: int, *, label
 
 
 def line_chart(ws: Worksheet, title: str, first_row: int, last_row: int, *, label_col: int,
-               series: list[Line], x_title: str, y_title: str, y_format: str = "0%",
+               series: list[Plotted], x_title: str, y_title: str, y_format: str = "0%",
                y_max: float | None = None) -> LineChart:
     """Lines of several columns against one column of labels, dashed where asked."""
     chart = LineChart()
@@ -133,7 +179,6 @@ def column_after(ws: Worksheet, start_col: int, width_cm: float) -> int:
     while covered < width_cm:
         letter = get_column_letter(col)
         width = ws.column_dimensions[letter].width if letter in ws.column_dimensions else None
-        # Column widths count characters of the default font, about 0.19 cm each.
-        covered += (width or 8.43) * 0.19
+        covered += (width or DEFAULT_COLUMN_WIDTH) * CHARACTER_CM
         col += 1
     return col

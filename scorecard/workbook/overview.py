@@ -11,16 +11,14 @@ import math
 from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.worksheet import Worksheet
 
+from ..cautions import CAUTION
 from . import frames, style
 from .manifest import Manifest
 from .tables import safe_value, set_print_layout, write_table
 
 LABEL_WIDTH, VALUE_WIDTH, VALUE_COLUMNS = 48, 14, 6
 RUN_TIME_LABEL = "Time of the run (UTC)"
-CAUTION = ("A scorecard is a statistical aid to credit decisions, not a decision maker. Its use "
-           "must follow the credit and anti-discrimination (fair-lending) law where it is used "
-           "and the lender's model-risk and compliance policy, and it needs review by qualified "
-           "people before it decides anything about anyone.")
+DATA_HASH_LABEL = "Data SHA-256 (of the file, or of a folder's file hashes)"
 READING = ("Colour repeats what signs and words say, so a black-and-white print reads the same: "
            "a blue tint marks lower risk (positive weight of evidence, shown with +), a sand tint "
            "higher risk (negative, shown with -). Every figure names the sample it comes from: "
@@ -41,6 +39,8 @@ class _Page:
     def fact(self, label: str, value, number_format: str | None = None) -> None:
         self.ws.cell(self.row, 1, safe_value(label)).font = style.BOLD
         cell = self.ws.cell(self.row, 2, safe_value(value))
+        # Numbers and text line up under one another on a cover page.
+        cell.alignment = style.LEFT
         if number_format is not None:
             cell.number_format = number_format
         self.row += 1
@@ -107,7 +107,7 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     page.heading("Run manifest")
     page.fact("Config file", manifest.config_file)
     page.fact("Config file SHA-256", manifest.config_sha256)
-    page.fact("Data file SHA-256 (a folder: of its files' hashes)", manifest.data_sha256)
+    page.fact(DATA_HASH_LABEL, manifest.data_sha256)
     page.fact("Rows read", samples.rows_read, style.COUNT)
     page.fact("Rows per sample", "; ".join(f"{name} {rows:,}" for name, rows in samples.rows.items()))
     page.fact("Random seed of the holdout split", manifest.seed)

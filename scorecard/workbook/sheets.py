@@ -15,7 +15,6 @@ from openpyxl.worksheet.worksheet import Worksheet
 from . import charts, frames, style
 from .tables import finish_table_sheet, safe_value, write_table
 
-CHART_ROWS_PER_PAGE = 2
 BIN_FORMATS = {"Rows": style.COUNT, "Goods": style.COUNT, "Bads": style.COUNT,
                "Bad rate": style.PERCENT, "Share of rows": style.PERCENT,
                "Weight of evidence": style.SIGNED_WOE, "IV contribution": style.WOE,
@@ -47,6 +46,15 @@ def tint_by_sign(ws: Worksheet, column: int, first_row: int, last_row: int) -> N
             cell.fill = style.LOWER_RISK_FILL if cell.value > 0 else style.HIGHER_RISK_FILL
 
 
+def separate_groups(ws: Worksheet, frame, header: int, column: str = "Characteristic") -> None:
+    """A thin rule above the first row of each characteristic, so its block reads as one."""
+    values = frame[column].tolist()
+    for i in range(1, len(values)):
+        if values[i] != values[i - 1]:
+            for col in range(1, len(frame.columns) + 1):
+                ws.cell(header + 1 + i, col).border = style.GROUP_BORDER
+
+
 def column_of(frame, name: str, start_col: int = 1) -> int:
     return start_col + list(frame.columns).index(name)
 
@@ -70,6 +78,7 @@ def write_bins(ws: Worksheet, result) -> None:
     frame = frames.bins_frame(result.reports)
     header, last = write_table(ws, frame, formats=BIN_FORMATS)
     tint_by_sign(ws, column_of(frame, "Weight of evidence"), header + 1, last)
+    separate_groups(ws, frame, header)
     finish_table_sheet(ws, header, last, len(frame.columns))
     row = note(ws, last + 2, "Counts, bad rates and weights of evidence are from the development "
                              "sample. Positive weight of evidence (+, blue) means lower risk than "
@@ -81,25 +90,40 @@ def write_bins(ws: Worksheet, result) -> None:
 
 
 def _bin_charts(ws: Worksheet, frame, header: int, top: int) -> None:
-    """One chart per characteristic, two across, on the rows below the table."""
-    names = frame["Characteristic"].tolist()
+    """One chart per characteristic, two across and whole on each printed page, below the table.
+
+    A chart spans the characteristic's bins up to the last one with development rows: the
+    trailing bins that development never filled (unseen levels, an empty missing bin) have no
+    bad rate to draw.
+    """
     label_col, rate_col = column_of(frame, "Attribute"), column_of(frame, "Bad rate")
     woe_col = column_of(frame, "Weight of evidence")
-    second_col = charts.column_after(ws, 1, charts.WIDTH_CM + 0.5)
-    start = 0
-    for k, name in enumerate(dict.fromkeys(names)):
-        count = names.count(name)
-        first_row = header + 1 + start
-        chart = charts.bad_rate_and_woe_chart(
-            ws, name, first_row, first_row + count - 1, label_col=label_col,
-            bad_rate_col=rate_col, woe_col=woe_col)
-        row = top + (k // 2) * charts.ROWS_PER_CHART
-        if k % 2 == 0 and (k // 2) % CHART_ROWS_PER_PAGE == 0:
+    grid = charts.chart_grid(charts.table_width_cm(ws, len(frame.columns)))
+    second_col = charts.column_after(ws, 1, grid.width_cm + 0.5)
+    for k, (first_row, last_row, name) in enumerate(_chart_spans(frame, header)):
+        chart = charts.bad_rate_and_woe_chart(ws, name, first_row, last_row, label_col=label_col,
+                                              bad_rate_col=rate_col, woe_col=woe_col)
+        chart.width, chart.height = grid.width_cm, grid.height_cm
+        grid_row = k // 2
+        row = top + grid_row * grid.rows_per_chart
+        if k % 2 == 0 and grid_row % grid.chart_rows_per_page == 0:
             # A printed page holds whole charts only.
             ws.row_breaks.append(Break(id=row - 1))
         col = 1 if k % 2 == 0 else second_col
         ws.add_chart(chart, f"{get_column_letter(col)}{row}")
+
+
+def _chart_spans(frame, header: int) -> list[tuple[int, int, str]]:
+    """(first row, last row, characteristic) of each chart, in the order of the table."""
+    names = frame["Characteristic"].tolist()
+    filled = (frame["Rows"] > 0).tolist()
+    spans, start = [], 0
+    for name in dict.fromkeys(names):
+        count = names.count(name)
+        used = [i for i in range(start, start + count) if filled[i]] or [start]
+        spans.append((header + 1 + start, header + 1 + used[-1], name))
         start += count
+    return spans
 
 
 def write_model(ws: Worksheet, result) -> None:
@@ -130,6 +154,7 @@ def write_points(ws: Worksheet, result) -> tuple[int, int]:
                                                    "Weight of evidence": style.SIGNED_WOE,
                                                    "Coefficient": style.WOE})
     tint_by_sign(ws, column_of(frame, "Weight of evidence"), header + 1, last)
+    separate_groups(ws, frame, header)
     finish_table_sheet(ws, header, last, len(frame.columns))
     s = card.scaling
     row = note(ws, last + 2, f"Score = sum of the points of one attribute per characteristic. "
@@ -156,8 +181,9 @@ def write_score_bands(ws: Worksheet, result) -> None:
     if perf is not None and not math.isnan(perf.ks):
         row = note(ws, row, f"Largest gap between the cumulative shares of bads and goods "
                             f"(KS): {perf.ks:.1%} at score {hist.low + perf.ks_index}.")
+    grid = charts.chart_grid(charts.table_width_cm(ws, len(gains.columns)))
     chart_row = row + 1
-    table_row = chart_row + charts.ROWS_PER_CHART + 1
+    table_row = chart_row + grid.rows_per_chart + 1
     odds = frames.odds_frame(result.card)
     write_table(ws, odds, start_row=table_row, title="Score, odds and bad probability",
                 formats={"Score": style.INTEGER, "Good:bad odds": "[<10]0.000;#,##0.0",
@@ -167,10 +193,10 @@ def write_score_bands(ws: Worksheet, result) -> None:
     dist_header, dist_last = write_table(
         ws, distribution, start_row=table_row, start_col=dist_col,
         title=f"Score distribution of the {sample} sample", formats=DISTRIBUTION_FORMATS)
-    _score_charts(ws, sample, distribution, dist_col, dist_header, dist_last, chart_row)
+    _score_charts(ws, sample, distribution, dist_col, dist_header, dist_last, chart_row, grid)
 
 
-def _score_charts(ws, sample, distribution, dist_col, header, last, top) -> None:
+def _score_charts(ws, sample, distribution, dist_col, header, last, top, grid) -> None:
     def col(name):
         return column_of(distribution, name, dist_col)
 
@@ -179,18 +205,20 @@ def _score_charts(ws, sample, distribution, dist_col, header, last, top) -> None
         ws, f"Score distribution of goods and bads ({sample})", first, last,
         label_col=col("Score from"), x_title="Score (lowest of the group)",
         y_title="Share of the sample's goods or bads",
-        series=[charts.Line(col("Share of goods"), "Share of goods", style.GOOD_LINE),
-                charts.Line(col("Share of bads"), "Share of bads", style.BAD_LINE)])
+        series=[charts.Plotted(col("Share of goods"), "Share of goods", style.GOOD_LINE),
+                charts.Plotted(col("Share of bads"), "Share of bads", style.BAD_LINE)])
+    shares.width, shares.height = grid.width_cm, grid.height_cm
     ws.add_chart(shares, f"A{top}")
     cumulative = charts.line_chart(
         ws, f"Cumulative shares of goods and bads, and their gap ({sample})", first, last,
         label_col=col("Score to"), x_title="Score (highest of the group)",
         y_title="Cumulative share", y_max=1,
-        series=[charts.Line(col("Cumulative share of goods"), "Cumulative share of goods",
+        series=[charts.Plotted(col("Cumulative share of goods"), "Cumulative share of goods",
                             style.GOOD_LINE),
-                charts.Line(col("Cumulative share of bads"), "Cumulative share of bads",
+                charts.Plotted(col("Cumulative share of bads"), "Cumulative share of bads",
                             style.BAD_LINE, "dash"),
-                charts.Line(col("Gap (KS)"), "Gap (KS)", style.NEUTRAL_LINE, "sysDot")])
-    second = charts.column_after(ws, 1, charts.WIDTH_CM + 0.5)
+                charts.Plotted(col("Gap (KS)"), "Gap (KS)", style.NEUTRAL_LINE, "sysDot")])
+    cumulative.width, cumulative.height = grid.width_cm, grid.height_cm
+    second = charts.column_after(ws, 1, grid.width_cm + 0.5)
     ws.add_chart(cumulative, f"{get_column_letter(second)}{top}")
 

@@ -80,9 +80,9 @@ def _comparison(ws: Worksheet, comparison, row: int) -> int:
     chart = charts.bar_chart(
         ws, f"Share of rows by score band: {comparison.baseline} vs {comparison.current}",
         header + 1, last, label_col=columns.index("Band") + 1,
-        series=[charts.Line(columns.index("Baseline share") + 1,
+        series=[charts.Plotted(columns.index("Baseline share") + 1,
                             f"{comparison.baseline} (baseline)", style.BASELINE_FILL),
-                charts.Line(columns.index("Current share") + 1,
+                charts.Plotted(columns.index("Current share") + 1,
                             f"{comparison.current} (current)", style.CURRENT_FILL)],
         x_title="Score band", y_title="Share of rows")
     ws.add_chart(chart, f"{get_column_letter(chart_col)}{row + 1}")

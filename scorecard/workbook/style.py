@@ -19,11 +19,13 @@ LOWER_RISK_FILL = PatternFill("solid", fgColor="DCE8F2")
 HIGHER_RISK_FILL = PatternFill("solid", fgColor="F6E3CC")
 INPUT_FILL = PatternFill("solid", fgColor="FFF8D6")
 HEADER_BORDER = Border(bottom=Side(style="thin", color="2F3E4E"))
+GROUP_BORDER = Border(top=Side(style="thin", color="8C8C8C"))
 WRAP = Alignment(wrap_text=True, vertical="top")
 HEADER_LEFT = Alignment(wrap_text=True, vertical="bottom", horizontal="left", indent=1)
 HEADER_RIGHT = Alignment(wrap_text=True, vertical="bottom", horizontal="right")
 # A text cell after a right-aligned number would touch it; the indent keeps them apart.
 TEXT = Alignment(horizontal="left", indent=1)
+LEFT = Alignment(horizontal="left")
 
 # Chart series colours, in the same meaning as the tints: blue for goods, warm for bads.
 GOOD_LINE = "2F5D87"

@@ -16,6 +16,7 @@ import pandas as pd
 from openpyxl.cell.cell import ERROR_CODES
 from openpyxl.cell.rich_text import CellRichText
 from openpyxl.utils import get_column_letter
+from openpyxl.worksheet.page import PageMargins
 from openpyxl.worksheet.worksheet import Worksheet
 
 from . import style
@@ -202,5 +203,6 @@ def set_print_layout(ws: Worksheet, *, repeat_rows: str | None = None) -> None:
     ws.page_setup.fitToHeight = 0
     ws.sheet_properties.pageSetUpPr.fitToPage = True
     ws.print_options.gridLines = False
+    ws.page_margins = PageMargins(left=0.5, right=0.5, top=0.6, bottom=0.6, header=0.3, footer=0.3)
     if repeat_rows is not None:
         ws.print_title_rows = repeat_rows
