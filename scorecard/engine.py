@@ -70,7 +70,8 @@ def pass_label(fn) -> str:
     name = getattr(fn, "__name__", "")
     if name in PASS_NAMES:
         return PASS_NAMES[name]
-    called = getattr(getattr(fn, "__code__", None), "co_names", ())
+    code = getattr(fn, "__code__", None)
+    called = (code.co_names + code.co_freevars) if code is not None else ()
     return next((PASS_NAMES[n] for n in called if n in PASS_NAMES), "reading rows")
 
 
