@@ -65,6 +65,12 @@ def demo(tmp_path_factory):
 
 
 @pytest.fixture(scope="module")
+def tiny(tmp_path_factory):
+    """A small build whose categorical levels and title look like formulas."""
+    return scorecard.run.build(_tiny_config(tmp_path_factory.mktemp("tiny_workbook")))
+
+
+@pytest.fixture(scope="module")
 def book(demo):
     return load_workbook(demo[1])
 
@@ -389,8 +395,23 @@ def _choose(path, target, labels: list[str]) -> Path:
     return target
 
 
+def _check_calculator(file, card, chosen: dict) -> None:
+    ws = load_workbook(file, data_only=True)["Calculator"]
+    k = len(card.characteristics)
+    for j, c in enumerate(card.characteristics, start=2):
+        assert ws.cell(j, 1).value == c.name
+        assert ws.cell(j, 3).value == c.bins[chosen[c.name]].points
+        assert ws.cell(j, 4).value == "ok"
+    total = ws.cell(k + 3, 3).value
+    assert total == _product_score(card, chosen)
+    s = card.scaling
+    assert ws.cell(k + 4, 3).value == pytest.approx(math.exp((total - s.offset) / s.factor), rel=1e-12)
+    assert ws.cell(k + 5, 3).value == pytest.approx(
+        float(scorecard.scoring.bad_probability(card, total)), rel=1e-12)
+
+
 @pytest.mark.skipif(shutil.which("soffice") is None, reason="LibreOffice (soffice) is not installed")
-def test_libreoffice_recalculates_the_calculator_to_the_products_scores(demo, tmp_path):
+def test_libreoffice_recalculates_the_calculator_to_the_products_scores(demo, tiny, tmp_path):
     # A real spreadsheet program is the reference: LibreOffice evaluates every formula.
     result, path, _ = demo
     card = result.card
@@ -406,23 +427,20 @@ def test_libreoffice_recalculates_the_calculator_to_the_products_scores(demo, tm
     wrong_file = _choose(path, tmp_path / "wrong.xlsx", wrong)
     original = tmp_path / "default.xlsx"
     shutil.copy(path, original)
-    done = _recalculate([original, worst_file, wrong_file], tmp_path)
+    # In the small build, pick attributes whose labels look like formulas where there are any.
+    odd = {c.name: next((i for i, b in enumerate(c.bins) if b.label[:1] in "=+@"), 0)
+           for c in tiny.card.characteristics}
+    odd_file = _choose(tiny.outputs["workbook"], tmp_path / "odd.xlsx",
+                       [frames.attribute_labels(c)[odd[c.name]] for c in tiny.card.characteristics])
+    done = _recalculate([original, worst_file, wrong_file, odd_file], tmp_path)
 
-    k = len(card.characteristics)
-    for file, chosen in zip(done[:2], (default, worst)):
-        ws = load_workbook(file, data_only=True)["Calculator"]
-        for j, c in enumerate(card.characteristics, start=2):
-            assert ws.cell(j, 1).value == c.name
-            assert ws.cell(j, 3).value == c.bins[chosen[c.name]].points
-            assert ws.cell(j, 4).value == "ok"
-        total = ws.cell(k + 3, 3).value
-        assert total == _product_score(card, chosen)
-        s = card.scaling
-        assert ws.cell(k + 4, 3).value == pytest.approx(math.exp((total - s.offset) / s.factor), rel=1e-12)
-        assert ws.cell(k + 5, 3).value == pytest.approx(
-            float(scorecard.scoring.bad_probability(card, total)), rel=1e-12)
+    _check_calculator(done[0], card, default)
+    _check_calculator(done[1], card, worst)
     assert _product_score(card, worst) == card.min_score
+    _check_calculator(done[3], tiny.card, odd)
+    assert tiny.card.characteristics[tiny.card.names.index("channel")].bins[odd["channel"]].label[0] in "=+@"
     ws = load_workbook(done[2], data_only=True)["Calculator"]
+    k = len(card.characteristics)
     assert ws.cell(2, 4).value == "choose one of its attributes"
     assert ws.cell(2, 3).value == "#N/A" and ws.cell(k + 3, 3).value == "#N/A"
 
@@ -495,8 +513,8 @@ def _text(cell) -> str:
     return "".join(t.text or "" for t in cell.iter(f"{MAIN}t"))
 
 
-def test_labels_that_look_like_formulas_stay_text(tmp_path):
-    result = scorecard.run.build(_tiny_config(tmp_path))
+def test_labels_that_look_like_formulas_stay_text(tiny):
+    result = tiny
     path = result.outputs["workbook"]
     assert "channel" in result.card.names
     found = set()

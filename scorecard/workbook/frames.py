@@ -16,9 +16,11 @@ from ..model import Characteristic, Scorecard
 from ..points import bad_probability_of_score, odds_of_score
 
 IN_MODEL = "in model"
-# Steps between the scores of the score-to-odds table and of the distribution table: the
-# smallest of these that keeps the table within the given number of rows.
+# Steps between the scores of the distribution table and of the score-to-odds table: the
+# smallest of these that keeps the table within the given number of rows. Odds are read at
+# scores that are multiples of ten.
 ROUND_STEPS = (1, 2, 5, 10, 20, 25, 50, 100, 200, 500, 1000)
+ODDS_STEPS = (10, 20, 50, 100, 200, 500, 1000)
 
 CHARACTERISTIC_COLUMNS = ["Characteristic", "Kind", "Status", "Stage", "Reason", "Fine classes",
                           "Trend", "Information value", "Strength", "Mutual information (nats)",
@@ -144,22 +146,25 @@ def points_frame(card: Scorecard) -> pd.DataFrame:
     return pd.concat(frames, ignore_index=True)
 
 
-def round_step(span: float, max_rows: int) -> int:
-    """The smallest round step that covers ``span`` points in at most ``max_rows`` rows.
+def round_step(span: float, max_rows: int, steps=ROUND_STEPS) -> int:
+    """The smallest of ``steps`` that covers ``span`` points in at most ``max_rows`` rows.
 
     Examples
     --------
-    >>> round_step(377, 40), round_step(377, 20), round_step(3, 40)
-    (10, 20, 1)
+    >>> round_step(377, 40), round_step(377, 20), round_step(3, 40), round_step(3, 40, ODDS_STEPS)
+    (10, 20, 1, 10)
     """
-    return next((s for s in ROUND_STEPS if span / s + 1 <= max_rows), ROUND_STEPS[-1])
+    return next((s for s in steps if span / s + 1 <= max_rows), steps[-1])
 
 
 def odds_frame(card: Scorecard, max_rows: int = 40) -> pd.DataFrame:
     """Score, good:bad odds and bad probability at round scores across the attainable range."""
     low, high = card.min_score, card.max_score
-    step = round_step(high - low, max_rows)
+    step = round_step(high - low, max_rows, ODDS_STEPS)
     scores = np.arange(math.ceil(low / step) * step, high + 1, step)
+    if scores.size == 0:
+        # A range narrower than one step holds no multiple of it: show its two ends.
+        scores = np.unique([low, high])
     return pd.DataFrame({
         "Score": scores,
         "Good:bad odds": odds_of_score(scores, card.scaling),

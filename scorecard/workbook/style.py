@@ -41,7 +41,5 @@ COUNT = "#,##0"
 INTEGER = "0"
 WOE = "0.0000"
 MEASURE = "0.000"
-PROBABILITY = "0.0000%"
 # A sign on every non-zero value so that the direction of risk reads without colour.
 SIGNED_WOE = "+0.0000;-0.0000;0.0000"
-SIGNED_POINTS = "+0;-0;0"
