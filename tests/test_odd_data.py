@@ -205,7 +205,8 @@ def test_a_forced_perfect_separation_fits_with_a_warning_and_sane_numbers(tmp_pa
     assert any("separated" in str(w.message) for w in caught)
     fit = result.selection.fit
     assert np.isfinite(fit.coefficients).all() and np.isfinite(fit.standard_errors).all()
-    # On weight-of-evidence inputs a sane coefficient is near 1; separation must not run away.
+    # A characteristic coded by its own WoE gets a coefficient near 1 (common practice); under
+    # separation it must not run away.
     assert np.abs(fit.coefficients[1:]).max() < 5
     char = next(c for c in result.card.characteristics if c.name == "oracle")
     assert [b.note.startswith("no goods or no bads") for b in char.bins[:2]] == [True, True]

@@ -201,7 +201,8 @@ def test_counts_are_conserved_and_measures_are_well_defined(case):
         assert rep.information_value >= 0 and math.isfinite(rep.information_value)
         g = rep.sample_counts[:, 0, GOOD]
         b = rep.sample_counts[:, 0, BAD]
-        # Common practice: MI lies between 0 and the entropy of the outcome (and of the bins).
+        # MI lies between 0 and the entropy of either variable (REFERENCES.md, information
+        # theory; common practice).
         ceiling = min(entropy([g.sum(), b.sum()]), entropy(g + b))
         assert -1e-12 <= rep.mutual_information_nats <= ceiling + 1e-9
         assert rep.mutual_information_bits == pytest.approx(rep.mutual_information_nats / math.log(2))
@@ -250,7 +251,8 @@ def test_points_scores_and_the_model_file_agree(case):
     beta = np.array([c.coefficient for c in card.characteristics])
     exact = score_of_odds(np.exp(card.intercept + woe @ beta), card.scaling)
     assert np.all(np.abs(scores.score - exact) <= card.rounding_change + 1e-6)
-    # Points to double the odds (DESIGN.md): odds twice as high score pdo points more.
+    # Points to double the odds: odds twice as high score pdo points more (Siddiqi 2006,
+    # scaling chapter, via REFERENCES.md; published, from memory).
     assert score_of_odds(2 * card.scaling.base_odds, card.scaling) == pytest.approx(
         card.scaling.base_score + card.scaling.pdo)
 
