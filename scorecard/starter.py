@@ -75,7 +75,8 @@ def starter_config(data, target: str, out=None, *, encoding: str = "utf-8",
     Raises
     ------
     InputError
-        The data cannot be read, lacks ``target``, or its outcome has fewer than two values.
+        The data cannot be read, lacks ``target``, or its outcome has fewer than two values;
+        or ``out`` is the data file itself.
 
     Examples
     --------
@@ -86,6 +87,8 @@ def starter_config(data, target: str, out=None, *, encoding: str = "utf-8",
       bad: [defaulted]            # check: which values are bad
     """
     data = Path(data)
+    if out is not None and data.exists() and Path(out).resolve() == data.resolve():
+        raise InputError(f"{out}: --out would overwrite the data {data}; inputs are never modified")
     frame = read_frame(data, encoding=encoding, delimiter=delimiter)
     if target not in frame.columns:
         hint = difflib.get_close_matches(target, [str(c) for c in frame.columns], n=1)

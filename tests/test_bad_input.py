@@ -391,6 +391,8 @@ CASES = [
                                            .replace(",in_arrears,", ",repaid,") for ln in lines]),
                  init, ["column outcome", "at least two distinct values"], id="init-target-one-value"),
     pytest.param(write_bytes(DATA, b""), init, ["{d}/applications.csv", "empty"], id="init-data-empty"),
+    pytest.param(unchanged, lambda d: ["init", str(d / DATA), "--target", "outcome", "--out", str(d / DATA)],
+                 ["{d}/applications.csv", "would overwrite the data"], id="init-out-over-data"),
 ]
 
 
