@@ -147,13 +147,22 @@ def _layouts(config, kinds, summary, reports):
         else:
             levels = tuple(sorted(summary[name]))
             if len(levels) > config.binning.max_levels:
-                reports[name] = CharacteristicReport(
-                    name, kind, "not used", "data",
-                    f"identifier-like: {len(levels)} distinct levels "
-                    f"(more than max_levels {config.binning.max_levels})")
+                reports[name] = CharacteristicReport(name, kind, "not used", "data",
+                                                     _too_many_levels(levels, config))
                 continue
             layouts[name] = levels
     return layouts
+
+
+def _too_many_levels(levels, config) -> str:
+    numeric = pd.to_numeric(pd.Series(levels), errors="coerce").notna()
+    if numeric.mean() >= 0.5:
+        texts = [lv for lv, is_number in zip(levels, numeric) if not is_number][:3]
+        return (f"numbers mixed with text: {numeric.sum()} of {len(levels)} distinct values are "
+                f"numbers, the others text such as {', '.join(map(repr, texts))}; recode the text "
+                "(to empty, or to a number declared in special_values) and rebuild")
+    return (f"identifier-like: {len(levels)} distinct levels "
+            f"(more than max_levels {config.binning.max_levels})")
 
 
 def _specials(config, name) -> tuple:

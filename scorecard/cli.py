@@ -5,6 +5,8 @@ Bad input ends with one ``error:`` line on stderr and exit status 2, never a tra
 
 from __future__ import annotations
 
+import os
+import signal
 import sys
 from pathlib import Path
 
@@ -16,15 +18,34 @@ from .export import export_command
 from .progress import StageLog
 
 
+class _Terminated(Exception):
+    """SIGTERM, raised as an exception so that every ``finally`` removes its temporary files."""
+
+
+def _raise_terminated(signum, frame):
+    raise _Terminated()
+
+
 class _Group(click.Group):
-    """Turns InputError into ``error: ...`` with exit status 2."""
+    """Turns bad input and usage mistakes into one ``error: ...`` line with exit status 2."""
 
     def invoke(self, ctx):
+        previous = signal.signal(signal.SIGTERM, _raise_terminated)
         try:
             return super().invoke(ctx)
         except InputError as exc:
             click.echo(f"error: {exc}", err=True)
             ctx.exit(2)
+        except click.UsageError as exc:
+            command = f"{exc.ctx.command_path}: " if exc.ctx is not None else ""
+            click.echo(f"error: {command}{exc.format_message()}", err=True)
+            ctx.exit(2)
+        except _Terminated:
+            # Cleanup has run; end the way an unhandled SIGTERM would, for the caller to see.
+            signal.signal(signal.SIGTERM, signal.SIG_DFL)
+            os.kill(os.getpid(), signal.SIGTERM)
+        finally:
+            signal.signal(signal.SIGTERM, previous)
 
 
 @click.group(cls=_Group)
@@ -34,7 +55,7 @@ def main():
 
 
 @main.command()
-@click.argument("config", type=click.Path(dir_okay=False, path_type=Path))
+@click.argument("config", type=click.Path(path_type=Path))
 @click.option("--workbook", type=click.Path(dir_okay=False, path_type=Path),
               help="Write the workbook here instead of output.workbook.")
 @click.option("--model", type=click.Path(dir_okay=False, path_type=Path),

@@ -153,7 +153,7 @@ def _scorecard_from_dict(raw, source: str) -> Scorecard:
         raise InputError(f"{source}: format_version {version!r} is not supported "
                          f"(this version reads {FORMAT_VERSION})")
     try:
-        scale = Scaling(**raw["scaling"])
+        scale = Scaling(**{k: _number(v, f"scaling.{k}") for k, v in raw["scaling"].items()})
         chars = tuple(_characteristic_from_dict(c) for c in raw["characteristics"])
         card = Scorecard(str(raw["name"]), scale, float(raw["intercept"]), chars,
                          dict(raw.get("target", {})), float(raw.get("rounding_change", 0.0)))
@@ -163,15 +163,35 @@ def _scorecard_from_dict(raw, source: str) -> Scorecard:
     return card
 
 
+def _number(value, key: str) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise ValueError(f"{key} must be a number, not {value!r}")
+    return float(value)
+
+
+def _levels(value) -> tuple[str, ...]:
+    if not isinstance(value, list) or not all(isinstance(v, str) for v in value):
+        raise ValueError(f"levels must be a list of texts, not {value!r}")
+    return tuple(value)
+
+
+def _bin_from_dict(raw: dict) -> Bin:
+    numbers = {k: _number(raw[k], f"bin {k}") for k in ("goods", "bads", "woe") if k in raw}
+    bounds = {k: None if raw.get(k) is None else _number(raw[k], f"bin {k}")
+              for k in ("lower", "upper", "value") if k in raw}
+    return Bin(**{**raw, **numbers, **bounds, "levels": _levels(raw.get("levels", []))})
+
+
 def _characteristic_from_dict(raw: dict) -> Characteristic:
-    bins = tuple(Bin(**{**b, "levels": tuple(b.get("levels", ()))}) for b in raw["bins"])
+    bins = tuple(_bin_from_dict(b) for b in raw["bins"])
     rng = raw.get("development_range")
     return Characteristic(
         name=str(raw["name"]), kind=str(raw["kind"]), bins=bins,
         coefficient=float(raw["coefficient"]), reason_code=str(raw["reason_code"]),
         reason=str(raw["reason"]), cuts=tuple(float(x) for x in raw.get("cuts", ())),
         special_values=tuple(float(x) for x in raw.get("special_values", ())),
-        development_range=None if rng is None else (float(rng[0]), float(rng[1])),
+        development_range=None if rng is None else (_number(rng[0], "development_range"),
+                                                     _number(rng[1], "development_range")),
         information_value=float(raw.get("information_value", 0.0)))
 
 
@@ -196,6 +216,9 @@ def _check_consistent(card: Scorecard, source: str) -> None:
             raise InputError(f"{where}: a bin has an unknown kind")
         if any(not isinstance(b.points, int) or isinstance(b.points, bool) for b in c.bins):
             raise InputError(f"{where}: points must be integers")
+        rng = c.development_range
+        if rng is not None and not rng[0] <= rng[1]:
+            raise InputError(f"{where}: development_range runs from {rng[0]:g} down to {rng[1]:g}")
         ranges = [b for b in c.bins if b.kind == RANGE]
         if c.kind == "numeric":
             if list(c.cuts) != sorted(set(c.cuts)) or len(ranges) != len(c.cuts) + 1:
