@@ -248,14 +248,17 @@ def _open_source(card, path: Path, keep, encoding, delimiter, chunk_rows, block_
 
 
 def _batches(card, path: Path, keep, encoding, delimiter, chunk_rows, block_bytes, stack):
+    # Levels are read straight into dictionaries: one string per distinct level, not per row.
+    levels = [c.name for c in card.characteristics if c.kind == "categorical"]
     if path.is_dir():
-        dataset = pads.dataset(path, format="parquet")
+        form = pads.ParquetFileFormat(dictionary_columns=levels)
+        dataset = pads.dataset(path, format=form)
         columns = _needed(card, path, dataset.schema.names, keep)
         return dataset.schema, dataset.to_batches(columns=columns, batch_size=chunk_rows)
     suffix = path.suffix.lower()
     if suffix in PARQUET_SUFFIXES:
-        file = stack.enter_context(pq.ParquetFile(path))
-        columns = _needed(card, path, file.schema_arrow.names, keep)
+        columns = _needed(card, path, pq.read_schema(path).names, keep)
+        file = stack.enter_context(pq.ParquetFile(path, read_dictionary=levels))
         return file.schema_arrow, file.iter_batches(batch_size=chunk_rows, columns=columns)
     if suffix in CSV_SUFFIXES:
         reader = _csv_reader(card, path, keep, encoding, delimiter, block_bytes)

@@ -148,9 +148,10 @@ def apply_scorecard(card: Scorecard, frame: pd.DataFrame) -> Scores:
     if missing:
         raise InputError(f"column {missing[0]}: the scorecard needs it but the data lacks it")
     n, k = len(frame), len(card.characteristics)
-    codes = np.empty((n, k), dtype=np.int16)
-    points = np.empty((n, k), dtype=np.int64)
-    refused = np.zeros((n, k), dtype=bool)
+    # Column-major, so that each characteristic's column is one contiguous block.
+    codes = np.empty((n, k), dtype=np.int16, order="F")
+    points = np.empty((n, k), dtype=np.int64, order="F")
+    refused = np.zeros((n, k), dtype=bool, order="F")
     unusual = {}
     for j, (char, table) in enumerate(zip(card.characteristics, points_tables(card))):
         codes[:, j], unusual[char.name] = bin_codes(char, frame[char.name])
@@ -244,18 +245,28 @@ def reason_codes(card: Scorecard, points: np.ndarray, n: int = 4,
     chars = card.characteristics
     rows, m = len(points), len(labels)
     maxima = np.array([c.max_points for c in chars], dtype=np.int64)
-    shortfall = maxima - np.asarray(points, dtype=np.int64)
+    # Codes along the first axis, rows along the second: every step below is then an
+    # elementwise operation over long contiguous rows of numbers.
+    lost = maxima[:, None] - np.ascontiguousarray(np.asarray(points, dtype=np.int64).T)
     if m < len(chars):
-        member = np.zeros((len(chars), m), dtype=np.int64)
-        member[np.arange(len(chars)), group] = 1
-        shortfall = shortfall @ member
-    # One key per code: shortfall first, then earlier codes above later ones, so the keys of a
-    # row are distinct and any sort gives the stated order.
-    key = shortfall * m + (m - 1 - np.arange(m))
-    order = np.argsort(-key, axis=1)[:, :n]
-    lost = np.take_along_axis(shortfall, order, axis=1) > 0
+        member = np.zeros((m, len(chars)), dtype=np.int64)
+        member[group, np.arange(len(chars))] = 1
+        lost = member @ lost
+    # One key per code: the shortfall, then earlier codes above later ones. The keys of a row
+    # are distinct, and a key gives back its code (remainder) and its shortfall (quotient).
+    spread = sum(c.max_points - min(b.points for b in c.bins) for c in chars)
+    kind = np.int32 if (spread + 1) * m < np.iinfo(np.int32).max // 2 else np.int64
+    key = lost.astype(kind)
+    key *= m
+    key += (m - 1 - np.arange(m, dtype=kind))[:, None]
     index = np.full((rows, n), -1, dtype=np.int32)
-    index[:, :order.shape[1]] = np.where(lost, order, -1)
+    flat = key.reshape(-1)
+    every_row = np.arange(rows)
+    for rank in range(min(n, m)):
+        best = key.max(axis=0)
+        code = (m - 1) - best % m
+        index[:, rank] = np.where(best >= m, code, -1)   # best >= m: the shortfall is positive
+        flat[code * rows + every_row] = np.iinfo(kind).min
     if refused is not None and refused.any():
         hit = np.flatnonzero(refused.any(axis=1))
         mask = refused[hit]

@@ -1,0 +1,68 @@
+"""Scoring throughput: rows per second of ``scorecard score`` on a million invented rows.
+
+Builds the demo scorecard on 20,000 rows, draws ``--rows`` fresh applications from the same
+invented design, and times
+
+* scoring after the read: bin codes, points, score, bad probability and reasons for batches
+  already in memory (the target is at least a million rows per second), and
+* the whole command, Parquet to Parquet and CSV to CSV, reading and writing included.
+
+Run: ``python benchmarks/bench_score.py [--rows 1000000]``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import tempfile
+import time
+from pathlib import Path
+
+import pyarrow as pa
+import pyarrow.parquet as pq
+
+from scorecard.build import build_scorecard
+from scorecard.config import load_config
+from scorecard.demo import write_demo
+from scorecard.demo_data import make_applications
+from scorecard.run import open_engine
+from scorecard.score_file import CHUNK_ROWS, score_file, scored_batch
+
+
+def _timed(label: str, rows: int, work) -> float:
+    start = time.perf_counter()
+    work()
+    seconds = time.perf_counter() - start
+    print(f"{label:38s} {seconds:7.2f} s  {rows / seconds / 1e6:6.2f} million rows/s")
+    return seconds
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--rows", type=int, default=1_000_000)
+    args = parser.parse_args()
+    folder = Path(tempfile.mkdtemp(prefix="bench-score-"))
+    config = load_config(write_demo(folder / "demo", rows=20_000))
+    card = build_scorecard(config, open_engine(config)).card
+    frame = make_applications(rows=args.rows, seed=99, drift=False)
+    table = pa.Table.from_pandas(frame, preserve_index=False)
+    for name in frame.columns:
+        if pa.types.is_large_string(table.schema.field(name).type):
+            table = table.set_column(table.schema.get_field_index(name), name,
+                                     table.column(name).dictionary_encode())
+    parquet, csv = folder / "rows.parquet", folder / "rows.csv"
+    pq.write_table(table, parquet, row_group_size=CHUNK_ROWS)
+    frame.to_csv(csv, index=False)
+    batches = table.to_batches(max_chunksize=CHUNK_ROWS)
+    print(f"{args.rows} rows, {len(card.characteristics)} characteristics, "
+          f"{len(batches)} chunks of at most {CHUNK_ROWS} rows, files in {folder}")
+
+    _timed("scoring after the read", args.rows,
+           lambda: [scored_batch(card, b, ("application_id",)) for b in batches])
+    _timed("score Parquet -> Parquet (whole command)", args.rows,
+           lambda: score_file(card, parquet, folder / "scored.parquet", keep=("application_id",)))
+    _timed("score CSV -> CSV (whole command)", args.rows,
+           lambda: score_file(card, csv, folder / "scored.csv", keep=("application_id",)))
+
+
+if __name__ == "__main__":
+    main()
