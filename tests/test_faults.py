@@ -82,8 +82,6 @@ def test_a_build_failing_while_writing_the_workbook_leaves_the_old_outputs(case,
     assert leftovers(case) == []
 
 
-@pytest.mark.xfail(strict=True, reason="run.build moves the new workbook into place before the "
-                   "model is written: a failure in between pairs a new workbook with the old model")
 def test_a_build_failing_while_writing_the_model_leaves_the_old_workbook(case, monkeypatch):
     def half_write(path, text):
         with atomic_path(path) as tmp:
@@ -129,9 +127,6 @@ def test_a_build_killed_while_writing_leaves_the_old_outputs(case, signal_name):
     assert previous_outputs_intact(case)
 
 
-@pytest.mark.xfail(strict=True, reason="a terminated build leaves its .partial temp file: SIGTERM "
-                   "ends Python without running atomic_path's cleanup (cli could turn SIGTERM into "
-                   "SystemExit, or a build could sweep stale .partial files of its outputs)")
 def test_a_terminated_build_leaves_no_temporary_file(case):
     done = run_killed(case, "SIGTERM")
     assert done.returncode == -signal.SIGTERM
@@ -197,8 +192,6 @@ def test_scoring_refuses_to_write_over_its_input(case):
 
 
 @pytest.mark.parametrize("option", ["--model", "--workbook"])
-@pytest.mark.xfail(strict=True, reason="run.build writes its outputs wherever told, even over the "
-                   "data file it read (nothing compares the output paths with data.source)")
 def test_a_build_refuses_to_write_over_its_data(case, option):
     data = case / "applications.csv"
     before = fingerprint(data)

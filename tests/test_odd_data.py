@@ -127,8 +127,6 @@ def test_mixed_numbers_and_text_are_read_as_text_and_kept_out(tmp_path):
     assert "income" not in result.card.names
 
 
-@pytest.mark.xfail(strict=True, reason="build._layouts reports a number column holding some text "
-                   "as 'identifier-like: N distinct levels', not as numbers mixed with text")
 def test_mixed_numbers_and_text_are_reported_as_such(tmp_path):
     result = build(via_csv(mixed_frame(), tmp_path), tmp_path)
     reason = report(result, "income").reason
