@@ -43,21 +43,31 @@ def candidate_cuts(minimum: float, maximum: float) -> np.ndarray:
     """
     if not (np.isfinite(minimum) and np.isfinite(maximum)) or maximum <= minimum:
         return np.empty(0)
+    top = math.floor(math.log10(max(abs(minimum), abs(maximum))))
+    mantissas = np.arange(10, 100) / 10.0
+    magnitudes = 10.0 ** np.arange(top - LOG_DECADES, top + 1)
+    with np.errstate(over="ignore"):    # near the largest double some candidates are infinite
+        log = _round_values(np.outer(magnitudes, mantissas).ravel(), 2)
+    grid = np.unique(np.concatenate([_even_values(minimum, maximum), log, -log, [0.0]]))
+    return grid[(grid > minimum) & (grid <= maximum)]
+
+
+def _even_values(minimum: float, maximum: float) -> np.ndarray:
+    """Multiples of a round step (1, 2 or 5 times a power of ten) across the range."""
     span = maximum - minimum
+    # A span that overflows, or is too small to divide, has no even step worth a cut.
+    if not (math.isfinite(span) and span / GRID_STEPS > 0):
+        return np.empty(0)
     step = 10.0 ** math.floor(math.log10(span / GRID_STEPS))
+    if step == 0:
+        return np.empty(0)
     for nice in (1.0, 2.0, 5.0):
         if span / (step * nice) <= GRID_STEPS * 2:
             step *= nice
             break
     first = math.floor(minimum / step) + 1
     count = int(math.floor(maximum / step)) - first + 1
-    even = _round_values((first + np.arange(max(count, 0))) * step, 12)
-    top = math.floor(math.log10(max(abs(minimum), abs(maximum))))
-    mantissas = np.arange(10, 100) / 10.0
-    magnitudes = 10.0 ** np.arange(top - LOG_DECADES, top + 1)
-    log = _round_values(np.outer(magnitudes, mantissas).ravel(), 2)
-    grid = np.unique(np.concatenate([even, log, -log, [0.0]]))
-    return grid[(grid > minimum) & (grid <= maximum)]
+    return _round_values((first + np.arange(max(count, 0))) * step, 12)
 
 
 class NumericLayout(NamedTuple):
@@ -88,7 +98,7 @@ class _BucketTable(NamedTuple):
     last: int
     before: np.ndarray  # cuts in buckets before each bucket, first to last
     steps: int          # most cuts in one bucket
-    cuts: np.ndarray    # the cuts, then +inf, so a look one past the last cut is safe
+    cuts: np.ndarray    # the cuts, then NaN: a look past the last cut is safe and never true
 
 
 def _buckets(x: np.ndarray, low: int, shift: int) -> np.ndarray:
@@ -118,7 +128,8 @@ def _bucket_table(cuts: np.ndarray) -> _BucketTable | None:
     shift = int(np.log2(gaps.min())) if len(gaps) else 0
     while True:
         bucket = _buckets(cuts, low, shift)
-        if bucket[-1] - bucket[0] < _MAX_TABLE:
+        # In Python integers: the span of buckets can exceed what an int64 difference holds.
+        if int(bucket[-1]) - int(bucket[0]) < _MAX_TABLE:
             break
         shift += 1
     steps = int(np.bincount(bucket - bucket[0]).max())
@@ -126,7 +137,7 @@ def _bucket_table(cuts: np.ndarray) -> _BucketTable | None:
         return None
     first, last = int(bucket[0]), int(bucket[-1])
     before = np.searchsorted(bucket, np.arange(first, last + 1), side="left")
-    return _BucketTable(low, shift, first, last, before, steps, np.append(cuts, np.inf))
+    return _BucketTable(low, shift, first, last, before, steps, np.append(cuts, np.nan))
 
 
 def grid_cells(x: np.ndarray, cuts: np.ndarray) -> np.ndarray:

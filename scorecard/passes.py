@@ -24,6 +24,7 @@ from .scoring import bin_codes, categorical_codes, level_labels, numeric_values
 
 N_SAMPLES = 3  # development, holdout, out of time
 MAX_THREADS = 4
+_THREAD_ROWS = 50_000   # below this a chunk is coded faster than threads start
 # Rows per block when laying per-characteristic codes side by side: a block of the code matrix
 # then stays in cache while every column is written into it.
 _FILL_ROWS = 1 << 16
@@ -46,8 +47,8 @@ def pass_threads() -> int:
     return max(1, min(MAX_THREADS, cores))
 
 
-def _each(fn, items: list) -> list:
-    if len(items) < 2 or pass_threads() == 1:
+def _each(fn, items: list, rows: int) -> list:
+    if len(items) < 2 or rows < _THREAD_ROWS or pass_threads() == 1:
         return [fn(item) for item in items]
     with ThreadPoolExecutor(pass_threads()) as pool:
         return list(pool.map(fn, items))
@@ -63,7 +64,7 @@ def column_summary(frame: pd.DataFrame, kinds: dict, special_values: dict) -> di
         cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
         seen = np.bincount(cat.cat.codes.to_numpy() + 1, minlength=len(cat.cat.categories) + 1)
         return name, frozenset(level_labels(cat.cat.categories[seen[1:] > 0]))
-    return dict(_each(one, list(kinds.items())))
+    return dict(_each(one, list(kinds.items()), len(frame)))
 
 
 def merge_summaries(a: dict, b: dict) -> dict:
@@ -121,7 +122,7 @@ def fine_counts(frame: pd.DataFrame, rows: RowFacts, layouts: dict) -> dict:
         goods, bads = counted(np.where(idx < 0, len(layout), idx), len(layout) + 1)
         return name, FineCounts(goods, bads, None)
 
-    return dict(_each(one, list(layouts.items())))
+    return dict(_each(one, list(layouts.items()), len(frame)))
 
 
 def merge_fine(a: dict, b: dict) -> dict:
@@ -151,7 +152,7 @@ def coded_patterns(frame: pd.DataFrame, rows: RowFacts, drafts) -> Patterns:
         return codes if every else codes[keep]
 
     columns = [rows.sample if every else rows.sample[keep],
-               rows.label if every else rows.label[keep]] + _each(one, list(drafts))
+               rows.label if every else rows.label[keep]] + _each(one, list(drafts), len(frame))
     radix = pattern_radix(drafts)
     weight = rows.weight if every else rows.weight[keep]
     return distinct_patterns(_side_by_side(columns), radix, [weight])
