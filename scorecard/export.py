@@ -6,6 +6,7 @@ from pathlib import Path
 
 import click
 
+from .errors import InputError
 from .model import load_scorecard
 
 
@@ -26,7 +27,7 @@ def export_command(model, form, out, table, keep, reasons):
     card = load_scorecard(model)
     if form == "pmml":
         if keep:
-            raise click.UsageError("--keep applies to --format sql only")
+            raise InputError("--keep: applies to --format sql only")
         from .export_pmml import write_pmml
         write_pmml(card, out, reasons)
     else:

@@ -7,6 +7,7 @@ by construction.
 
 from __future__ import annotations
 
+import re
 from typing import NamedTuple
 
 import numpy as np
@@ -43,10 +44,35 @@ def numeric_values(series: pd.Series, name: str) -> np.ndarray:
     return series.to_numpy(dtype=np.float64, na_value=np.nan)
 
 
+_NUMBER = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?")
+
+
+def _number_label(text: str) -> str | None:
+    """The label a numeric-looking level gets when a reader parses it as a number."""
+    return level_labels([float(text)])[0] if _NUMBER.fullmatch(text) else None
+
+
 def categorical_codes(series: pd.Series, levels) -> np.ndarray:
-    """Index of each row's level in ``levels``; -1 for missing, -2 for a level not in ``levels``."""
+    """Index of each row's level in ``levels``; -1 for missing, -2 for a level not in ``levels``.
+
+    Levels match by text. A text that matches no level but reads as a number is looked up by
+    the label of that number (``"01"`` and ``"1.0"`` find level ``"1"``): a CSV reader that
+    infers types turns such a column into numbers, so the levels of a model built from it
+    are number labels, while a reader that keeps text sees the digits as written. The lookup
+    works on the distinct levels only, never per row.
+
+    Examples
+    --------
+    >>> categorical_codes(pd.Series(["b", "01", None, "z"]), ["1", "b"]).tolist()
+    [1, 0, -1, -2]
+    """
     cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
-    lookup = pd.Index(list(levels)).get_indexer(level_labels(cat.cat.categories))
+    index = pd.Index(list(levels))
+    labels = level_labels(cat.cat.categories)
+    lookup = index.get_indexer(labels)
+    unknown = np.flatnonzero(lookup < 0)
+    if len(unknown) and len(index):
+        lookup[unknown] = index.get_indexer([_number_label(labels[i]) for i in unknown])
     lookup = np.where(lookup < 0, -2, lookup)
     codes = cat.cat.codes.to_numpy()
     return np.where(codes < 0, -1, lookup[codes] if len(lookup) else -2)

@@ -40,7 +40,7 @@ def _values(series: pd.Series) -> list:
 
 @pytest.fixture(scope="module")
 def scored_demo(demo_config_path, demo_build, tmp_path_factory):
-    """The demo rows, and the same rows scored by ``scorecard score`` (every row, holdout included)."""
+    """The demo rows and the same rows scored by ``scorecard score`` (holdout included)."""
     folder = tmp_path_factory.mktemp("export")
     source = demo_config_path.parent / "applications.csv"
     out = folder / "scored.parquet"
@@ -260,3 +260,4 @@ def test_export_command_writes_pmml_and_sql_and_bad_input_is_one_error_line(tmp_
     usage = runner.invoke(main, ["export", str(model), "--format", "pmml", "--out",
                                  str(tmp_path / "y.pmml"), "--keep", "id"])
     assert usage.exit_code == 2 and not (tmp_path / "y.pmml").exists()
+    assert usage.stderr == "error: --keep: applies to --format sql only\n"

@@ -125,7 +125,8 @@ def cards_and_points(draw):
     k = draw(st.integers(1, 6))
     shapes = [draw(st.sampled_from(POINT_CHOICES)) for _ in range(k)]
     codes = [draw(st.sampled_from(["R1", "R2", "R3", "R4", "R5"])) for _ in range(k)]
-    card = card_of(*(numeric(f"x{j}", code, pts) for j, (code, pts) in enumerate(zip(codes, shapes))))
+    card = card_of(*(numeric(f"x{j}", code, pts)
+                     for j, (code, pts) in enumerate(zip(codes, shapes))))
     rows = draw(st.integers(1, 12))
     picks = draw(arrays(np.int64, (rows, k), elements=st.integers(0, 2)))
     points = np.array([[shapes[j][min(i, len(shapes[j]) - 1)] for j, i in enumerate(r)]

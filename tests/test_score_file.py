@@ -13,11 +13,12 @@ from click.testing import CliRunner
 from scorecard.build import build_scorecard
 from scorecard.cli import main
 from scorecard.config import load_config
-from scorecard.data import GOOD, BAD, SAMPLE_NAMES, assign_samples, code_outcome, parse_dates, read_frame
+from scorecard.data import (BAD, GOOD, SAMPLE_NAMES, assign_samples, code_outcome, parse_dates,
+                            read_frame)
 from scorecard.demo import write_demo
 from scorecard.errors import InputError
-from scorecard.model import LEVELS, MISSING, RANGE, UNSEEN
-from scorecard.points import attribute_points
+from scorecard.model import LEVELS, MISSING, RANGE, UNSEEN, Bin, Characteristic, Scorecard
+from scorecard.points import attribute_points, scaling
 from scorecard.run import open_engine
 from scorecard.score_file import score_file
 from scorecard.scoring import apply_scorecard, reasons
@@ -229,19 +230,21 @@ def test_each_unseen_value_rule_scores_or_refuses_as_configured(small_demo, rule
             assert scored.loc[row, "reason_1"] == f"REJECTED:{char.name}"
         else:
             assert scored.loc[row, f"points_{char.name}"] == points[rule], (row, rule)
-            assert scored.loc[row, "score"] == scored.loc[row, [f"points_{n}" for n in card.names]].sum()
+            total = scored.loc[row, [f"points_{n}" for n in card.names]].sum()
+            assert scored.loc[row, "score"] == total
     assert not pd.isna(scored.loc[0, "score"])
 
     assert summary.unusual[level_char.name].unseen_levels == 1
     assert summary.unusual[missing_char.name].unseen_missing == 1
     assert summary.unusual[range_char.name].out_of_range == 2
-    refused = {level_char.name: unseen_level == "reject", missing_char.name: unseen_missing == "reject",
+    refused = {level_char.name: unseen_level == "reject",
+               missing_char.name: unseen_missing == "reject",
                range_char.name: 2 * (out_of_range == "reject")}
     assert {n: summary.refused[n] for n in refused} == {n: int(v) for n, v in refused.items()}
     assert summary.rejected == sum(int(v) for v in refused.values())
     lines = summary.text().splitlines()
-    treatment = "refused" if out_of_range == "reject" else (
-        "end range bins" if out_of_range == "edge" else f"{expected[3, range_char][out_of_range]} points")
+    treatment = {"reject": "refused", "edge": "end range bins"}.get(
+        out_of_range, f"{expected[3, range_char].get(out_of_range)} points")
     assert f"  {range_char.name}: values outside the development range: 2 ({treatment})" in lines
 
 
@@ -286,6 +289,21 @@ def test_bad_data_names_the_column_or_file(demo, tmp_path, change, message):
     assert not (tmp_path / "out.csv").exists()
 
 
+def test_numeric_looking_levels_find_the_number_labels_a_model_built_from_csv_has(tmp_path):
+    # read_frame parses a column of digits as numbers, so a model built from it labels the
+    # levels "1", "2", "10"; scoring reads the CSV text as written ("01", "10.0").
+    bins = (Bin("1", LEVELS, 10, 5, 0.1, 30, levels=("1", "10")),
+            Bin("2", LEVELS, 10, 5, -0.1, 20, levels=("2",)),
+            Bin("missing", MISSING, 0, 0, 0.0, 25), Bin("unseen", UNSEEN, 0, 0, 0.0, 25))
+    region = Characteristic("region", "categorical", bins, 1.0, "R1", "region")
+    card = Scorecard("codes", scaling(600, 50, 20), 0.0, (region,))
+    data = tmp_path / "codes.csv"
+    data.write_text("id,region\n1,01\n2,2\n3,10.0\n4,3\n5,\n6,2.5\n")
+    summary = score_file(card, data, tmp_path / "out.csv")
+    assert pd.read_csv(tmp_path / "out.csv")["score"].tolist() == [30, 20, 30, 25, 25, 25]
+    assert summary.unusual["region"].unseen_levels == 2
+
+
 def test_a_parquet_file_without_a_characteristic_is_an_input_error(demo, tmp_path):
     card, source, _, _ = demo
     data = tmp_path / "no-housing.parquet"
@@ -316,5 +334,5 @@ def test_a_file_of_no_rows_gives_a_header_only(demo, tmp_path):
     data.write_text(source.read_text().splitlines()[0] + "\n")
     summary = score_file(card, data, tmp_path / "out.csv", keep=["application_id"])
     assert summary.rows == 0
-    assert (tmp_path / "out.csv").read_text().splitlines() == [
-        ",".join(f'"{c}"' for c in ["application_id"] + pd.read_csv(whole, nrows=0).columns[3:].tolist())]
+    columns = ["application_id"] + pd.read_csv(whole, nrows=0).columns[3:].tolist()
+    assert (tmp_path / "out.csv").read_text().splitlines() == [",".join(f'"{c}"' for c in columns)]
