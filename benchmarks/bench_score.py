@@ -40,10 +40,14 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--rows", type=int, default=1_000_000)
     args = parser.parse_args()
-    folder = Path(tempfile.mkdtemp(prefix="bench-score-"))
+    with tempfile.TemporaryDirectory(prefix="bench-score-") as folder:
+        run(Path(folder), args.rows)
+
+
+def run(folder: Path, rows: int) -> None:
     config = load_config(write_demo(folder / "demo", rows=20_000))
     card = build_scorecard(config, open_engine(config)).card
-    frame = make_applications(rows=args.rows, seed=99, drift=False)
+    frame = make_applications(rows=rows, seed=99, drift=False)
     table = pa.Table.from_pandas(frame, preserve_index=False)
     for name in frame.columns:
         if pa.types.is_large_string(table.schema.field(name).type):
@@ -53,14 +57,14 @@ def main() -> None:
     pq.write_table(table, parquet, row_group_size=CHUNK_ROWS)
     frame.to_csv(csv, index=False)
     batches = table.to_batches(max_chunksize=CHUNK_ROWS)
-    print(f"{args.rows} rows, {len(card.characteristics)} characteristics, "
-          f"{len(batches)} chunks of at most {CHUNK_ROWS} rows, files in {folder}")
+    print(f"{rows} rows, {len(card.characteristics)} characteristics, "
+          f"{len(batches)} chunks of at most {CHUNK_ROWS} rows")
 
-    _timed("scoring after the read", args.rows,
+    _timed("scoring after the read", rows,
            lambda: [scored_batch(card, b, ("application_id",)) for b in batches])
-    _timed("score Parquet -> Parquet (whole command)", args.rows,
+    _timed("score Parquet -> Parquet (whole command)", rows,
            lambda: score_file(card, parquet, folder / "scored.parquet", keep=("application_id",)))
-    _timed("score CSV -> CSV (whole command)", args.rows,
+    _timed("score CSV -> CSV (whole command)", rows,
            lambda: score_file(card, csv, folder / "scored.csv", keep=("application_id",)))
 
 
