@@ -635,7 +635,8 @@ def _syntax_message(file: str, text: str, error: yaml.YAMLError) -> str:
         mark = error.problem_mark or error.context_mark
         problem = ", ".join(part for part in (error.context, error.problem) if part)
         opened = error.context_mark
-        if opened is not None and mark is not None and opened.line != mark.line:
+        if opened is not None and mark is not None and opened.line != mark.line \
+                and (error.context or "").startswith("while"):
             # An unclosed bracket or quote is noticed lines later; its start is what to fix.
             problem += f" (it started at line {opened.line + 1})"
         return _message(file, "", f"YAML syntax error: {problem}", mark.line + 1 if mark else None)
