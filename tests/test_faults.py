@@ -125,12 +125,10 @@ def test_a_build_killed_while_writing_leaves_the_old_outputs(case, signal_name):
     done = run_killed(case, signal_name)
     assert done.returncode == -getattr(signal, signal_name), done.stderr
     assert previous_outputs_intact(case)
-
-
-def test_a_terminated_build_leaves_no_temporary_file(case):
-    done = run_killed(case, "SIGTERM")
-    assert done.returncode == -signal.SIGTERM
-    assert leftovers(case) == []
+    # A terminated build removes its temporary file; SIGKILL cannot be caught, so there the
+    # half-written temporary file may stay (it never replaces an output).
+    if signal_name == "SIGTERM":
+        assert leftovers(case) == []
 
 
 def expected_model(config_path: Path) -> str:
