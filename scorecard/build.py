@@ -219,10 +219,16 @@ def _with_counts(draft: Characteristic, table: np.ndarray, limits) -> Characteri
     return Characteristic(**{**draft.__dict__, "bins": bins})
 
 
-def _unseen_rules(char: Characteristic, rules) -> Characteristic:
-    """Apply the config's rules to bins the development sample never filled."""
-    estimated = [b.woe for b in char.bins if b.kind in (RANGE, LEVELS) and b.count > 0]
-    worst = min(estimated) if estimated else 0.0
+def _unseen_rules(char: Characteristic, rules, coefficient: float = 1.0) -> Characteristic:
+    """Apply the config's rules to bins the development sample never filled.
+
+    'worst' takes the weight of evidence of the estimated bin with the fewest points, which
+    depends on the sign of the coefficient, so the build applies the rules again once the
+    coefficient is known.
+    """
+    estimated = [b.woe for b in char.bins
+                 if b.count > 0 and (b.kind in (RANGE, LEVELS) or not b.note)]
+    worst = min(estimated, key=lambda w: coefficient * w) if estimated else 0.0
     bins = []
     for b in char.bins:
         rule = None
@@ -257,6 +263,7 @@ def _scale(config, selection, chosen: list) -> Scorecard:
     chars, exact = [], []
     for i, char in enumerate(chosen, start=1):
         beta = float(coef[char.name])
+        char = _unseen_rules(char, config.scoring, beta)
         pts = attribute_points([b.woe for b in char.bins], beta, intercept, k, scale)
         override = config.characteristics.get(char.name)
         code = (override.reason_code if override is not None and override.reason_code else f"R{i:02d}")
@@ -268,7 +275,7 @@ def _scale(config, selection, chosen: list) -> Scorecard:
     d = config.data
     target = {"column": d.target, "bad": list(d.bad), "good": list(d.good)}
     return Scorecard(config.name, scale, intercept, tuple(chars), target,
-                     largest_rounding_change(exact))
+                     largest_rounding_change(exact), config.scoring.reasons)
 
 
 def _histograms(card: Scorecard, patterns, names) -> dict:
@@ -276,12 +283,15 @@ def _histograms(card: Scorecard, patterns, names) -> dict:
     cols = [2 + names.index(c.name) for c in card.characteristics]
     tables = [np.array([b.points for b in c.bins], dtype=np.int64) for c in card.characteristics]
     score = np.zeros(len(patterns.codes), dtype=np.int64)
-    for col, table in zip(cols, tables):
+    refused = np.zeros(len(patterns.codes), dtype=bool)
+    for col, table, char in zip(cols, tables, card.characteristics):
         score += table[patterns.codes[:, col]]
+        refused |= np.array([b.rejected for b in char.bins])[patterns.codes[:, col]]
     low, high = card.min_score, card.max_score
     out = {}
     for code, name in SAMPLE_NAMES.items():
-        mask = patterns.codes[:, 0] == code
+        # Rows the scorecard refuses get no score in production, so none here either.
+        mask = (patterns.codes[:, 0] == code) & ~refused
         if not mask.any():
             continue
         at = score[mask] - low

@@ -119,12 +119,17 @@ def init(data, target, out):
 @click.option("--out", required=True, type=click.Path(dir_okay=False, path_type=Path),
               help="Scored file (.csv or .parquet).")
 @click.option("--keep", multiple=True, help="Input column to copy to the output (repeatable).")
-@click.option("--reasons", type=click.IntRange(min=0), default=4, show_default=True,
-              help="Reason codes per row.")
-def score(model, data, out, keep, reasons):
+@click.option("--reasons", type=click.IntRange(min=0), default=None,
+              help="Reason codes per row [default: the model's, from scoring.reasons].")
+@click.option("--reason-text", is_flag=True, help="Write each reason's text instead of its code.")
+def score(model, data, out, keep, reasons, reason_text):
     """Apply a built scorecard MODEL to the rows of DATA."""
+    from .model import load_scorecard
     from .score_file import score_file
-    summary = score_file(model, data, out, keep=keep, reasons=reasons)
+    card = load_scorecard(model)
+    summary = score_file(card, data, out, keep=keep,
+                         reasons=card.reasons if reasons is None else reasons,
+                         reason_text=reason_text)
     click.echo(summary.text())
 
 

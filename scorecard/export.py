@@ -20,11 +20,12 @@ from .model import load_scorecard
               help="sql: the table of applications to score.")
 @click.option("--keep", multiple=True,
               help="sql: a column of the table to copy to the result, e.g. its key (repeatable).")
-@click.option("--reasons", type=click.IntRange(min=0), default=4, show_default=True,
-              help="Reason codes per row.")
+@click.option("--reasons", type=click.IntRange(min=0), default=None,
+              help="Reason codes per row [default: the model's, from scoring.reasons].")
 def export_command(model, form, out, table, keep, reasons):
     """Write the scorecard MODEL in a deployable form: PMML or SQL."""
     card = load_scorecard(model)
+    reasons = card.reasons if reasons is None else reasons
     if form == "pmml":
         if keep:
             raise InputError("--keep: applies to --format sql only")

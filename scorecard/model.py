@@ -97,6 +97,7 @@ class Scorecard:
     characteristics: tuple[Characteristic, ...]
     target: dict = field(default_factory=dict)
     rounding_change: float = 0.0
+    reasons: int = 4                 # reason codes per scored row unless the caller says otherwise
 
     @property
     def names(self) -> tuple[str, ...]:
@@ -113,7 +114,8 @@ class Scorecard:
     def to_dict(self) -> dict:
         return {"format_version": FORMAT_VERSION, "name": self.name,
                 "scaling": self.scaling._asdict(), "intercept": self.intercept,
-                "rounding_change": self.rounding_change, "target": self.target,
+                "rounding_change": self.rounding_change, "reasons": self.reasons,
+                "target": self.target,
                 "characteristics": [_characteristic_dict(c) for c in self.characteristics]}
 
     def to_json(self) -> str:
@@ -156,7 +158,8 @@ def _scorecard_from_dict(raw, source: str) -> Scorecard:
         scale = Scaling(**{k: _number(v, f"scaling.{k}") for k, v in raw["scaling"].items()})
         chars = tuple(_characteristic_from_dict(c) for c in raw["characteristics"])
         card = Scorecard(str(raw["name"]), scale, float(raw["intercept"]), chars,
-                         dict(raw.get("target", {})), float(raw.get("rounding_change", 0.0)))
+                         dict(raw.get("target", {})), float(raw.get("rounding_change", 0.0)),
+                         _count(raw.get("reasons", 4), "reasons"))
     except (KeyError, TypeError, ValueError) as exc:
         raise InputError(f"{source}: model file is incomplete or malformed ({exc})") from None
     _check_consistent(card, source)
@@ -167,6 +170,12 @@ def _number(value, key: str) -> float:
     if isinstance(value, bool) or not isinstance(value, (int, float)):
         raise ValueError(f"{key} must be a number, not {value!r}")
     return float(value)
+
+
+def _count(value, key: str) -> int:
+    if isinstance(value, bool) or not isinstance(value, int) or value < 0:
+        raise ValueError(f"{key} must be a whole number >= 0, not {value!r}")
+    return value
 
 
 def _levels(value) -> tuple[str, ...]:
