@@ -316,8 +316,12 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
     facts = _sample_facts(rows)
     dev_goods, dev_bads = facts.goods["development"], facts.bads["development"]
     if dev_goods <= 0 or dev_bads <= 0:
+        held = engine.reduce(lambda c: column_summary(c, {config.data.target: "categorical"}, {}),
+                             merge_summaries)[config.data.target]
+        shown = ", ".join(sorted(map(repr, held))[:8]) or "none"
         raise InputError(f"column {config.data.target}: the development sample needs both goods "
-                         f"and bads (found {dev_goods:g} goods, {dev_bads:g} bads)")
+                         f"and bads (found {dev_goods:g} goods, {dev_bads:g} bads); data.bad and "
+                         f"data.good must name values the column holds: {shown}")
     _say(progress, f"outcome coded: {facts.rows_read} rows, {facts.left_out} left out")
 
     specials = {n: _specials(config, n) for n, k in kinds.items() if k == "numeric"}
