@@ -33,6 +33,7 @@ CONNECT_TIMEOUT = "20s"
 
 def parquet_files(source) -> list[Path]:
     """The Parquet files of ``source`` in the order the local reader takes them."""
+    import pyarrow as pa
     import pyarrow.dataset as pads
 
     path = Path(source)
@@ -43,7 +44,11 @@ def parquet_files(source) -> list[Path]:
             raise InputError(f"{path}: the Dask engine reads Parquet (a .parquet file or a folder "
                              "of them); write the data as Parquet or use engine: local")
         return [path]
-    files = [Path(f) for f in pads.dataset(path, format="parquet").files]
+    try:
+        files = [Path(f) for f in pads.dataset(path, format="parquet").files]
+    except (pa.ArrowInvalid, OSError) as exc:
+        first = (str(exc).strip().splitlines() or [type(exc).__name__])[0]
+        raise InputError(f"{path}: cannot read the Parquet data: {first}") from None
     if not files:
         raise InputError(f"{path}: the folder holds no Parquet files")
     return files

@@ -22,6 +22,7 @@ from .passes import RowFacts
 
 # What a pass does, by the name of the pass function, for the progress line.
 PASS_NAMES = {
+    "code_outcome": "coding the outcome",
     "column_summary": "summarising columns",
     "fine_counts": "counting fine classes",
     "coded_patterns": "coding rows into patterns",

@@ -198,14 +198,18 @@ def test_a_local_cluster_has_two_worker_processes_and_closes(parquet_demo):
 @pytest.mark.parametrize("name, message", [
     ("data.csv", "the Dask engine reads Parquet"),
     ("empty_folder", "holds no Parquet files"),
+    ("folder_with_notes", "cannot read the Parquet data"),
     ("absent.parquet", "data file not found"),
 ])
 def test_a_source_the_dask_engine_cannot_read_is_named(tmp_path, name, message):
     path = tmp_path / name
     if name == "data.csv":
         path.write_text("a,b\n1,2\n")
-    elif name == "empty_folder":
+    elif name.endswith("folder"):
         path.mkdir()
+    elif name == "folder_with_notes":
+        path.mkdir()
+        (path / "notes.txt").write_text("not a Parquet file")
     with pytest.raises(InputError, match=message) as caught:
         parquet_files(path)
     assert str(path) in str(caught.value)

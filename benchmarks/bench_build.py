@@ -1,0 +1,305 @@
+"""How fast and how lean a build is, measured in one run so the ratios share the machine's load.
+
+    python benchmarks/bench_build.py [--dir DIR] [--rows 1000000] [--dask-rows 20000000]
+
+Writes invented rows (see ``synthetic.py``; fixed seed) as Parquet and CSV, then reports:
+
+a. reading the Parquet file into memory against ``scorecard build`` end to end (workbook and
+   model file written), both in this process;
+b. a plain reference pipeline on the same rows: decile bins by ``pandas.qcut``, weights of
+   evidence from ``pandas.crosstab``, a ``statsmodels`` Logit on the full WoE matrix, points
+   by the same scaling; against the build;
+c. the peak memory of a build run alone in a child process;
+d. a build of one tenth of the rows against the full build;
+e. ``scorecard score`` of the rows with the built model (Parquet in, Parquet out), in rows per
+   second after the time a plain read of the file takes;
+f. with ``--dask-rows``: a build of that many rows, as a folder of Parquet files, on a local
+   Dask cluster, with the peak memory of the whole process tree.
+"""
+
+from __future__ import annotations
+
+import argparse
+import contextlib
+import json
+import math
+import subprocess
+import sys
+import tempfile
+import threading
+import time
+from pathlib import Path
+from typing import NamedTuple
+
+import numpy as np
+import pandas as pd
+
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+import synthetic  # noqa: E402
+
+SEED = 11
+TARGETS = {
+    "build / read": ("<=", 5.0),
+    "reference / build": (">=", 15.0),
+    "build peak memory (GB)": ("<=", 1.0),
+    "full / tenth build time": ("<=", 12.0),
+    "scoring rows per second": (">=", 1e6),
+    "Dask build peak memory (GB)": ("<=", 3.0),
+}
+
+# The child reports its own peak from VmHWM: ru_maxrss survives exec, so a child forked from this
+# big process would report this process's size instead of its own.
+CHILD_BUILD = """
+import json, sys, time
+from pathlib import Path
+from scorecard.progress import StageLog
+from scorecard.run import build
+start = time.perf_counter()
+build(sys.argv[1], progress=StageLog())
+seconds = time.perf_counter() - start
+status = Path("/proc/self/status").read_text().splitlines()
+peak_kb = next(int(line.split()[1]) for line in status if line.startswith("VmHWM:"))
+print(json.dumps({"seconds": seconds, "peak_kb": peak_kb}))
+"""
+
+
+def timed(fn, *args, **kwargs):
+    start = time.perf_counter()
+    out = fn(*args, **kwargs)
+    return time.perf_counter() - start, out
+
+
+class StageTimes:
+    """Progress callback that keeps each stage line with the time since the build began."""
+
+    def __init__(self):
+        self.start = time.perf_counter()
+        self.lines = []
+
+    def __call__(self, text):
+        self.lines.append((time.perf_counter() - self.start, text))
+
+
+def prepare(folder: Path, rows: int, dask_rows: int | None) -> dict:
+    """Data files and configs, reused when a previous run left them in ``folder``."""
+    folder.mkdir(parents=True, exist_ok=True)
+    paths = {}
+    for key, n in (("full", rows), ("tenth", rows // 10)):
+        parquet = folder / f"rows_{n}_seed{SEED}.parquet"
+        if not parquet.exists():
+            print(f"writing {n:,} rows to {parquet}", file=sys.stderr)
+            synthetic.write_parquet(parquet, n, SEED)
+        paths[key] = synthetic.write_config(folder / f"{key}.yaml", parquet, n)
+        paths[f"{key} parquet"] = parquet
+    csv = folder / f"rows_{rows}_seed{SEED}.csv"
+    if not csv.exists():
+        synthetic.write_csv(csv, paths["full parquet"])
+    paths["csv"] = csv
+    if dask_rows:
+        parts = folder / f"rows_{dask_rows}_seed{SEED}_parts"
+        if not parts.with_suffix(".done").exists():
+            print(f"writing {dask_rows:,} rows to {parts}", file=sys.stderr)
+            synthetic.write_parquet_folder(parts, dask_rows, SEED, file_rows=1_000_000)
+            parts.with_suffix(".done").write_text("")
+        paths["dask"] = synthetic.write_config(folder / "dask.yaml", parts, dask_rows,
+                                               engine="{dask: local}")
+    return paths
+
+
+def reference_pipeline(frame: pd.DataFrame, special_value=synthetic.SPECIAL_VALUE) -> dict:
+    """The plain way: decile bins, crosstab WoE, one Logit on every WoE column, points."""
+    import statsmodels.api as sm
+    from scorecard.points import scaling
+
+    is_bad = (frame["outcome"] == "bad").to_numpy()
+    woe_columns, tables = {}, {}
+    for name in frame.columns.drop("outcome"):
+        column = frame[name]
+        if isinstance(column.dtype, pd.CategoricalDtype):
+            labels = column.cat.add_categories(["missing"]).fillna("missing")
+        else:
+            special = column == special_value
+            deciles = pd.qcut(column.where(~special), 10, duplicates="drop").astype(str)
+            labels = deciles.where(column.notna(), "missing").where(~special, "special")
+        table = pd.crosstab(labels, is_bad) + 0.5
+        woe = np.log((table[False] / table[False].sum()) / (table[True] / table[True].sum()))
+        woe_columns[name] = labels.map(woe).astype(float)
+        tables[name] = woe
+    X = sm.add_constant(pd.DataFrame(woe_columns))
+    fit = sm.Logit((~is_bad).astype(float), X).fit(disp=0)
+    scale = scaling(600, 50, 20)
+    k = len(woe_columns)
+    alpha = fit.params["const"]
+    return {name: ((fit.params[name] * woe + alpha / k) * scale.factor + scale.offset / k).round()
+            for name, woe in tables.items()}
+
+
+class TreeRun(NamedTuple):
+    """A child process run to its end, or stopped at the memory cap."""
+
+    seconds: float
+    peak_bytes: int
+    stdout: str
+    stderr: str
+    stopped: bool        # True when the whole tree passed the cap and was killed
+
+
+def peak_of_tree(command: list[str], interval: float = 0.1, cap_bytes: float = math.inf) -> TreeRun:
+    """Run ``command``, sampling the summed resident memory of it and all its children."""
+    import psutil
+
+    start = time.perf_counter()
+    child = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    peak, stopped = 0, False
+    done = threading.Event()
+
+    def sample():
+        nonlocal peak, stopped
+        root = psutil.Process(child.pid)
+        while not done.is_set():
+            try:
+                tree = [root] + root.children(recursive=True)
+            except psutil.NoSuchProcess:
+                break
+            peak = max(peak, sum(_rss(p) for p in tree))
+            if peak > cap_bytes:
+                stopped = True
+                for process in reversed(tree):
+                    with contextlib.suppress(psutil.NoSuchProcess):
+                        process.kill()
+                break
+            time.sleep(interval)
+
+    watcher = threading.Thread(target=sample, daemon=True)
+    watcher.start()
+    out, err = child.communicate()
+    done.set()
+    watcher.join()
+    if child.returncode != 0 and not stopped:
+        raise RuntimeError(f"child failed ({child.returncode}):\n{err[-3000:]}")
+    return TreeRun(time.perf_counter() - start, peak, out, err, stopped)
+
+
+def _rss(process) -> int:
+    import psutil
+    try:
+        return process.memory_info().rss
+    except psutil.NoSuchProcess:
+        return 0
+
+
+def measure(paths: dict, dask: bool, reference: bool, memory_cap_gb: float = 10.0,
+            ) -> list[tuple[str, float, str]]:
+    from scorecard.data import read_frame
+    from scorecard.model import load_scorecard
+    from scorecard.run import build
+    from scorecard.data import read_table
+    from scorecard.score_file import score_file
+    from scorecard.scoring import apply_scorecard
+
+    rows_out = []
+
+    def report(name, value, note=""):
+        rows_out.append((name, value, note))
+        print(f"  {name}: {value:,.3f} {note}", file=sys.stderr)
+
+    # The first read warms the file cache and the imports, as the build's own read will be.
+    reads = [timed(read_frame, paths["full parquet"]) for _ in range(3)]
+    t_read, frame = min(reads[1:], key=lambda r: r[0])
+    del reads
+    n = len(frame)
+    report("read Parquet (s)", t_read, f"{n:,} rows, {frame.shape[1]} columns; best of two warm reads")
+    t_csv, _ = timed(read_frame, paths["csv"])
+    report("read CSV (s)", t_csv)
+    stages = StageTimes()
+    t_build, result = timed(build, paths["full"], progress=stages)
+    report("build with workbook (s)", t_build,
+           f"{len(result.card.characteristics)} characteristics, "
+           f"{len(result.patterns.codes):,} patterns")
+    for at, text in stages.lines:
+        print(f"      [{at:7.2f} s] {text}", file=sys.stderr)
+    report("build / read", t_build / t_read)
+
+    if reference:
+        t_reference, _ = timed(reference_pipeline, frame)
+        report("reference pipeline (s)", t_reference)
+        report("reference / build", t_reference / t_build)
+
+    t_tenth, _ = timed(build, paths["tenth"])
+    report("tenth build (s)", t_tenth, f"{n // 10:,} rows")
+    report("full / tenth build time", t_build / t_tenth)
+
+    card = load_scorecard(result.outputs["model"])
+    t_apply, _ = timed(apply_scorecard, card, frame)
+    report("points and score of every row in memory (s)", t_apply,
+           f"{n / t_apply:,.0f} rows per second")
+    with tempfile.TemporaryDirectory() as tmp:
+        t_file, _ = timed(score_file, card, paths["full parquet"], Path(tmp) / "scored.parquet",
+                          reasons=4)
+    t_table, _ = timed(read_table, paths["full parquet"])
+    report("scorecard score, Parquet to Parquet (s)", t_file,
+           f"4 reasons per row; reading alone takes {t_table:.2f} s")
+    report("scoring rows per second", n / (t_file - t_table), "after the read")
+    del frame, result
+
+    child = peak_of_tree([sys.executable, "-c", CHILD_BUILD, str(paths["full"])])
+    facts = json.loads(child.stdout.strip().splitlines()[-1])
+    report("build peak memory (GB)", facts["peak_kb"] * 1024 / 1e9,
+           f"peak resident memory of a build alone in a child process, from its VmHWM "
+           f"(sampled every 0.1 s: {child.peak_bytes / 1e9:.2f} GB)")
+
+    if dask:
+        child = peak_of_tree([sys.executable, "-c", CHILD_BUILD, str(paths["dask"])],
+                             interval=0.25, cap_bytes=memory_cap_gb * 1e9)
+        stages = [line for line in child.stderr.splitlines() if line.startswith("[")]
+        for line in stages:
+            print(f"      {line}", file=sys.stderr)
+        if child.stopped:
+            report("Dask build peak memory (GB)", child.peak_bytes / 1e9,
+                   f"stopped at the {memory_cap_gb:g} GB cap after {child.seconds:.0f} s, "
+                   f"past: {stages[-1] if stages else 'start'}")
+        else:
+            facts = json.loads(child.stdout.strip().splitlines()[-1])
+            report("Dask build (s)", facts["seconds"],
+                   f"{child.seconds:.1f} s with cluster start and stop")
+            report("Dask build peak memory (GB)", child.peak_bytes / 1e9,
+                   "client, scheduler and workers together")
+    return rows_out
+
+
+def table(rows: list) -> str:
+    lines = [f"{'measure':46s} {'value':>14s}  {'target':>10s}  met", "-" * 80]
+    for name, value, note in rows:
+        target = TARGETS.get(name)
+        if target:
+            sign, limit = target
+            met = value <= limit if sign == "<=" else value >= limit
+            lines.append(f"{name:46s} {value:14,.2f}  {sign} {limit:<7,g}  {'yes' if met else 'NO'}")
+        else:
+            lines.append(f"{name:46s} {value:14,.2f}")
+        if note:
+            lines.append(f"{'':4s}{note}")
+    return "\n".join(lines)
+
+
+def main(argv=None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--dir", type=Path, help="folder for the data (default: a temp folder)")
+    parser.add_argument("--rows", type=int, default=1_000_000)
+    parser.add_argument("--dask-rows", type=int, default=0,
+                        help="also build this many rows on a local Dask cluster")
+    parser.add_argument("--memory-cap-gb", type=float, default=10.0,
+                        help="stop the Dask build when its process tree passes this (default 10)")
+    parser.add_argument("--no-reference", action="store_true",
+                        help="skip the reference pipeline (b)")
+    args = parser.parse_args(argv)
+    with tempfile.TemporaryDirectory() as tmp:
+        folder = args.dir or Path(tmp)
+        paths = prepare(folder, args.rows, args.dask_rows)
+        rows = measure(paths, bool(args.dask_rows), not args.no_reference, args.memory_cap_gb)
+    print(table(rows))
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
