@@ -179,12 +179,23 @@ def merge_patterns(a: Patterns, b: Patterns, radix) -> Patterns:
 
 
 def bin_tables(patterns: Patterns, n_bins) -> list[np.ndarray]:
-    """Per characteristic: weights by (bin, sample, outcome) as an array (bins, 3, 2)."""
-    codes = patterns.codes
-    base = codes[:, 0].astype(np.intp) * 2 + codes[:, 1]
-    w = patterns.weights[:, 0]
-    out = []
-    for j, nb in enumerate(n_bins):
-        key = codes[:, 2 + j].astype(np.intp) * (N_SAMPLES * 2) + base
-        out.append(np.bincount(key, weights=w, minlength=nb * N_SAMPLES * 2).reshape(nb, N_SAMPLES, 2))
-    return out
+    """Per characteristic: weights by (bin, sample, outcome) as an array (bins, 3, 2).
+
+    Examples
+    --------
+    >>> p = Patterns(np.array([[0, 0, 1], [1, 1, 0], [0, 1, 1]]), np.array([[2.0], [1.0], [3.0]]))
+    >>> t = bin_tables(p, [2])[0]
+    >>> t[1, 0].tolist(), t[0, 1].tolist()
+    ([2.0, 3.0], [0.0, 1.0])
+    """
+    codes, weights = patterns.codes, patterns.weights[:, 0]
+    out = [np.zeros(nb * N_SAMPLES * 2) for nb in n_bins]
+    # Row blocks keep the slice of the row-major code matrix in cache while its columns are read.
+    for start in range(0, len(codes), _FILL_ROWS):
+        block = codes[start:start + _FILL_ROWS]
+        w = weights[start:start + _FILL_ROWS]
+        base = block[:, 0].astype(np.intp) * 2 + block[:, 1]
+        for j, (table, nb) in enumerate(zip(out, n_bins)):
+            key = block[:, 2 + j].astype(np.intp) * (N_SAMPLES * 2) + base
+            table += np.bincount(key, weights=w, minlength=nb * N_SAMPLES * 2)
+    return [table.reshape(nb, N_SAMPLES, 2) for table, nb in zip(out, n_bins)]

@@ -8,6 +8,7 @@ from hypothesis import given, settings, strategies as st
 
 from scorecard import patterns
 from scorecard.engine import ordered_fold
+from scorecard.passes import N_SAMPLES, bin_tables
 from scorecard.patterns import Patterns, distinct_patterns, merge_distinct, pattern_index
 
 
@@ -104,3 +105,18 @@ def test_row_blocks_do_not_change_the_keys(rows):
     keys = patterns._packed_keys(codes, [6, 6, 6, 6])
     expected = ((codes[:, 0].astype(np.int64) * 6 + codes[:, 1]) * 6 + codes[:, 2]) * 6 + codes[:, 3]
     np.testing.assert_array_equal(keys[0], expected)
+
+
+@pytest.mark.parametrize("rows", [0, 5, 2**16 + 3])
+def test_bin_tables_count_every_row_once_by_bin_sample_and_outcome(rows):
+    rng = np.random.default_rng(rows)
+    n_bins = [4, 7]
+    codes = np.column_stack([rng.integers(0, 3, rows), rng.integers(0, 2, rows),
+                             rng.integers(0, 4, rows), rng.integers(0, 7, rows)]).astype(np.int16)
+    weights = rng.uniform(0.5, 2.0, rows)
+    tables = bin_tables(Patterns(codes, weights[:, None]), n_bins)
+    for j, nb in enumerate(n_bins):
+        expected = np.zeros((nb, N_SAMPLES, 2))
+        np.add.at(expected, (codes[:, 2 + j], codes[:, 0], codes[:, 1]), weights)
+        np.testing.assert_allclose(tables[j], expected, rtol=1e-12, atol=0)
+        assert tables[j].sum() == pytest.approx(weights.sum(), rel=1e-12)
