@@ -120,7 +120,8 @@ def _bucket_table(cuts: np.ndarray) -> _BucketTable | None:
     nonzero = magnitude[magnitude > 0]
     if len(cuts) < _MIN_CUTS or not len(nonzero) or not np.isfinite(cuts).all():
         return None
-    low = int(nonzero.min() & _EXPONENT_BITS)
+    # At least 1, so that both zeros (magnitude 0) share bucket 0 even below a subnormal cut.
+    low = max(int(nonzero.min() & _EXPONENT_BITS), 1)
     above = np.sort(nonzero - low)
     # A bucket no wider than the closest two cuts of one sign holds at most one cut.
     gaps = np.diff(above)

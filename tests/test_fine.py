@@ -44,6 +44,13 @@ def test_cells_on_any_sorted_cuts_equal_binary_search(values, extra):
     np.testing.assert_array_equal(grid_cells(x, cuts), np.searchsorted(cuts, x, side="right"))
 
 
+def test_both_zeros_count_a_cut_at_zero_beside_a_subnormal_cut():
+    # Found by the property test above: -0.0 equals the cut 0.0, whatever its sign bit says.
+    cuts = np.sort(np.array([-2.2250738585e-313, 0.0] + [float(i) for i in range(1, 15)]))
+    x = np.array([0.0, -0.0, -2.2250738585e-313, -5e-324, 5e-324])
+    assert grid_cells(x, cuts).tolist() == [2, 2, 1, 1, 2]
+
+
 @pytest.mark.parametrize("lo, hi", [(0, 240), (0, 1), (-50, 50), (300, 95_000), (1e6, 1e6 + 1),
                                     (-3e-4, -1e-6), (12.5, 12.75)])
 def test_the_bucket_table_serves_typical_grids(lo, hi):
