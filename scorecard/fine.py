@@ -18,7 +18,9 @@ from typing import NamedTuple
 import numpy as np
 
 GRID_STEPS = 256        # even-step candidates across the range
-LOG_DECADES = 5         # decades of two-figure candidates below the largest magnitude
+# Twelve decades of two-figure candidates below the largest magnitude keep ordinary values
+# finely cut even when one typed-in value is a million times larger than the rest.
+LOG_DECADES = 12
 
 _MAGNITUDE_BITS = np.int64(0x7FFF_FFFF_FFFF_FFFF)   # all bits of a double but the sign
 _EXPONENT_BITS = np.int64(0x7FF0_0000_0000_0000)

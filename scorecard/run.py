@@ -12,13 +12,14 @@ from .engine import LocalEngine
 from .errors import InputError
 
 
-def open_engine(config):
-    """The engine named by the config, holding the development data."""
+def open_engine(config, progress=None):
+    """The engine named by the config, holding the development data; use it in ``with``."""
     d = config.data
     if config.engine.dask is None:
-        return LocalEngine(read_frame(d.source, encoding=d.encoding, delimiter=d.delimiter))
+        return LocalEngine(read_frame(d.source, encoding=d.encoding, delimiter=d.delimiter),
+                           progress=progress)
     from .dask_engine import DaskEngine
-    return DaskEngine(d.source, config.engine.dask)
+    return DaskEngine(d.source, config.engine.dask, progress=progress)
 
 
 def _output_paths(config, workbook, model) -> tuple[Path, Path]:
@@ -56,11 +57,11 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
     from .workbook import write_workbook
     config = load_config(config_path)
     workbook_path, model_path = _output_paths(config, workbook, model)
-    engine = open_engine(config)
-    check_columns(config, engine.columns)
-    if progress:
-        progress(f"read {engine.n_rows} rows from {config.data.source}")
-    result = build_scorecard(config, engine, progress)
+    with open_engine(config, progress) as engine:
+        check_columns(config, engine.columns)
+        if progress:
+            progress(f"read {engine.n_rows} rows from {config.data.source}")
+        result = build_scorecard(config, engine, progress)
     # The workbook is finished in its temporary file before the model moves into place, and
     # moves in right after: a failure anywhere leaves the previous pair of outputs as it was.
     with atomic_path(workbook_path) as pending_workbook:
