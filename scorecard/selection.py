@@ -28,6 +28,7 @@ from .logistic import (SELECTION_TOLERANCE, LogisticFit, as_design, as_weights, 
                        newton_fit, score_statistics)
 
 METHODS = ("stepwise", "all")
+_BLOCK_ROWS = 1 << 16
 
 
 class Fate(NamedTuple):
@@ -108,8 +109,12 @@ def weighted_correlation(X, weights, *, names=None) -> np.ndarray:
     X = as_design(X, "X")
     w = _weights(weights, "weights", X.shape[0])
     w = w / w.sum()
-    centred = X - w @ X
-    covariance = centred.T @ (w[:, None] * centred)
+    mean = w @ X
+    covariance = np.zeros((X.shape[1], X.shape[1]))
+    # Summed over blocks of rows, so no centred copy of a large matrix is ever held whole.
+    for start in range(0, X.shape[0], _BLOCK_ROWS):
+        centred = X[start:start + _BLOCK_ROWS] - mean
+        covariance += centred.T @ (w[start:start + _BLOCK_ROWS, None] * centred)
     spread = np.sqrt(np.diag(covariance))
     scale = np.abs(X[w > 0]).max(axis=0, initial=0.0)
     constant = spread <= 1e-12 * np.maximum(scale, np.finfo(float).tiny)
