@@ -432,8 +432,8 @@ def parse_config(text: str, path: str | PathLike) -> Config:
     Examples
     --------
     >>> text = "data: {source: x.csv, target: y, bad: [1], good: [0]}"
-    >>> parse_config(text, "/work/lease.yaml").data.source
-    PosixPath('/work/x.csv')
+    >>> parse_config(text, "/data/lease.yaml").data.source
+    PosixPath('/data/x.csv')
     """
     if not isinstance(text, str):
         raise TypeError(f"text must be a str, got {type(text).__name__}")
