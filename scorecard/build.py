@@ -16,10 +16,10 @@ import numpy as np
 import pandas as pd
 
 from . import binning
-from .data import (BAD, DEVELOPMENT, EXCLUDED, GOOD, HOLDOUT, OUT_OF_TIME, SAMPLE_NAMES,
+from .data import (BAD, DEVELOPMENT, EXCLUDED, GOOD, SAMPLE_NAMES,
                    assign_samples, code_outcome, column_kind, parse_dates)
 from .errors import InputError
-from .evaluate import ScoreHistogram, band_edges, gains_table, performance
+from .evaluate import band_edges, gains_table, performance, score_histogram
 from .fairness import compute_fairness
 from .fine import NumericLayout, candidate_cuts
 from .measures import iv_strength, outcome_mutual_information
@@ -294,12 +294,8 @@ def _histograms(card: Scorecard, patterns, names) -> dict:
         mask = (patterns.codes[:, 0] == code) & ~refused
         if not mask.any():
             continue
-        at = score[mask] - low
-        lab = patterns.codes[mask, 1]
-        w = patterns.weights[mask, 0]
-        width = high - low + 1
-        out[name] = ScoreHistogram(low, np.bincount(at[lab == GOOD], w[lab == GOOD], width),
-                                   np.bincount(at[lab == BAD], w[lab == BAD], width))
+        out[name] = score_histogram(score[mask], patterns.codes[mask, 1],
+                                    patterns.weights[mask, 0], low, high)
     return out
 
 

@@ -188,7 +188,6 @@ class Comparison(NamedTuple):
 
     def text(self) -> str:
         """A short table for the terminal."""
-        score = self.stability.score
         width = max(len(r.name) for r in self.indices) + 2
         lines = [f"{self.baseline} ({self.rows[BASELINE]} rows) -> "
                  f"{self.current} ({self.rows[CURRENT]} rows)",

@@ -12,7 +12,7 @@ import pytest
 
 from scorecard.build import build_scorecard
 from scorecard.config import load_config
-from scorecard.data import (DEVELOPMENT, EXCLUDED, assign_samples, code_outcome, parse_dates,
+from scorecard.data import (EXCLUDED, assign_samples, code_outcome, parse_dates,
                             read_frame)
 from scorecard.evaluate import score_histogram
 from scorecard.model import LEVELS, RANGE, Scorecard
