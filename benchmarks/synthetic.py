@@ -128,8 +128,13 @@ engine: {engine}
 """
 
 
-def write_config(path: Path, source: Path, rows: int, engine: str = "local") -> Path:
-    """A build config for ``source``; outputs go to out/<config name>/ beside the config."""
+def write_config(path: Path, source: Path, rows: int, engine: str = "local",
+                 extra: str = "") -> Path:
+    """A build config for ``source``; outputs go to out/<config name>/ beside the config.
+
+    ``extra`` is YAML appended to the config, such as ``"selection: {min_iv: 0}"``.
+    """
     out = path.parent.resolve() / "out" / path.stem
-    path.write_text(CONFIG.format(rows=rows, source=source.resolve(), out=out, engine=engine))
+    text = CONFIG.format(rows=rows, source=source.resolve(), out=out, engine=engine)
+    path.write_text(text + (extra + "\n" if extra else ""))
     return path

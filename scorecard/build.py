@@ -24,10 +24,11 @@ from .fairness import compute_fairness
 from .fine import NumericLayout, candidate_cuts
 from .measures import iv_strength, outcome_mutual_information
 from .model import LEVELS, MISSING, OUT_OF_RANGE, RANGE, UNSEEN, Bin, Characteristic, Scorecard
-from .passes import (RowFacts, bin_tables, coded_patterns, column_summary, fine_counts,
-                     merge_fine, merge_patterns, merge_summaries)
+from .passes import (RowFacts, bin_counts, coded_patterns, column_summary, fine_counts,
+                     merge_bin_counts, merge_fine, merge_patterns, merge_summaries,
+                     pattern_radix)
 from .points import attribute_points, largest_rounding_change, scaling
-from .selection import select_characteristics
+from .selection import floor_fates, select_characteristics
 
 
 @dataclass
@@ -299,6 +300,22 @@ def _histograms(card: Scorecard, patterns, names) -> dict:
     return out
 
 
+def _binned_report(draft: Characteristic, table: np.ndarray, limits, config,
+                   report: CharacteristicReport) -> Characteristic:
+    """Fill ``report`` with the bins' counts, WoE, IV and MI; return the binned characteristic."""
+    char = _unseen_rules(_with_counts(draft, table, limits), config.scoring)
+    woe = np.array([bn.woe for bn in char.bins])
+    g, bd = table[:, DEVELOPMENT, GOOD], table[:, DEVELOPMENT, BAD]
+    # IV of the bins as the model codes them (fallback WoE included).
+    iv = float(np.sum((g / g.sum() - bd / bd.sum()) * woe))
+    mi = outcome_mutual_information(g, bd)
+    report.characteristic = Characteristic(**{**char.__dict__, "information_value": iv})
+    report.sample_counts = table
+    report.information_value, report.strength = iv, iv_strength(iv)
+    report.mutual_information_nats, report.mutual_information_bits = mi.nats, mi.bits
+    return report.characteristic
+
+
 def build_scorecard(config, engine, progress: Callable[[str], None] | None = None) -> BuildResult:
     """Build a scorecard from a validated config on an engine holding the data.
 
@@ -334,39 +351,38 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
         raise InputError(f"{config.data.source}: no characteristic could be binned")
     _say(progress, f"coarse classes formed for {len(drafts)} characteristics")
 
-    radix = [3, 2] + [len(d.bins) for d in drafts]
-    patterns = engine.reduce(coded_patterns, lambda a, c: merge_patterns(a, c, radix), rows, drafts)
-    tables = bin_tables(patterns, [len(d.bins) for d in drafts])
-    names = [d.name for d in drafts]
-    binned, woes = [], []
-    for draft, table in zip(drafts, tables):
-        char = _unseen_rules(_with_counts(draft, table, limits), config.scoring)
-        woe = np.array([bn.woe for bn in char.bins])
-        g, bd = table[:, DEVELOPMENT, GOOD], table[:, DEVELOPMENT, BAD]
-        # IV of the bins as the model codes them (fallback WoE included).
-        iv = float(np.sum((g / g.sum() - bd / bd.sum()) * woe))
-        mi = outcome_mutual_information(g, bd)
-        rep = reports[draft.name]
-        rep.characteristic = Characteristic(**{**char.__dict__, "information_value": iv})
-        rep.sample_counts = table
-        rep.information_value, rep.strength = iv, iv_strength(iv)
-        rep.mutual_information_nats, rep.mutual_information_bits = mi.nats, mi.bits
-        binned.append(rep.characteristic)
-        woes.append(woe)
-    _say(progress, f"rows coded into {len(patterns.codes)} distinct patterns")
+    tables = engine.reduce(bin_counts, merge_bin_counts, rows, drafts)
+    binned = [_binned_report(draft, table, limits, config, reports[draft.name])
+              for draft, table in zip(drafts, tables)]
+    _say(progress, f"rows counted into the bins of {len(binned)} characteristics")
+
+    # Only characteristics that pass the information value floor (or are kept) can enter the
+    # model, so only they take part in the pattern table: it stays small however many weak
+    # characteristics the data hold.
+    s = config.selection
+    names = [c.name for c in binned]
+    floored = floor_fates(names, [c.information_value for c in binned], s.min_iv, s.keep)
+    candidates = [c for c in binned if c.name not in floored]
+    radix = pattern_radix(candidates)
+    patterns = engine.reduce(coded_patterns, lambda a, c: merge_patterns(a, c, radix), rows,
+                             candidates)
+    _say(progress, f"{len(candidates)} candidates coded into {len(patterns.codes)} distinct "
+                   "patterns")
 
     dev = patterns.codes[:, 0] == DEVELOPMENT
     codes = patterns.codes[dev]
     w = patterns.weights[dev, 0]
     successes = np.where(codes[:, 1] == GOOD, w, 0.0)
     failures = np.where(codes[:, 1] == BAD, w, 0.0)
-    X = np.column_stack([woe[codes[:, 2 + j]] for j, woe in enumerate(woes)])
-    s = config.selection
+    X = np.column_stack([np.array([b.woe for b in c.bins])[codes[:, 2 + j]]
+                         for j, c in enumerate(candidates)]) if candidates else np.empty((len(w), 0))
     selection = select_characteristics(
-        X, successes, failures, names, [c.information_value for c in binned],
+        X, successes, failures, [c.name for c in candidates],
+        [c.information_value for c in candidates],
         min_iv=s.min_iv, max_correlation=s.max_correlation, max_vif=s.max_vif, method=s.method,
         entry_p_value=s.entry_p_value, max_characteristics=s.max_characteristics,
         keep=tuple(s.keep))
+    selection = selection._replace(fates={**floored, **selection.fates})
     for name, fate in selection.fates.items():
         rep = reports[name]
         rep.status = "in model" if fate.selected else "not selected"
@@ -380,7 +396,7 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
     card = _scale(config, selection, [by_name[n] for n in selection.selected])
     for char in card.characteristics:
         reports[char.name].characteristic = char
-    histograms = _histograms(card, patterns, names)
+    histograms = _histograms(card, patterns, [c.name for c in candidates])
     perf = {name: performance(h) for name, h in histograms.items()}
     gains_sample = "holdout" if "holdout" in histograms else "development"
     starts = band_edges(histograms[gains_sample], config.evaluation.score_bands)

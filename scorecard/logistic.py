@@ -283,7 +283,13 @@ def score_statistics(X1, Z, s, f, coefficients, Z_squared=None):
     cross = weighted.T @ Z
     information = weighted.T @ X1
     own = (Z * Z if Z_squared is None else Z_squared).T @ weight
-    variance = own - np.einsum("ij,ij->j", cross, np.linalg.solve(information, cross))
+    try:
+        projected = np.linalg.solve(information, cross)
+    except np.linalg.LinAlgError:
+        # A model that separates the outcomes leaves every weight at zero; least squares then
+        # projects out nothing and the tests below find no candidate informative.
+        projected = np.linalg.lstsq(information, cross, rcond=None)[0]
+    variance = own - np.einsum("ij,ij->j", cross, projected)
     # What is left of a candidate after projecting out the model can be rounding noise only.
     informative = variance > 1e-10 * np.maximum(own, np.finfo(float).tiny)
     statistics = np.where(informative, score**2 / np.where(informative, variance, 1.0), 0.0)

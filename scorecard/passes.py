@@ -178,24 +178,36 @@ def merge_patterns(a: Patterns, b: Patterns, radix) -> Patterns:
     return merge_distinct(a, b, radix)
 
 
-def bin_tables(patterns: Patterns, n_bins) -> list[np.ndarray]:
-    """Per characteristic: weights by (bin, sample, outcome) as an array (bins, 3, 2).
+def bin_counts(frame: pd.DataFrame, rows: RowFacts, drafts) -> list[np.ndarray]:
+    """Per characteristic: weights by (bin, sample, outcome), an array of shape (bins, 3, 2).
+
+    Rows outside every sample are left out. These tables give every characteristic's weights
+    of evidence, information value and stability, whether or not it joins the pattern table.
 
     Examples
     --------
-    >>> p = Patterns(np.array([[0, 0, 1], [1, 1, 0], [0, 1, 1]]), np.array([[2.0], [1.0], [3.0]]))
-    >>> t = bin_tables(p, [2])[0]
-    >>> t[1, 0].tolist(), t[0, 1].tolist()
-    ([2.0, 3.0], [0.0, 1.0])
+    >>> from scorecard.model import RANGE, Bin, Characteristic
+    >>> bins = (Bin("< 2", RANGE, 1, 0, 0.0, 0, upper=2.0), Bin(">= 2", RANGE, 1, 1, 0.0, 0, lower=2.0))
+    >>> char = Characteristic("x", "numeric", bins, 0.0, "", "", cuts=(2.0,))
+    >>> rows = RowFacts(np.array([0, 1, 0], np.int8), np.ones(3), np.array([0, 0, 1], np.int8))
+    >>> table = bin_counts(pd.DataFrame({"x": [1.0, 5.0, 3.0]}), rows, [char])[0]
+    >>> table[:, 0].tolist(), table[:, 1].tolist()
+    ([[1.0, 0.0], [0.0, 1.0]], [[0.0, 0.0], [1.0, 0.0]])
     """
-    codes, weights = patterns.codes, patterns.weights[:, 0]
-    out = [np.zeros(nb * N_SAMPLES * 2) for nb in n_bins]
-    # Row blocks keep the slice of the row-major code matrix in cache while its columns are read.
-    for start in range(0, len(codes), _FILL_ROWS):
-        block = codes[start:start + _FILL_ROWS]
-        w = weights[start:start + _FILL_ROWS]
-        base = block[:, 0].astype(np.intp) * 2 + block[:, 1]
-        for j, (table, nb) in enumerate(zip(out, n_bins)):
-            key = block[:, 2 + j].astype(np.intp) * (N_SAMPLES * 2) + base
-            table += np.bincount(key, weights=w, minlength=nb * N_SAMPLES * 2)
-    return [table.reshape(nb, N_SAMPLES, 2) for table, nb in zip(out, n_bins)]
+    kept = rows.sample != EXCLUDED
+    # Left-out rows weigh nothing, so every row can take part and no row selection is made.
+    weight = np.where(kept, rows.weight, 0.0)
+    cell = np.where(kept, rows.sample.astype(np.intp) * 2 + rows.label, 0)
+
+    def one(char):
+        codes = bin_codes(char, frame[char.name])[0].astype(np.intp)
+        n_bins = len(char.bins)
+        table = np.bincount(codes * (N_SAMPLES * 2) + cell, weights=weight,
+                            minlength=n_bins * N_SAMPLES * 2)
+        return table.reshape(n_bins, N_SAMPLES, 2)
+
+    return _each(one, list(drafts), len(frame))
+
+
+def merge_bin_counts(a: list, b: list) -> list:
+    return [x + y for x, y in zip(a, b)]

@@ -332,7 +332,25 @@ class _Candidates(NamedTuple):
         return _inverse_diagonal(sub)
 
 
+def floor_fates(names, information_values, min_iv, keep=()) -> dict[str, Fate]:
+    """The fate of each candidate that the information value floor removes (stage 1).
+
+    A build calls this before it counts patterns, so that only the characteristics that can
+    still enter the model take part in the pattern table; :func:`select_characteristics` then
+    finds the same fates again.
+
+    Examples
+    --------
+    >>> floor_fates(["a", "b", "c"], [0.3, 0.01, 0.0], 0.02, keep=["c"])
+    {'b': Fate(selected=False, stage='information value', reason='IV 0.010 below the floor 0.02')}
+    """
+    return {name: Fate(False, "information value", f"IV {iv:.3f} below the floor {min_iv:g}")
+            for name, iv in zip(names, information_values) if iv < min_iv and name not in keep}
+
+
 def _iv_floor(data: _Candidates, constant, min_iv, fates) -> list[int]:
+    kept = [data.names[j] for j in data.kept]
+    below = floor_fates(data.names, data.iv, min_iv, kept)
     passed = []
     for j in sorted(range(len(data.names)), key=lambda j: (-data.iv[j], data.names[j])):
         name = data.names[j]
@@ -342,10 +360,8 @@ def _iv_floor(data: _Candidates, constant, min_iv, fates) -> list[int]:
             fates[name] = Fate(
                 False, "information value", "constant on every pattern, so it carries no signal"
             )
-        elif data.iv[j] < min_iv:
-            fates[name] = Fate(
-                False, "information value", f"IV {data.iv[j]:.3f} below the floor {min_iv:g}"
-            )
+        elif name in below:
+            fates[name] = below[name]
         else:
             passed.append(j)
     return passed
@@ -438,10 +454,12 @@ def _drop_wrong_signs(data: _Candidates, selected, fates) -> list[int]:
     while selected:
         coefficients, information, _ = data.fast_fit(selected)
         slopes = coefficients[1:]
-        z = slopes / np.sqrt(np.diag(np.linalg.inv(information)))[1:]
         wrong = [i for i, j in enumerate(selected) if j not in data.kept and slopes[i] <= 0]
         if not wrong:
             break
+        # A separating model's information matrix is singular; its z-values are then infinite.
+        with np.errstate(divide="ignore", invalid="ignore"):
+            z = slopes / np.sqrt(np.diag(np.linalg.pinv(information)))[1:]
         worst = max(wrong, key=lambda i: (-z[i], data.names[selected[i]]))
         fates[data.names[selected[worst]]] = Fate(
             False,

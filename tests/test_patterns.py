@@ -3,12 +3,14 @@
 from __future__ import annotations
 
 import numpy as np
+import pandas as pd
 import pytest
 from hypothesis import given, settings, strategies as st
 
 from scorecard import patterns
 from scorecard.engine import ordered_fold
-from scorecard.passes import N_SAMPLES, bin_tables
+from scorecard.model import MISSING, RANGE, Bin, Characteristic
+from scorecard.passes import N_SAMPLES, RowFacts, bin_counts
 from scorecard.patterns import Patterns, distinct_patterns, merge_distinct, pattern_index
 
 
@@ -107,16 +109,28 @@ def test_row_blocks_do_not_change_the_keys(rows):
     np.testing.assert_array_equal(keys[0], expected)
 
 
+def _numeric_characteristic(cuts):
+    edges = (None, *cuts, None)
+    bins = tuple(Bin(f"range {i}", RANGE, 1, 1, 0.0, 0, lower=lo, upper=hi)
+                 for i, (lo, hi) in enumerate(zip(edges[:-1], edges[1:])))
+    return Characteristic("x", "numeric", bins + (Bin("missing", MISSING, 1, 1, 0.0, 0),),
+                          0.0, "", "", cuts=tuple(cuts))
+
+
 @pytest.mark.parametrize("rows", [0, 5, 2**16 + 3])
-def test_bin_tables_count_every_row_once_by_bin_sample_and_outcome(rows):
+def test_bin_counts_count_every_row_once_by_bin_sample_and_outcome(rows):
     rng = np.random.default_rng(rows)
-    n_bins = [4, 7]
-    codes = np.column_stack([rng.integers(0, 3, rows), rng.integers(0, 2, rows),
-                             rng.integers(0, 4, rows), rng.integers(0, 7, rows)]).astype(np.int16)
-    weights = rng.uniform(0.5, 2.0, rows)
-    tables = bin_tables(Patterns(codes, weights[:, None]), n_bins)
-    for j, nb in enumerate(n_bins):
-        expected = np.zeros((nb, N_SAMPLES, 2))
-        np.add.at(expected, (codes[:, 2 + j], codes[:, 0], codes[:, 1]), weights)
-        np.testing.assert_allclose(tables[j], expected, rtol=1e-12, atol=0)
-        assert tables[j].sum() == pytest.approx(weights.sum(), rel=1e-12)
+    cuts = (2.0, 5.0)
+    x = rng.uniform(0, 8, rows).round(1)
+    x[rng.random(rows) < 0.1] = np.nan
+    facts = RowFacts(rng.integers(0, 2, rows).astype(np.int8), rng.uniform(0.5, 2.0, rows),
+                     rng.integers(-1, 3, rows).astype(np.int8))
+    table = bin_counts(pd.DataFrame({"x": x}), facts, [_numeric_characteristic(cuts)])[0]
+    # Row by row: the bin is the number of cuts at or below the value, missing last.
+    expected = np.zeros((len(cuts) + 2, N_SAMPLES, 2))
+    for value, label, weight, sample in zip(x, facts.label, facts.weight, facts.sample):
+        if sample >= 0:
+            b = len(cuts) + 1 if np.isnan(value) else sum(value >= c for c in cuts)
+            expected[b, sample, label] += weight
+    np.testing.assert_allclose(table, expected, rtol=1e-12, atol=1e-12)
+    assert table.sum() == pytest.approx(facts.weight[facts.sample >= 0].sum(), rel=1e-12)
