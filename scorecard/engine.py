@@ -25,6 +25,7 @@ PASS_NAMES = {
     "code_outcome": "coding the outcome",
     "column_summary": "summarising columns",
     "fine_counts": "counting fine classes",
+    "bin_counts": "counting rows into bins",
     "coded_patterns": "coding rows into patterns",
     "protected_counts": "counting protected groups",
     "protected_levels": "finding protected groups",

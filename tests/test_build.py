@@ -17,7 +17,8 @@ from scorecard.data import (EXCLUDED, assign_samples, code_outcome, parse_dates,
 from scorecard.evaluate import score_histogram
 from scorecard.model import LEVELS, RANGE, Scorecard
 from scorecard.run import open_engine
-from scorecard.scoring import apply_scorecard
+from scorecard.scoring import apply_scorecard, bin_codes
+from scorecard.selection import select_characteristics
 
 
 def _samples(config, frame):
@@ -133,3 +134,34 @@ def test_holdout_discrimination_is_sensible(demo_build):
     perf = demo_build.performance["holdout"]
     assert 0.7 < perf.auc < 0.95
     assert perf.gini == pytest.approx(2 * perf.auc - 1)
+
+
+def test_leaving_weak_characteristics_out_of_the_patterns_changes_no_selection(demo_build,
+                                                                               demo_config_path):
+    # The build puts only characteristics past the IV floor into its pattern table. Selection
+    # on every binned characteristic, row by row, must choose the same model: a weak one can
+    # never enter, and grouped counts give the likelihood of the rows (definition).
+    config = load_config(demo_config_path)
+    frame = read_frame(config.data.source)
+    outcome, sample = _samples(config, frame)
+    dev = sample == 0
+    binned = [r.characteristic for r in demo_build.reports
+              if r.status in ("in model", "not selected")]
+    floored = [r.name for r in demo_build.reports if r.stage == "information value"]
+    assert floored, "the demo should have a characteristic below the floor"
+    by_name = {c.name: c for c in binned}
+    X = np.column_stack([
+        np.array([b.woe for b in by_name[name].bins])[bin_codes(by_name[name], frame[name])[0]]
+        for name in by_name])[dev]
+    s = config.selection
+    good = np.where(outcome.label[dev] == 0, outcome.weight[dev], 0.0)
+    bad = np.where(outcome.label[dev] == 1, outcome.weight[dev], 0.0)
+    every = select_characteristics(
+        X, good, bad, list(by_name), [by_name[n].information_value for n in by_name],
+        min_iv=s.min_iv, max_correlation=s.max_correlation, max_vif=s.max_vif,
+        method=s.method, entry_p_value=s.entry_p_value,
+        max_characteristics=s.max_characteristics, keep=tuple(s.keep))
+    assert every.selected == demo_build.selection.selected
+    assert every.fates == demo_build.selection.fates
+    np.testing.assert_allclose(every.fit.coefficients, demo_build.selection.fit.coefficients,
+                               rtol=1e-8, atol=1e-10)
