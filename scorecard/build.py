@@ -16,6 +16,7 @@ import numpy as np
 import pandas as pd
 
 from . import binning
+from .coded import CodedColumns
 from .data import (BAD, DEVELOPMENT, EXCLUDED, GOOD, SAMPLE_NAMES,
                    assign_samples, code_outcome, column_kind, parse_dates)
 from .errors import InputError
@@ -374,10 +375,11 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
     w = patterns.weights[dev, 0]
     successes = np.where(codes[:, 1] == GOOD, w, 0.0)
     failures = np.where(codes[:, 1] == BAD, w, 0.0)
-    X = np.column_stack([np.array([b.woe for b in c.bins])[codes[:, 2 + j]]
-                         for j, c in enumerate(candidates)]) if candidates else np.empty((len(w), 0))
+    # The WoE design stays as bin codes with each column's WoE table: no float matrix of
+    # patterns by candidates is made.
+    design = CodedColumns(codes[:, 2:], [[b.woe for b in c.bins] for c in candidates])
     selection = select_characteristics(
-        X, successes, failures, [c.name for c in candidates],
+        design, successes, failures, [c.name for c in candidates],
         [c.information_value for c in candidates],
         min_iv=s.min_iv, max_correlation=s.max_correlation, max_vif=s.max_vif, method=s.method,
         entry_p_value=s.entry_p_value, max_characteristics=s.max_characteristics,

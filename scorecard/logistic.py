@@ -268,21 +268,27 @@ def score_test(X_in, X_candidates, successes, failures, coefficients):
     return score_statistics(X1, Z, s, f, coefficients)
 
 
-def score_statistics(X1, Z, s, f, coefficients, Z_squared=None):
+def score_statistics(X1, Z, s, f, coefficients):
     """Score statistics and p-values for candidates ``Z`` given a model fitted on ``X1``.
 
     The unchecked core of :func:`score_test`: ``X1`` already holds the intercept column and
-    only rows of positive weight, so forward selection can call it on arrays prepared once.
+    only rows of positive weight.
     """
     eta = X1 @ coefficients
     p = special.expit(eta)
     weight = (s + f) * p * special.expit(-eta)
-    residual = s - (s + f) * p
-    score = Z.T @ residual
     weighted = X1 * weight[:, None]
-    cross = weighted.T @ Z
-    information = weighted.T @ X1
-    own = (Z * Z if Z_squared is None else Z_squared).T @ weight
+    return score_statistics_from_sums(Z.T @ (s - (s + f) * p), (Z * Z).T @ weight,
+                                      weighted.T @ Z, weighted.T @ X1)
+
+
+def score_statistics_from_sums(score, own, cross, information):
+    """Score statistics and p-values of candidates from the sums over rows that they need.
+
+    With ``w = n p (1 - p)`` at the fitted model: ``score`` is ``Z' (s - n p)``, ``own`` is
+    ``(Z * Z)' w``, ``cross`` is ``X1' diag(w) Z`` and ``information`` is ``X1' diag(w) X1``.
+    Sums of this kind can be accumulated over blocks of rows, or over grouped counts.
+    """
     try:
         projected = np.linalg.solve(information, cross)
     except np.linalg.LinAlgError:

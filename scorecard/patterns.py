@@ -26,7 +26,8 @@ class Patterns(NamedTuple):
     weights: np.ndarray    # (patterns, len(weights))
 
 
-def _factorize(keys: np.ndarray) -> np.ndarray:
+def factorize(keys: np.ndarray) -> np.ndarray:
+    """Number the distinct keys by first appearance."""
     return pd.factorize(keys)[0].astype(np.int64, copy=False)
 
 
@@ -54,8 +55,9 @@ def _packed_keys(codes: np.ndarray, radix) -> list[np.ndarray]:
     return keys
 
 
-def _first_rows(index: np.ndarray) -> np.ndarray:
-    # factorize numbers patterns by first appearance, so a new running maximum marks a first row.
+def first_rows(index: np.ndarray) -> np.ndarray:
+    """First row of each group of an index numbered by first appearance (as :func:`factorize`)."""
+    # Numbering by first appearance makes each new running maximum a first row.
     return np.flatnonzero(np.diff(np.maximum.accumulate(index), prepend=-1) > 0)
 
 
@@ -67,11 +69,11 @@ def _chained_index(codes: np.ndarray, radix) -> np.ndarray:
     for j, r in enumerate(radix):
         r = max(int(r), 1)
         if span * r >= _KEY_LIMIT:
-            index = _factorize(index)
+            index = factorize(index)
             span = int(index.max()) + 1
         index = index * r + codes[:, j]
         span *= r
-    return _factorize(index)
+    return factorize(index)
 
 
 def pattern_index(codes: np.ndarray, radix) -> np.ndarray:
@@ -91,12 +93,12 @@ def pattern_index(codes: np.ndarray, radix) -> np.ndarray:
         return np.zeros(0, dtype=np.int64)
     keys = _packed_keys(codes, radix)
     if len(keys) == 1:
-        return _factorize(keys[0])
+        return factorize(keys[0])
     folded = keys[0].astype(np.uint64)
     for key in keys[1:]:
         folded = folded * _MIX + key.astype(np.uint64)
-    index = _factorize(folded.view(np.int64))
-    first = _first_rows(index)
+    index = factorize(folded.view(np.int64))
+    first = first_rows(index)
     if all(np.array_equal(key[first][index], key) for key in keys):
         return index
     return _chained_index(codes, radix)
@@ -122,7 +124,7 @@ def distinct_patterns(codes: np.ndarray, radix, weights) -> Patterns:
         return Patterns(codes, sums)
     sums = np.column_stack([np.bincount(index, weights=w, minlength=count) for w in weights]) \
         if weights else np.empty((count, 0))
-    return Patterns(codes.take(_first_rows(index), axis=0), sums)
+    return Patterns(codes.take(first_rows(index), axis=0), sums)
 
 
 def merge_distinct(a: Patterns, b: Patterns, radix) -> Patterns:

@@ -22,13 +22,14 @@ from collections.abc import Mapping
 from typing import NamedTuple
 
 import numpy as np
+from scipy import special
 
+from .coded import CodedColumns, Groups, code_columns
 from .errors import InputError
 from .logistic import (SELECTION_TOLERANCE, LogisticFit, as_design, as_weights, fit_logistic,
-                       newton_fit, score_statistics)
+                       newton_fit, score_statistics_from_sums)
 
 METHODS = ("stepwise", "all")
-_BLOCK_ROWS = 1 << 16
 
 
 class Fate(NamedTuple):
@@ -82,7 +83,7 @@ def weighted_correlation(X, weights, *, names=None) -> np.ndarray:
 
     Parameters
     ----------
-    X : array_like of shape (n, k)
+    X : array_like of shape (n, k), or CodedColumns
     weights : array_like of shape (n,)
         Non-negative row weights, e.g. the number of accounts with each pattern.
     names : sequence of str, optional
@@ -106,20 +107,24 @@ def weighted_correlation(X, weights, *, names=None) -> np.ndarray:
     array([[1.    , 0.4264],
            [0.4264, 1.    ]])
     """
-    X = as_design(X, "X")
-    w = _weights(weights, "weights", X.shape[0])
+    coded = _coded(X)
+    k = coded.n_columns
+    w = _weights(weights, "weights", coded.n_rows)
     w = w / w.sum()
-    mean = w @ X
-    covariance = np.zeros((X.shape[1], X.shape[1]))
-    # Summed over blocks of rows, so no centred copy of a large matrix is ever held whole.
-    for start in range(0, X.shape[0], _BLOCK_ROWS):
-        centred = X[start:start + _BLOCK_ROWS] - mean
-        covariance += centred.T @ (w[start:start + _BLOCK_ROWS, None] * centred)
+    # Means and ranges come exactly from the weight of each code; the float design is only
+    # ever made a block of rows at a time.
+    per_code = coded.column_sums(w)
+    mean = np.array([values @ share for values, share in zip(coded.values, per_code)])
+    scale = np.array([np.abs(values[share > 0]).max(initial=0.0)
+                      for values, share in zip(coded.values, per_code)])
+    covariance = np.zeros((k, k))
+    for start, stop, block in coded.blocks(range(k)):
+        centred = block - mean
+        covariance += centred.T @ (w[start:stop, None] * centred)
     spread = np.sqrt(np.diag(covariance))
-    scale = np.abs(X[w > 0]).max(axis=0, initial=0.0)
     constant = spread <= 1e-12 * np.maximum(scale, np.finfo(float).tiny)
     if constant.any():
-        labels = _labels(names, X.shape[1])
+        labels = _labels(names, k)
         warnings.warn(
             "constant under the weights, so its correlations are undefined (nan): "
             + ", ".join(labels[j] for j in np.flatnonzero(constant)),
@@ -159,11 +164,7 @@ def variance_inflation(X, weights, *, names=None) -> np.ndarray:
     >>> np.round(variance_inflation(X, [1, 2, 1]), 4)
     array([1.2222, 1.2222])
     """
-    correlation = weighted_correlation(X, weights, names=names)
-    usable = ~np.isnan(np.diag(correlation))
-    vif = np.full(correlation.shape[0], np.inf)
-    vif[usable] = _inverse_diagonal(correlation[np.ix_(usable, usable)])
-    return vif
+    return _vif(weighted_correlation(X, weights, names=names))
 
 
 def select_characteristics(
@@ -185,8 +186,9 @@ def select_characteristics(
 
     Parameters
     ----------
-    X : array_like of shape (n, k)
-        WoE-coded value of each candidate for each pattern.
+    X : array_like of shape (n, k), or CodedColumns
+        WoE-coded value of each candidate for each pattern; as codes with a value table per
+        column (the bins and their weights of evidence), nothing of size n by k is made.
     successes, failures : array_like of shape (n,)
         Weighted counts of goods and bads per pattern.
     names : sequence of str
@@ -229,32 +231,24 @@ def select_characteristics(
     >>> result.selected, result.fates["b"].stage
     (('a',), 'information value')
     """
-    X = as_design(X, "X")
-    n, k = X.shape
+    coded = _coded(X)
+    n, k = coded.n_rows, coded.n_columns
     _check_settings(min_iv, max_correlation, max_vif, method, entry_p_value, max_characteristics)
     names = _names(names, k)
     successes = _weights(successes, "successes", n)
     failures = _weights(failures, "failures", n)
     keep = _keep(keep, names, max_characteristics)
     weights = successes + failures
-    correlation = weighted_correlation(X, weights, names=names)
-    # The design with intercept is built once, on the rows that carry weight; every refit
-    # and score test below works on column subsets of it.
+    correlation = weighted_correlation(coded, weights, names=names)
     used = weights > 0
-    candidates = np.ascontiguousarray(X if used.all() else X[used])
     data = _Candidates(
-        X=X,
-        successes=successes,
-        failures=failures,
-        weights=weights,
+        coded=coded if used.all() else coded.rows(used),
+        successes=successes[used],
+        failures=failures[used],
         names=names,
         iv=_information_values(information_values, names),
         kept=tuple(names.index(name) for name in keep),
-        used_successes=successes[used],
-        used_failures=failures[used],
         correlation=correlation,
-        candidates=candidates,
-        candidates_squared=candidates**2,
     )
     _require_estimable(data)
 
@@ -275,8 +269,12 @@ def select_characteristics(
             break
 
     chosen = tuple(names[j] for j in selected)
-    start, _, _ = data.fast_fit(selected)
-    fit = fit_logistic(X[:, selected], successes, failures, names=chosen, start=start)
+    # The final fit runs on one row per distinct pattern of the chosen columns: the same
+    # likelihood as on every row, on far fewer rows.
+    grouped = data.grouped(data.coded.group(selected))
+    start, _, _ = newton_fit(*grouped, None, SELECTION_TOLERANCE)
+    fit = fit_logistic(grouped.design[:, 1:], grouped.successes, grouped.failures,
+                       names=chosen, start=start)
     _warn_about_outcome(fit, chosen, keep)
     vif = data.vif(selected)
     for j in selected:
@@ -292,44 +290,62 @@ def select_characteristics(
     )
 
 
-class _Candidates(NamedTuple):
-    X: np.ndarray
+class _Grouped(NamedTuple):
+    """One design row (intercept first) per group, with the group's goods and bads."""
+
+    design: np.ndarray
     successes: np.ndarray
     failures: np.ndarray
-    weights: np.ndarray
+
+
+class _Candidates(NamedTuple):
+    coded: CodedColumns          # rows of positive weight only
+    successes: np.ndarray
+    failures: np.ndarray
     names: list[str]
     iv: np.ndarray
     kept: tuple[int, ...]
-    used_successes: np.ndarray
-    used_failures: np.ndarray
     correlation: np.ndarray
-    candidates: np.ndarray
-    candidates_squared: np.ndarray
 
-    def columns(self, columns) -> np.ndarray:
-        """The design of the model on ``columns``, intercept column first."""
-        ones = np.ones((len(self.candidates), 1))
-        return np.hstack([ones, self.candidates[:, list(columns)]])
+    def grouped(self, groups: Groups) -> _Grouped:
+        design = np.column_stack([np.ones(groups.count), self.coded.group_values(groups)])
+        def summed(w):
+            return np.bincount(groups.index, weights=w, minlength=groups.count)
+        return _Grouped(design, summed(self.successes), summed(self.failures))
 
-    def fast_fit(self, columns, start=None, design=None):
+    def fast_fit(self, columns, start=None):
         """Coefficients, information matrix and log-likelihood of the model on ``columns``."""
-        design = self.columns(columns) if design is None else design
-        return newton_fit(design, self.used_successes, self.used_failures, start,
-                          SELECTION_TOLERANCE)
+        return newton_fit(*self.grouped(self.coded.group(columns)), start, SELECTION_TOLERANCE)
 
-    def score(self, design, coefficients):
-        """Score-test statistics and p-values of every candidate against a fitted model."""
-        return score_statistics(design, self.candidates, self.used_successes,
-                                self.used_failures, coefficients, self.candidates_squared)
+    def score(self, groups: Groups, grouped: _Grouped, coefficients, columns):
+        """Score-test statistics and p-values of ``columns``, each against the fitted model.
+
+        The model's fitted probability is a function of the group, so the sums over rows that
+        the test needs are made block by block from the codes.
+        """
+        eta = grouped.design @ coefficients
+        p, q = special.expit(eta), special.expit(-eta)
+        information = (grouped.design * ((grouped.successes + grouped.failures) * p * q)[:, None]).T \
+            @ grouped.design
+        n = self.successes + self.failures
+        fitted = p[groups.index]
+        residual = self.successes - n * fitted
+        variance_weight = n * fitted * q[groups.index]
+        m = len(columns)
+        score, own = np.zeros(m), np.zeros(m)
+        cross = np.zeros((grouped.design.shape[1], m))
+        for start, stop, block in self.coded.blocks(columns):
+            v = variance_weight[start:stop]
+            score += block.T @ residual[start:stop]
+            own += (block * block).T @ v
+            cross += (grouped.design[groups.index[start:stop]] * v[:, None]).T @ block
+        return score_statistics_from_sums(score, own, cross, information)
 
     def vif(self, columns) -> np.ndarray:
         """VIF from the correlation matrix computed once: no pass over the patterns."""
         if not len(columns):
             return np.empty(0)
-        sub = self.correlation[np.ix_(columns, columns)]
-        if np.isnan(sub).any():
-            return np.full(len(columns), np.inf)
-        return _inverse_diagonal(sub)
+        return _vif(self.correlation[np.ix_(columns, columns)])
 
 
 def floor_fates(names, information_values, min_iv, keep=()) -> dict[str, Fate]:
@@ -395,14 +411,14 @@ def _prune_correlated(data: _Candidates, candidates, correlation, max_correlatio
 def _forward(data: _Candidates, candidates, entry_p_value, cap, fates):
     names = data.names
     chosen = list(data.kept)
-    design = data.columns(chosen)
-    coefficients, _, _ = data.fast_fit(chosen, design=design)
+    groups = data.coded.group(chosen)
+    grouped = data.grouped(groups)
+    coefficients, _, _ = newton_fit(*grouped, None, SELECTION_TOLERANCE)
     remaining = sorted(candidates, key=lambda j: names[j])
     last_p: dict[int, float] = {}
     steps = []
     while remaining and len(chosen) < cap:
-        every_statistic, every_p = data.score(design, coefficients)
-        statistics, p_values = every_statistic[remaining], every_p[remaining]
+        statistics, p_values = data.score(groups, grouped, coefficients, remaining)
         last_p = dict(zip(remaining, p_values))
         # The largest statistic is the smallest p-value, without the p-values' underflow to 0;
         # `remaining` is sorted by name, so argmax breaks ties by name.
@@ -411,8 +427,10 @@ def _forward(data: _Candidates, candidates, entry_p_value, cap, fates):
             break
         entering = remaining.pop(best)
         chosen.append(entering)
-        design = np.column_stack([design, data.candidates[:, entering]])
-        coefficients, _, fitted = data.fast_fit(chosen, np.append(coefficients, 0.0), design)
+        groups = data.coded.refine(groups, entering)
+        grouped = data.grouped(groups)
+        coefficients, _, fitted = newton_fit(*grouped, np.append(coefficients, 0.0),
+                                             SELECTION_TOLERANCE)
         steps.append(
             {
                 "step": len(steps) + 1,
@@ -491,10 +509,7 @@ def _drop_collinear(data: _Candidates, selected, max_vif, fates) -> list[int]:
 def _require_estimable(data: _Candidates) -> None:
     if not data.kept:
         return
-    with warnings.catch_warnings():
-        # A constant kept column is reported by the error below; its warning would repeat it.
-        warnings.simplefilter("ignore")
-        vif = variance_inflation(data.X[:, list(data.kept)], data.weights)
+    vif = data.vif(list(data.kept))
     if np.isinf(vif).any():
         raise InputError(
             f"keep: {data.names[data.kept[int(np.argmax(vif))]]!r} is constant or an exact "
@@ -520,6 +535,18 @@ def _warn_about_outcome(fit: LogisticFit, chosen, keep) -> None:
 def _p_text(p: float) -> str:
     # Below about 1e-16 a p-value says nothing more than "certain"; tiny ones often underflow.
     return "< 1e-16" if p < 1e-16 else f"{p:.3g}"
+
+
+def _vif(correlation: np.ndarray) -> np.ndarray:
+    """VIF of each column from a correlation matrix whose constant columns are nan."""
+    usable = ~np.isnan(np.diag(correlation))
+    vif = np.full(correlation.shape[0], np.inf)
+    vif[usable] = _inverse_diagonal(correlation[np.ix_(usable, usable)])
+    return vif
+
+
+def _coded(X) -> CodedColumns:
+    return X if isinstance(X, CodedColumns) else code_columns(as_design(X, "X"))
 
 
 def _inverse_diagonal(correlation: np.ndarray) -> np.ndarray:
