@@ -2,6 +2,8 @@
 
     python benchmarks/bench_build.py [--dir DIR] [--rows 1000000] [--dask-rows 20000000]
 
+It needs the test extras (``pip install -e ".[test]"``: statsmodels, psutil, Dask).
+
 Writes invented rows (see ``synthetic.py``; fixed seed) as Parquet and CSV, then reports:
 
 a. reading the Parquet file into memory against ``scorecard build`` end to end (workbook and

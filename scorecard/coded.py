@@ -114,9 +114,13 @@ class CodedColumns:
         index = factorize(groups.index * self.radix[column] + self.codes[:, column])
         return Groups(groups.columns + (column,), index, first_rows(index))
 
-    def group_values(self, groups: Groups) -> np.ndarray:
-        """The values of each group on its columns, shape (groups, len(columns))."""
-        out = np.empty((groups.count, len(groups.columns)))
+    def group_values(self, groups: Groups, out: np.ndarray | None = None) -> np.ndarray:
+        """The values of each group on its columns, shape (groups, len(columns)).
+
+        ``out``, when given, receives them (a slice of a larger design, say).
+        """
+        if out is None:
+            out = np.empty((groups.count, len(groups.columns)))
         for i, j in enumerate(groups.columns):
             out[:, i] = self.values[j][self.codes[groups.first, j]]
         return out

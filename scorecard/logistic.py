@@ -5,9 +5,11 @@ carries its weighted count of successes and failures. For weight-of-evidence cod
 exact, since every applicant with the same pattern of bins has the same design row. The model
 predicts the log-odds of a success (in a scorecard, of GOOD).
 
-:func:`fit_logistic` is the reported fit (statsmodels, with standard errors and p-values);
-:func:`fit_logistic_fast` and :func:`score_test` are the numpy primitives that forward selection
-calls many times.
+:func:`fit_logistic` is the reported fit, with standard errors and p-values from the inverse of
+the information matrix at the optimum; :func:`fit_logistic_fast` and :func:`score_test` are the
+lighter primitives that forward selection calls many times. All of them run Newton's method in
+numpy, whose memory stays at a few copies of the design; the tests hold the fit to statsmodels'
+GLM and to published tables.
 """
 
 from __future__ import annotations
@@ -16,7 +18,6 @@ import warnings
 from typing import NamedTuple
 
 import numpy as np
-import statsmodels.api as sm
 from scipy import special, stats
 
 from .errors import InputError
@@ -25,15 +26,12 @@ from .errors import InputError
 # iterations more than a loose tolerance and makes two fits of the same data agree to ~1e-10.
 _STEP_TOLERANCE = 1e-12
 # Forward selection only ranks candidates by score tests, which a 1e-9 step does not move; the
-# reported fit is statsmodels' own at full precision.
+# reported fit runs to the full precision above.
 SELECTION_TOLERANCE = 1e-9
 # Steps larger than this are checked against the log-likelihood and halved if they overshoot;
 # within it Newton's method is in its quadratic range and every full step is an improvement.
 _CHECKED_STEP = 1e-2
 _MAX_ITERATIONS = 100
-# statsmodels' IRLS re-solves a weighted least-squares problem each iteration, whose rounding
-# noise is larger than Newton's; a tighter bound could fail to be met and look like divergence.
-_SM_TOLERANCE = 1e-10
 _SEPARATED_LOG_ODDS = 30.0
 
 # Ridge strength of the fallback fit, per unit of total weight, on standardised columns. Under
@@ -121,22 +119,18 @@ def fit_logistic(X, successes, failures, names=None, start=None) -> LogisticFit:
     X1, s, f = _prepare(X, successes, failures)
     names = _column_names(names, X1.shape[1] - 1)
     _require_full_rank(X1, names)
-    # statsmodels warns of "perfect prediction" whenever a model is saturated, which is normal
-    # for grouped counts; separation is judged by _trouble instead.
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        result = sm.GLM(np.column_stack([s, f]), X1, family=sm.families.Binomial()).fit(
-            start_params=None if start is None else np.asarray(start, dtype=float),
-            tol_criterion="params",
-            atol=_SM_TOLERANCE,
-            rtol=_SM_TOLERANCE,
-            maxiter=_MAX_ITERATIONS,
-        )
-    trouble = _trouble(result, X1)
+    optimum = _newton(X1, s, f, _start(start, X1.shape[1]), np.zeros(X1.shape[1]))
+    coefficients = optimum.coefficients
+    # The information matrix at the optimum itself, not the one Newton's last step reused.
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        information = _information_at(X1, s + f, X1 @ coefficients)
+        try:
+            standard_errors = np.sqrt(np.diag(np.linalg.inv(information)))
+        except np.linalg.LinAlgError:
+            standard_errors = np.full(X1.shape[1], np.inf)
+    trouble = _trouble(optimum, standard_errors, X1)
     if trouble is None:
-        coefficients = np.asarray(result.params, dtype=float)
-        standard_errors = np.asarray(result.bse, dtype=float)
-        converged, iterations = True, int(result.fit_history["iteration"])
+        converged, iterations = True, optimum.iterations
     else:
         coefficients, standard_errors, iterations = _ridge_fallback(X1, s, f)
         converged = False
@@ -194,14 +188,7 @@ def fit_logistic_fast(X, successes, failures, start=None) -> tuple[np.ndarray, n
     array([-1.0986,  2.1972])
     """
     X1, s, f = _prepare(X, successes, failures)
-    if start is not None:
-        start = np.asarray(start, dtype=float)
-        if start.shape != (X1.shape[1],):
-            raise InputError(
-                f"start: expected {X1.shape[1]} coefficients (intercept first), "
-                f"got shape {start.shape}"
-            )
-    coefficients, _, _ = newton_fit(X1, s, f, start)
+    coefficients, _, _ = newton_fit(X1, s, f, _start(start, X1.shape[1]))
     return coefficients, _information_at(X1, s + f, X1 @ coefficients)
 
 
@@ -375,6 +362,16 @@ def _prepare(X, successes, failures) -> tuple[np.ndarray, np.ndarray, np.ndarray
     return X1, s[used], f[used]
 
 
+def _start(start, k: int) -> np.ndarray | None:
+    if start is None:
+        return None
+    start = np.asarray(start, dtype=float)
+    if start.shape != (k,):
+        raise InputError(f"start: expected {k} coefficients (intercept first), "
+                         f"got shape {start.shape}")
+    return start
+
+
 def _column_names(names, k: int) -> tuple[str, ...]:
     if names is None:
         return tuple(f"x{j + 1}" for j in range(k))
@@ -401,18 +398,18 @@ def _require_full_rank(X1: np.ndarray, names: tuple[str, ...]) -> None:
             )
 
 
-def _trouble(result, X1) -> str | None:
-    """Say why a statsmodels fit cannot be reported as a maximum-likelihood fit, if it can't."""
-    if not result.converged:
+def _trouble(optimum: _Optimum, standard_errors, X1) -> str | None:
+    """Say why a fit cannot be reported as a maximum-likelihood fit, if it can't."""
+    if not optimum.converged:
         return (
             f"the maximum-likelihood fit did not converge in {_MAX_ITERATIONS} iterations "
             "(the data are probably separated, so some coefficient runs to infinity)"
         )
-    if not (np.all(np.isfinite(result.params)) and np.all(np.isfinite(result.bse))):
+    if not (np.all(np.isfinite(optimum.coefficients)) and np.all(np.isfinite(standard_errors))):
         return "the maximum-likelihood fit gave non-finite numbers"
     # Odds beyond e**30 on an observed pattern mean a coefficient has run off to where the
-    # weights underflow, which IRLS can mistake for convergence.
-    if np.max(np.abs(X1 @ result.params)) > _SEPARATED_LOG_ODDS:
+    # weights underflow, which a step-size test can mistake for convergence.
+    if np.max(np.abs(X1 @ optimum.coefficients)) > _SEPARATED_LOG_ODDS:
         return "fitted probabilities of 0 or 1 show that the data are separated"
     return None
 

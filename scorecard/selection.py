@@ -308,10 +308,13 @@ class _Candidates(NamedTuple):
     correlation: np.ndarray
 
     def grouped(self, groups: Groups) -> _Grouped:
-        design = np.column_stack([np.ones(groups.count), self.coded.group_values(groups)])
-        def summed(w):
-            return np.bincount(groups.index, weights=w, minlength=groups.count)
-        return _Grouped(design, summed(self.successes), summed(self.failures))
+        # Filled in place: one design-sized array, however many columns are chosen.
+        design = np.empty((groups.count, 1 + len(groups.columns)))
+        design[:, 0] = 1.0
+        self.coded.group_values(groups, out=design[:, 1:])
+        successes, failures = (np.bincount(groups.index, weights=w, minlength=groups.count)
+                               for w in (self.successes, self.failures))
+        return _Grouped(design, successes, failures)
 
     def fast_fit(self, columns, start=None):
         """Coefficients, information matrix and log-likelihood of the model on ``columns``."""

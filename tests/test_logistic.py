@@ -141,6 +141,21 @@ def test_fast_fit_equals_statsmodels_on_fractional_counts(seed):
     np.testing.assert_allclose(np.linalg.inv(information), reference.cov_params(), rtol=1e-7)
 
 
+@settings(max_examples=15, deadline=None)
+@given(seed=st.integers(0, 2**32 - 1))
+def test_reported_fit_equals_statsmodels_on_fractional_counts(seed):
+    X, successes, failures = random_grouped(seed)
+    fit = fit_logistic(X, successes, failures)
+    reference = sm.GLM(
+        np.column_stack([successes, failures]), sm.add_constant(X), family=sm.families.Binomial()
+    ).fit(tol=1e-12, tol_criterion="params")
+    # reference library: statsmodels' GLM, an independent IRLS fit, with its Wald table.
+    assert fit.converged
+    np.testing.assert_allclose(fit.coefficients, reference.params, rtol=0, atol=1e-8)
+    np.testing.assert_allclose(fit.standard_errors, reference.bse, rtol=1e-7)
+    np.testing.assert_allclose(fit.p_values, reference.pvalues, rtol=1e-6, atol=1e-300)
+
+
 def test_fast_fit_from_a_poor_start_reaches_the_same_optimum():
     X, successes, failures = random_grouped(7)
     coefficients, _ = fit_logistic_fast(X, successes, failures)

@@ -243,7 +243,7 @@ def test_overview_states_the_facts_the_manifest_and_the_cautions(demo, book):
     assert facts["Config file SHA-256"] == \
         hashlib.sha256(Path(result.config.config_file).read_bytes()).hexdigest()
     assert facts["Random seed of the holdout split"] == result.config.samples.seed
-    for package in ("scorecard", "numpy", "pandas", "scipy", "statsmodels", "openpyxl", "pyarrow"):
+    for package in ("scorecard", "numpy", "pandas", "scipy", "openpyxl", "pyarrow"):
         assert facts[f"Version of {package}"]
     assert re.fullmatch(r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d\+00:00", facts[RUN_TIME_LABEL])
     model_title = next(r for r, t in enumerate(texts, 1) if str(t).startswith("Characteristics in"))

@@ -13,7 +13,7 @@ from importlib import metadata
 from pathlib import Path
 from typing import NamedTuple
 
-PACKAGES = ("scorecard", "numpy", "pandas", "scipy", "statsmodels", "openpyxl", "pyarrow")
+PACKAGES = ("scorecard", "numpy", "pandas", "scipy", "openpyxl", "pyarrow")
 CHUNK = 1 << 20
 
 
