@@ -123,7 +123,7 @@ def fit_logistic(X, successes, failures, names=None, start=None) -> LogisticFit:
     coefficients = optimum.coefficients
     # The information matrix at the optimum itself, not the one Newton's last step reused.
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        information = _information_at(X1, s + f, X1 @ coefficients)
+        information = information_at(X1, s + f, X1 @ coefficients)
         try:
             standard_errors = np.sqrt(np.diag(np.linalg.inv(information)))
         except np.linalg.LinAlgError:
@@ -189,7 +189,7 @@ def fit_logistic_fast(X, successes, failures, start=None) -> tuple[np.ndarray, n
     """
     X1, s, f = _prepare(X, successes, failures)
     coefficients, _, _ = newton_fit(X1, s, f, _start(start, X1.shape[1]))
-    return coefficients, _information_at(X1, s + f, X1 @ coefficients)
+    return coefficients, information_at(X1, s + f, X1 @ coefficients)
 
 
 def newton_fit(X1, s, f, start=None, tolerance=_STEP_TOLERANCE) -> tuple[np.ndarray, np.ndarray, float]:
@@ -450,7 +450,7 @@ def _newton(X1, s, f, start, penalty, tolerance=_STEP_TOLERANCE) -> _Optimum:
         # the gradient is exact, so the iterates still converge to the exact optimum, and each
         # step costs two products with the design instead of a weighted cross product.
         if last_step > _CHECKED_STEP ** 2:
-            hessian = _information_at(X1, n, eta)
+            hessian = information_at(X1, n, eta)
         try:
             step = np.linalg.solve(hessian + np.diag(penalty), gradient)
         except np.linalg.LinAlgError:
@@ -479,6 +479,7 @@ def _newton(X1, s, f, start, penalty, tolerance=_STEP_TOLERANCE) -> _Optimum:
     return _Optimum(b, hessian, False, iteration)
 
 
-def _information_at(X1, n, eta) -> np.ndarray:
+def information_at(X1, n, eta) -> np.ndarray:
+    """Fisher information ``X1' diag(n p (1 - p)) X1`` at the linear predictor ``eta``."""
     weighted = X1 * (n * special.expit(eta) * special.expit(-eta))[:, None]
     return weighted.T @ X1

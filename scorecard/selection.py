@@ -27,7 +27,7 @@ from scipy import special
 from .coded import CodedColumns, Groups, code_columns
 from .errors import InputError
 from .logistic import (SELECTION_TOLERANCE, LogisticFit, as_design, as_weights, fit_logistic,
-                       newton_fit, score_statistics_from_sums)
+                       information_at, newton_fit, score_statistics_from_sums)
 
 METHODS = ("stepwise", "all")
 
@@ -272,9 +272,7 @@ def select_characteristics(
     # The final fit runs on one row per distinct pattern of the chosen columns: the same
     # likelihood as on every row, on far fewer rows.
     grouped = data.grouped(data.coded.group(selected))
-    start, _, _ = newton_fit(*grouped, None, SELECTION_TOLERANCE)
-    fit = fit_logistic(grouped.design[:, 1:], grouped.successes, grouped.failures,
-                       names=chosen, start=start)
+    fit = fit_logistic(grouped.design[:, 1:], grouped.successes, grouped.failures, names=chosen)
     _warn_about_outcome(fit, chosen, keep)
     vif = data.vif(selected)
     for j in selected:
@@ -328,8 +326,7 @@ class _Candidates(NamedTuple):
         """
         eta = grouped.design @ coefficients
         p, q = special.expit(eta), special.expit(-eta)
-        information = (grouped.design * ((grouped.successes + grouped.failures) * p * q)[:, None]).T \
-            @ grouped.design
+        information = information_at(grouped.design, grouped.successes + grouped.failures, eta)
         n = self.successes + self.failures
         fitted = p[groups.index]
         residual = self.successes - n * fitted
