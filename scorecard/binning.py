@@ -13,11 +13,13 @@ import math
 from typing import NamedTuple
 
 import numpy as np
+import pandas as pd
 
 from .errors import InputError
-from .fine import NumericLayout, quantile_starts
+from .fine import NumericLayout, grid_cells, quantile_starts
 from .model import LEVELS, MISSING, OUT_OF_RANGE, RANGE, SPECIAL, UNSEEN, Bin, Characteristic
 from .optimal import optimal_bins
+from .scoring import bin_codes
 
 OTHER_LEVELS = "other levels"
 
@@ -153,6 +155,41 @@ def class_categorical(name: str, levels, goods: np.ndarray, bads: np.ndarray, *,
                tuple(lv for c in classes[lo:hi] for lv in c[1]))
               for lo, hi in zip(bounds[:-1], bounds[1:])]
     return BinningOutcome(categorical_draft(name, groups), len(classes), "ascending", "")
+
+
+def bins_of_fine_classes(char: Characteristic, layout) -> np.ndarray | None:
+    """The bin of each fine code, when every fine class falls whole into one bin; else None.
+
+    Then a characteristic's counts by bin are sums of its fine-class counts, exactly, and need
+    no pass over the rows. That holds when every cut is a cut of the fine grid (manual cuts may
+    not be), and when no bin depends on the development range, as an out-of-range bin does:
+    a grid cell can straddle the range's end. Categorical fine classes are the levels, whose
+    bins :func:`scorecard.scoring.bin_codes` gives by the same text matching as for rows.
+
+    Examples
+    --------
+    >>> char = numeric_draft("x", [2.0], (), (0.0, 9.0), out_of_range_bin=False)
+    >>> bins_of_fine_classes(char, NumericLayout(np.array([1.0, 2.0, 3.0]), ())).tolist()
+    [0, 0, 1, 1, 2]
+    """
+    missing = char.bin_index(MISSING)
+    if missing is None:
+        return None
+    if isinstance(layout, NumericLayout):
+        cuts = np.asarray(char.cuts, dtype=float)
+        if char.bin_index(OUT_OF_RANGE) is not None or not np.isin(cuts, layout.cuts).all():
+            return None
+        # A cell's lower edge stands for the whole cell: no bin cut falls inside a cell.
+        cells = grid_cells(np.concatenate([[-np.inf], layout.cuts]), cuts)
+        special = {b.value: i for i, b in enumerate(char.bins) if b.kind == SPECIAL}
+        # A declared special value with no bin of its own is scored by its value.
+        specials = [special.get(v, int(grid_cells(np.array([v]), cuts)[0]))
+                    for v in layout.special_values]
+        return np.concatenate([cells, [missing], specials]).astype(np.intp)
+    if char.bin_index(UNSEEN) is None:
+        return None
+    levels = pd.Series(list(layout) + [None], dtype=object)
+    return bin_codes(char, levels)[0].astype(np.intp)
 
 
 def limits_from(total_weight: float, max_bins: int, min_share: float, min_goods: float,

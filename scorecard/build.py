@@ -301,6 +301,28 @@ def _histograms(card: Scorecard, patterns, names) -> dict:
     return out
 
 
+def _bin_tables(engine, rows, drafts, layouts, counts) -> list[np.ndarray]:
+    """Weights by (bin, sample, outcome) of every characteristic.
+
+    Summed from the fine classes wherever each fine class falls whole into one bin; the other
+    characteristics (off-grid manual cuts, out-of-range bins) are counted in a pass over the
+    rows. Both are exact.
+    """
+    maps = [binning.bins_of_fine_classes(d, layouts[d.name]) for d in drafts]
+    uncounted = [d for d, m in zip(drafts, maps) if m is None]
+    counted = iter(engine.reduce(bin_counts, merge_bin_counts, rows, uncounted)
+                   if uncounted else ())
+    tables = []
+    for draft, fine_bin in zip(drafts, maps):
+        if fine_bin is None:
+            tables.append(next(counted))
+            continue
+        table = np.zeros((len(draft.bins),) + counts[draft.name].table.shape[1:])
+        np.add.at(table, fine_bin, counts[draft.name].table)
+        tables.append(table)
+    return tables
+
+
 def _binned_report(draft: Characteristic, table: np.ndarray, limits, config,
                    report: CharacteristicReport) -> Characteristic:
     """Fill ``report`` with the bins' counts, WoE, IV and MI; return the binned characteristic."""
@@ -352,10 +374,9 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
         raise InputError(f"{config.data.source}: no characteristic could be binned")
     _say(progress, f"coarse classes formed for {len(drafts)} characteristics")
 
-    tables = engine.reduce(bin_counts, merge_bin_counts, rows, drafts)
+    tables = _bin_tables(engine, rows, drafts, layouts, counts)
     binned = [_binned_report(draft, table, limits, config, reports[draft.name])
               for draft, table in zip(drafts, tables)]
-    _say(progress, f"rows counted into the bins of {len(binned)} characteristics")
 
     # Only characteristics that pass the information value floor (or are kept) can enter the
     # model, so only they take part in the pattern table: it stays small however many weak

@@ -17,7 +17,7 @@ from typing import NamedTuple
 import numpy as np
 import pandas as pd
 
-from .data import BAD, DEVELOPMENT, EXCLUDED
+from .data import BAD, DEVELOPMENT, EXCLUDED, GOOD
 from .fine import NumericLayout, numeric_codes, regular_range
 from .patterns import Patterns, distinct_patterns, merge_distinct
 from .scoring import bin_codes, categorical_codes, level_labels, numeric_values
@@ -81,15 +81,27 @@ def merge_summaries(a: dict, b: dict) -> dict:
 
 
 class FineCounts(NamedTuple):
-    """Development goods and bads per fine code, and the development value range."""
+    """Weights per fine code by sample and outcome, and the development value range.
 
-    goods: np.ndarray
-    bads: np.ndarray
+    ``table`` has shape (codes, 3, 2): samples as in :data:`scorecard.data.SAMPLE_NAMES`,
+    outcomes good then bad. The classing reads the development part; the other samples let a
+    characteristic's bins be counted from its fine classes without another pass.
+    """
+
+    table: np.ndarray
     development_range: tuple[float, float] | None
+
+    @property
+    def goods(self) -> np.ndarray:
+        return self.table[:, DEVELOPMENT, GOOD]
+
+    @property
+    def bads(self) -> np.ndarray:
+        return self.table[:, DEVELOPMENT, BAD]
 
 
 def fine_counts(frame: pd.DataFrame, rows: RowFacts, layouts: dict) -> dict:
-    """Fine-class counts on the development rows for every characteristic.
+    """Fine-class counts by sample and outcome for every characteristic.
 
     ``layouts`` maps a name to a :class:`NumericLayout` or to the tuple of its levels.
     Categorical codes are the level index, with the missing code last.
@@ -103,24 +115,26 @@ def fine_counts(frame: pd.DataFrame, rows: RowFacts, layouts: dict) -> dict:
     ([1.0, 0.0, 1.0], [0.0, 1.0, 0.0], (1.0, 5.0))
     """
     dev = rows.sample == DEVELOPMENT
-    # Rows outside development weigh nothing: one weighted count per column, no row selection.
-    dev_weight = np.where(dev, rows.weight, 0.0)
-    bad = (rows.label == BAD).astype(np.intp)
+    kept = rows.sample != EXCLUDED
+    # Left-out rows weigh nothing: one weighted count per column, no row selection.
+    weight = np.where(kept, rows.weight, 0.0)
+    cell = np.where(kept, rows.sample.astype(np.intp) * 2 + rows.label, 0)
+    cells = N_SAMPLES * 2
 
     def counted(codes, n_codes):
-        pair = np.bincount(codes * 2 + bad, weights=dev_weight, minlength=2 * n_codes)
-        return pair[0::2], pair[1::2]
+        table = np.bincount(codes * cells + cell, weights=weight, minlength=n_codes * cells)
+        return table.reshape(n_codes, N_SAMPLES, 2)
 
     def one(item):
         name, layout = item
         series = frame[name]
         if isinstance(layout, NumericLayout):
             x = numeric_values(series, name)
-            goods, bads = counted(numeric_codes(x, layout), layout.n_codes)
-            return name, FineCounts(goods, bads, regular_range(x, layout.special_values, dev))
+            table = counted(numeric_codes(x, layout), layout.n_codes)
+            return name, FineCounts(table, regular_range(x, layout.special_values, dev))
         idx = categorical_codes(series, layout)
-        goods, bads = counted(np.where(idx < 0, len(layout), idx), len(layout) + 1)
-        return name, FineCounts(goods, bads, None)
+        return name, FineCounts(counted(np.where(idx < 0, len(layout), idx), len(layout) + 1),
+                                None)
 
     return dict(_each(one, list(layouts.items()), len(frame)))
 
@@ -133,7 +147,7 @@ def merge_fine(a: dict, b: dict) -> dict:
         if fa.development_range is not None:
             rng = (float(np.fmin(fa.development_range[0], fb.development_range[0])),
                    float(np.fmax(fa.development_range[1], fb.development_range[1])))
-        out[name] = FineCounts(fa.goods + fb.goods, fa.bads + fb.bads, rng)
+        out[name] = FineCounts(fa.table + fb.table, rng)
     return out
 
 

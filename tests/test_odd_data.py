@@ -17,9 +17,10 @@ import pytest
 
 from scorecard.build import build_scorecard
 from scorecard.config import parse_config
-from scorecard.data import read_frame
+from scorecard.data import assign_samples, code_outcome, read_frame
 from scorecard.engine import LocalEngine
-from scorecard.model import LEVELS, RANGE
+from scorecard.model import LEVELS, OUT_OF_RANGE, RANGE
+from scorecard.passes import RowFacts, bin_counts
 from scorecard.scoring import apply_scorecard, bin_codes
 from scorecard.starter import starter_config
 
@@ -298,3 +299,33 @@ def test_the_characteristics_sheet_shows_every_fate_and_reason(tmp_path):
         assert row[header.index("Status")] == rep.status
         assert (row[header.index("Reason")] or "") == rep.reason
     assert {"branch", "income", "reference", "oracle"} <= set(by_name)
+
+
+@pytest.mark.parametrize("extra, counted_from_rows", [
+    ("", False),
+    # Manual cuts off the fine grid and out-of-range bins: such bins are not unions of fine
+    # classes, so the build counts them from the rows.
+    ("characteristics: {x: {cuts: [-0.1234, 0.4567]}}\nscoring: {out_of_range: neutral}\n", True),
+])
+def test_bin_tables_by_sample_equal_a_count_of_the_rows(tmp_path, extra, counted_from_rows):
+    # Definition: every row of a sample is counted, with its weight, in the bin that scoring
+    # gives it; the build may instead sum fine classes that fall whole into one bin.
+    frame = make_frame(n=4000, seed=5)
+    rng = np.random.default_rng(5)
+    frame["w"] = rng.uniform(0.5, 2.0, len(frame)).round(3)
+    frame.loc[rng.random(len(frame)) < 0.05, "z"] = np.nan
+    frame = via_csv(frame, tmp_path)
+    text = ("data: {source: odd.csv, target: y, bad: [bad], good: [good], weight: w}\n"
+            "samples: {holdout: 0.3, seed: 7}\n" + extra)
+    config = parse_config(text, tmp_path / "odd.yaml")
+    result = build_scorecard(config, LocalEngine(frame))
+    outcome = code_outcome(frame["y"], ["bad"], ["good"], frame["w"], "w")
+    rows = RowFacts(outcome.label, outcome.weight,
+                    assign_samples(outcome.label, 0.3, 7, None))
+    binned = [r for r in result.reports if r.sample_counts is not None]
+    assert {r.name for r in binned} == {"x", "z", "channel"}
+    for rep in binned:
+        expected = bin_counts(frame, rows, [rep.characteristic])[0]
+        np.testing.assert_allclose(rep.sample_counts, expected, rtol=1e-12, atol=1e-9)
+    has_out_of_range = any(b.kind == OUT_OF_RANGE for b in report(result, "x").characteristic.bins)
+    assert has_out_of_range == counted_from_rows
