@@ -124,7 +124,8 @@ def _outcome_facts(config, engine):
             late = dates >= np.datetime64(pd.Timestamp(oot.from_date), "ns")
         return out.label, out.weight, late
 
-    label, weight, late = engine.collect(per_chunk)
+    needed = [data.target] + [c for c in (data.weight, oot.column if oot else None) if c]
+    label, weight, late = engine.collect(per_chunk, columns=needed)
     sample = assign_samples(label, config.samples.holdout, config.samples.seed,
                             late if oot is not None else None)
     return RowFacts(label, weight, sample)
@@ -310,8 +311,8 @@ def _bin_tables(engine, rows, drafts, layouts, counts) -> list[np.ndarray]:
     """
     maps = [binning.bins_of_fine_classes(d, layouts[d.name]) for d in drafts]
     uncounted = [d for d, m in zip(drafts, maps) if m is None]
-    counted = iter(engine.reduce(bin_counts, merge_bin_counts, rows, uncounted)
-                   if uncounted else ())
+    counted = iter(engine.reduce(bin_counts, merge_bin_counts, rows, uncounted,
+                                 columns=[d.name for d in uncounted]) if uncounted else ())
     tables = []
     for draft, fine_bin in zip(drafts, maps):
         if fine_bin is None:
@@ -353,7 +354,7 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
     dev_goods, dev_bads = facts.goods["development"], facts.bads["development"]
     if dev_goods <= 0 or dev_bads <= 0:
         held = engine.reduce(lambda c: column_summary(c, {config.data.target: "categorical"}, {}),
-                             merge_summaries)[config.data.target]
+                             merge_summaries, columns=[config.data.target])[config.data.target]
         shown = ", ".join(sorted(map(repr, held))[:8]) or "none"
         raise InputError(f"column {config.data.target}: the development sample needs both goods "
                          f"and bads (found {dev_goods:g} goods, {dev_bads:g} bads); data.bad and "
@@ -361,9 +362,10 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
     _say(progress, f"outcome coded: {facts.rows_read} rows, {facts.left_out} left out")
 
     specials = {n: _specials(config, n) for n, k in kinds.items() if k == "numeric"}
-    summary = engine.reduce(lambda c: column_summary(c, kinds, specials), merge_summaries)
+    summary = engine.reduce(lambda c: column_summary(c, kinds, specials), merge_summaries,
+                            columns=list(kinds))
     layouts = _layouts(config, kinds, summary, reports)
-    counts = engine.reduce(fine_counts, merge_fine, rows, layouts)
+    counts = engine.reduce(fine_counts, merge_fine, rows, layouts, columns=list(layouts))
     _say(progress, f"fine classes counted for {len(layouts)} characteristics")
 
     b = config.binning
@@ -387,7 +389,7 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
     candidates = [c for c in binned if c.name not in floored]
     radix = pattern_radix(candidates)
     patterns = engine.reduce(coded_patterns, lambda a, c: merge_patterns(a, c, radix), rows,
-                             candidates)
+                             candidates, columns=[c.name for c in candidates])
     _say(progress, f"{len(candidates)} candidates coded into {len(patterns.codes)} distinct "
                    "patterns")
 

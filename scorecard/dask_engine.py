@@ -162,10 +162,20 @@ class DaskEngine:
         finally:
             shown.finish()
 
-    def collect(self, fn):
+    def _projected(self, columns) -> list:
+        """The partitions, reading only ``columns`` (all when None) from the Parquet files.
+
+        Names the data lack are left for the pass itself to report.
+        """
+        if columns is None:
+            return self.partitions
+        return self.frame[[c for c in self.columns if c in set(columns)]].to_delayed()
+
+    def collect(self, fn, columns=None):
         import dask
 
-        futures = self.client.compute([dask.delayed(_run_collect)(fn, p) for p in self.partitions])
+        futures = self.client.compute([dask.delayed(_run_collect)(fn, p)
+                                       for p in self._projected(columns)])
         keys = list(futures)
         self._watch(pass_label(fn), futures)
         results = self.client.gather(keys)
@@ -185,11 +195,12 @@ class DaskEngine:
             self._sent = (rows, slices)
         return slices
 
-    def reduce(self, fn, merge, rows: RowFacts | None = None, *args):
+    def reduce(self, fn, merge, rows: RowFacts | None = None, *args, columns=None):
         import dask
 
         slices = self._row_slices(rows) if rows is not None else [None] * len(self.partitions)
-        tasks = [dask.delayed(_run_pass)(fn, p, r, args) for p, r in zip(self.partitions, slices)]
+        tasks = [dask.delayed(_run_pass)(fn, p, r, args)
+                 for p, r in zip(self._projected(columns), slices)]
         futures = self.client.compute(tasks)
         merged = self._merge_on_workers(merge, futures)
         self._watch(pass_label(fn), futures)

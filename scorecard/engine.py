@@ -168,11 +168,18 @@ class LocalEngine:
         finally:
             shown.finish()
 
-    def collect(self, fn):
+    def collect(self, fn, columns=None):
+        """Per-row arrays of ``fn`` over every chunk, concatenated.
+
+        ``columns`` names the columns ``fn`` reads; an engine that reads files reads only
+        those, while this one holds the frame already and passes it whole.
+        """
         parts = list(self._run(pass_label(fn), lambda a, b, chunk: fn(chunk)))
         return tuple(np.concatenate(p) for p in zip(*parts))
 
-    def reduce(self, fn, merge, rows: RowFacts | None = None, *args):
+    def reduce(self, fn, merge, rows: RowFacts | None = None, *args, columns=None):
+        """``fn`` on every chunk with its slice of ``rows``, merged in order (``columns``: as
+        for :meth:`collect`)."""
         def call(start, stop, chunk):
             if rows is None:
                 return fn(chunk, *args)
