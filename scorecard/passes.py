@@ -80,6 +80,21 @@ def merge_summaries(a: dict, b: dict) -> dict:
     return out
 
 
+def _sample_outcome_counter(rows: RowFacts):
+    """A function from (codes, number of codes) to weights by (code, sample, outcome)."""
+    kept = rows.sample != EXCLUDED
+    # Left-out rows weigh nothing, so every row can take part and no row selection is made.
+    weight = np.where(kept, rows.weight, 0.0)
+    cell = np.where(kept, rows.sample.astype(np.intp) * 2 + rows.label, 0)
+    cells = N_SAMPLES * 2
+
+    def counted(codes: np.ndarray, n_codes: int) -> np.ndarray:
+        table = np.bincount(codes * cells + cell, weights=weight, minlength=n_codes * cells)
+        return table.reshape(n_codes, N_SAMPLES, 2)
+
+    return counted
+
+
 class FineCounts(NamedTuple):
     """Weights per fine code by sample and outcome, and the development value range.
 
@@ -115,15 +130,7 @@ def fine_counts(frame: pd.DataFrame, rows: RowFacts, layouts: dict) -> dict:
     ([1.0, 0.0, 1.0], [0.0, 1.0, 0.0], (1.0, 5.0))
     """
     dev = rows.sample == DEVELOPMENT
-    kept = rows.sample != EXCLUDED
-    # Left-out rows weigh nothing: one weighted count per column, no row selection.
-    weight = np.where(kept, rows.weight, 0.0)
-    cell = np.where(kept, rows.sample.astype(np.intp) * 2 + rows.label, 0)
-    cells = N_SAMPLES * 2
-
-    def counted(codes, n_codes):
-        table = np.bincount(codes * cells + cell, weights=weight, minlength=n_codes * cells)
-        return table.reshape(n_codes, N_SAMPLES, 2)
+    counted = _sample_outcome_counter(rows)
 
     def one(item):
         name, layout = item
@@ -195,8 +202,8 @@ def merge_patterns(a: Patterns, b: Patterns, radix) -> Patterns:
 def bin_counts(frame: pd.DataFrame, rows: RowFacts, drafts) -> list[np.ndarray]:
     """Per characteristic: weights by (bin, sample, outcome), an array of shape (bins, 3, 2).
 
-    Rows outside every sample are left out. These tables give every characteristic's weights
-    of evidence, information value and stability, whether or not it joins the pattern table.
+    Rows outside every sample are left out. The build needs this pass only for characteristics
+    whose bins are not unions of fine classes (see :func:`scorecard.binning.bins_of_fine_classes`).
 
     Examples
     --------
@@ -208,17 +215,10 @@ def bin_counts(frame: pd.DataFrame, rows: RowFacts, drafts) -> list[np.ndarray]:
     >>> table[:, 0].tolist(), table[:, 1].tolist()
     ([[1.0, 0.0], [0.0, 1.0]], [[0.0, 0.0], [1.0, 0.0]])
     """
-    kept = rows.sample != EXCLUDED
-    # Left-out rows weigh nothing, so every row can take part and no row selection is made.
-    weight = np.where(kept, rows.weight, 0.0)
-    cell = np.where(kept, rows.sample.astype(np.intp) * 2 + rows.label, 0)
+    counted = _sample_outcome_counter(rows)
 
     def one(char):
-        codes = bin_codes(char, frame[char.name])[0].astype(np.intp)
-        n_bins = len(char.bins)
-        table = np.bincount(codes * (N_SAMPLES * 2) + cell, weights=weight,
-                            minlength=n_bins * N_SAMPLES * 2)
-        return table.reshape(n_bins, N_SAMPLES, 2)
+        return counted(bin_codes(char, frame[char.name])[0].astype(np.intp), len(char.bins))
 
     return _each(one, list(drafts), len(frame))
 
