@@ -120,7 +120,7 @@ def _buckets(x: np.ndarray, low: int, shift: int) -> np.ndarray:
 def _bucket_table(cuts: np.ndarray) -> _BucketTable | None:
     magnitude = cuts.view(np.int64) & _MAGNITUDE_BITS
     nonzero = magnitude[magnitude > 0]
-    if len(cuts) < _MIN_CUTS or not len(nonzero) or not np.isfinite(cuts).all():
+    if not len(nonzero) or not np.isfinite(cuts).all():
         return None
     # At least 1, so that both zeros (magnitude 0) share bucket 0 even below a subnormal cut.
     low = max(int(nonzero.min() & _EXPONENT_BITS), 1)
