@@ -169,7 +169,8 @@ class DaskEngine:
         """
         if columns is None:
             return self.partitions
-        return self.frame[[c for c in self.columns if c in set(columns)]].to_delayed()
+        wanted = set(columns)
+        return self.frame[[c for c in self.columns if c in wanted]].to_delayed()
 
     def collect(self, fn, columns=None):
         import dask
