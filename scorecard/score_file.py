@@ -117,9 +117,9 @@ def score_file(model, data, out, keep=(), reasons: int = 4, *, reason_text: bool
     3
     >>> print((folder / "out.csv").read_text())
     "id","score","bad_probability","points_x","reason_1"
-    1,580,0.03846153846153842,580,"R01"
-    2,620,0.009900990099009889,620,
-    3,600,0.019607843137254888,600,"R01"
+    1,580,0.038461538461538...,580,"R01"
+    2,620,0.0099009900990098...,620,
+    3,600,0.019607843137254...,600,"R01"
     <BLANKLINE>
     """
     card = model if isinstance(model, Scorecard) else load_scorecard(model)
