@@ -57,7 +57,7 @@ CHILD_BUILD = """
 import json, sys, time
 from pathlib import Path
 from scorecard.progress import StageLog
-from scorecard.run import build
+from scorecard.api import build
 start = time.perf_counter()
 build(sys.argv[1], progress=StageLog())
 seconds = time.perf_counter() - start
@@ -69,7 +69,7 @@ print(json.dumps({"seconds": seconds, "peak_kb": peak_kb}))
 
 CHILD_READ = """
 import json, sys, time
-from scorecard.data import read_frame
+from scorecard.data.outcome import read_frame
 start = time.perf_counter()
 read_frame(sys.argv[1])
 print(json.dumps({"seconds": time.perf_counter() - start}))
@@ -85,7 +85,7 @@ def child_facts(script: str, argument) -> dict:
 
 def row_count(path) -> int:
     """Read a file into memory and let the frame go at once, keeping only its length."""
-    from scorecard.data import read_frame
+    from scorecard.data.read import read_frame
     return len(read_frame(path))
 
 
@@ -139,7 +139,8 @@ def prepare(folder: Path, rows: int, dask_rows: int | None) -> dict:
 def reference_pipeline(frame: pd.DataFrame, special_value=synthetic.SPECIAL_VALUE) -> dict:
     """The plain way: decile bins, crosstab WoE, one Logit on every WoE column, points."""
     import statsmodels.api as sm
-    from scorecard.points import scaling
+
+    from scorecard.card.points import scaling
 
     is_bad = (frame["outcome"] == "bad").to_numpy()
     woe_columns, tables = {}, {}
@@ -220,12 +221,11 @@ def _rss(process) -> int:
 
 def measure(paths: dict, dask: bool, reference: bool, memory_cap_gb: float = 10.0,
             ) -> list[tuple[str, float, str]]:
-    from scorecard.data import read_frame
-    from scorecard.model import load_scorecard
-    from scorecard.run import build
-    from scorecard.data import read_table
-    from scorecard.score_file import score_file
-    from scorecard.scoring import apply_scorecard
+    from scorecard.api import build
+    from scorecard.card.scorecard import load_scorecard
+    from scorecard.card.scoring import apply_scorecard
+    from scorecard.data.read import read_frame, read_table
+    from scorecard.outputs.scored_file import score_file
 
     rows_out = []
 

@@ -20,12 +20,12 @@ from pathlib import Path
 import pyarrow as pa
 import pyarrow.parquet as pq
 
-from scorecard.build import build_scorecard
-from scorecard.config import load_config
-from scorecard.demo import write_demo
-from scorecard.demo_data import make_applications
-from scorecard.run import open_engine
-from scorecard.score_file import CHUNK_ROWS, score_file, scored_batch
+from scorecard.api import open_engine
+from scorecard.build.pipeline import build_scorecard
+from scorecard.config.loading import load_config
+from scorecard.demo.applications import make_applications
+from scorecard.demo.files import write_demo
+from scorecard.outputs.scored_file import CHUNK_ROWS, score_file, scored_batch
 
 
 def _timed(label: str, rows: int, work) -> float:

@@ -1,3 +1,3 @@
-from .cli import main
+from scorecard.cli import main
 
 main(prog_name="scorecard")

@@ -12,10 +12,8 @@ from pathlib import Path
 
 import click
 
-from .compare import compare_command
-from .errors import InputError
-from .export import export_command
-from .progress import StageLog
+from scorecard.errors import InputError
+from scorecard.progress import StageLog
 
 
 class _Terminated(Exception):
@@ -63,8 +61,8 @@ def main():
 @click.option("--quiet", is_flag=True, help="Print nothing but errors.")
 def build(config, workbook, model, quiet):
     """Build the scorecard that CONFIG describes."""
-    from .run import build as run_build
-    result = run_build(config, workbook=workbook, model=model, progress=StageLog(quiet))
+    from scorecard import api
+    result = api.build(config, workbook=workbook, model=model, progress=StageLog(quiet))
     if not quiet:
         _print_summary(result)
 
@@ -87,12 +85,10 @@ def _print_summary(result) -> None:
 @click.option("--quiet", is_flag=True, help="Print nothing but errors.")
 def demo(directory, rows, seed, quiet):
     """Write an invented sample and its config into DIR and build it."""
-    from .demo import write_demo
-    from .run import build as run_build
-    config = write_demo(directory, rows=rows, seed=seed)
-    result = run_build(config, progress=StageLog(quiet))
+    from scorecard import api
+    result = api.demo(directory, rows=rows, seed=seed, progress=StageLog(quiet))
     if not quiet:
-        click.echo(f"demo config: {config}")
+        click.echo(f"demo config: {result.config.config_file}")
         _print_summary(result)
 
 
@@ -103,13 +99,11 @@ def demo(directory, rows, seed, quiet):
               help="Write the config here (default: print it).")
 def init(data, target, out):
     """Write a starter config for DATA with every column classified."""
-    from .starter import starter_config
-    text = starter_config(data, target, out)
+    from scorecard import api
+    text = api.init(data, target, out)
     if out is None:
         click.echo(text, nl=False)
     else:
-        from .atomic import write_text
-        write_text(out, text)
         click.echo(f"wrote {out}")
 
 
@@ -124,17 +118,51 @@ def init(data, target, out):
 @click.option("--reason-text", is_flag=True, help="Write each reason's text instead of its code.")
 def score(model, data, out, keep, reasons, reason_text):
     """Apply a built scorecard MODEL to the rows of DATA."""
-    from .model import load_scorecard
-    from .score_file import score_file
-    card = load_scorecard(model)
-    summary = score_file(card, data, out, keep=keep,
-                         reasons=card.reasons if reasons is None else reasons,
-                         reason_text=reason_text)
+    from scorecard import api
+    summary = api.score(model, data, out, keep=keep, reasons=reasons, reason_text=reason_text)
     click.echo(summary.text())
 
 
-main.add_command(compare_command)
-main.add_command(export_command)
+@main.command("compare")
+@click.argument("model", type=click.Path(dir_okay=False, path_type=Path))
+@click.argument("baseline", type=click.Path(path_type=Path))
+@click.argument("current", type=click.Path(path_type=Path))
+@click.option("--workbook", type=click.Path(dir_okay=False, path_type=Path),
+              help="Write the validator's workbook (.xlsx) here.")
+@click.option("--json", "json_path", type=click.Path(dir_okay=False, path_type=Path),
+              help="Write the indices as JSON here.")
+@click.option("--fail-on", type=click.Choice(["watch", "shift"]),
+              help="Exit with status 1 when any index reaches this status.")
+@click.option("--bands", type=click.IntRange(min=2), default=None,
+              help="Score bands, cut at the baseline's score quantiles [default: 10].")
+def compare(model, baseline, current, workbook, json_path, fail_on, bands):
+    """Stability of MODEL's scores and characteristics from BASELINE to CURRENT."""
+    from scorecard import api
+    result = api.compare(model, baseline, current, bands=bands, json_path=json_path,
+                         workbook=workbook)
+    click.echo(result.text())
+    if fail_on is not None and result.reached(fail_on):
+        raise click.exceptions.Exit(1)
+
+
+@main.command("export")
+@click.argument("model", type=click.Path(dir_okay=False, path_type=Path))
+@click.option("--format", "form", required=True, type=click.Choice(["pmml", "sql"]),
+              help="pmml: a PMML 4.4 Scorecard document; sql: one standard SQL query.")
+@click.option("--out", required=True, type=click.Path(dir_okay=False, path_type=Path),
+              help="File to write.")
+@click.option("--table", default="applications", show_default=True,
+              help="sql: the table of applications to score.")
+@click.option("--keep", multiple=True,
+              help="sql: a column of the table to copy to the result, e.g. its key (repeatable).")
+@click.option("--reasons", type=click.IntRange(min=0), default=None,
+              help="Reason codes per row [default: the model's, from scoring.reasons].")
+def export(model, form, out, table, keep, reasons):
+    """Write the scorecard MODEL in a deployable form: PMML or SQL."""
+    from scorecard import api
+    api.export(model, form, out, table=table, keep=keep, reasons=reasons)
+    click.echo(f"wrote {out}")
+
 
 if __name__ == "__main__":
     sys.exit(main())

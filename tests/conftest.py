@@ -4,10 +4,10 @@ from __future__ import annotations
 
 import pytest
 
-from scorecard.build import build_scorecard
-from scorecard.config import load_config
-from scorecard.demo import write_demo
-from scorecard.run import open_engine
+from scorecard.api import open_engine
+from scorecard.build.pipeline import build_scorecard
+from scorecard.config.loading import load_config
+from scorecard.demo.files import write_demo
 
 
 @pytest.fixture(scope="session")

@@ -19,11 +19,11 @@ import pyarrow.parquet as pq
 import pytest
 from click.testing import CliRunner
 
-from scorecard.build import build_scorecard
+from scorecard.api import open_engine
+from scorecard.build.pipeline import build_scorecard
 from scorecard.cli import main
-from scorecard.config import load_config
-from scorecard.demo import write_demo
-from scorecard.run import open_engine
+from scorecard.config.loading import load_config
+from scorecard.demo.files import write_demo
 
 PREVIOUS_WORKBOOK = b"PK\x03\x04 the workbook of an earlier build"
 
@@ -456,7 +456,7 @@ def test_a_declared_delimiter_reads_the_semicolon_file(case, tmp_path):
 
 def test_a_parquet_folder_with_rows_builds(case, tmp_path):
     # The counterpart of the empty-folder case: the same rows in two Parquet parts are accepted.
-    from scorecard.data import read_table
+    from scorecard.data.read import read_table
     table = read_table(case / DATA)
     (case / "parts").mkdir()
     pq.write_table(table.slice(0, 1000), case / "parts" / "a.parquet")

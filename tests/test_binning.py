@@ -3,11 +3,16 @@
 import numpy as np
 import pytest
 
-from scorecard.binning import (OTHER_LEVELS, Limits, bin_weights_of_evidence, class_categorical,
-                               class_numeric)
+from scorecard.binning.coarse import (
+    OTHER_LEVELS,
+    Limits,
+    bin_weights_of_evidence,
+    class_categorical,
+    class_numeric,
+)
+from scorecard.binning.fine import NumericLayout
+from scorecard.card.scorecard import LEVELS, MISSING, RANGE, SPECIAL
 from scorecard.errors import InputError
-from scorecard.fine import NumericLayout
-from scorecard.model import LEVELS, MISSING, RANGE, SPECIAL
 
 LIMITS = Limits(max_bins=4, min_count=50, min_goods=5, min_bads=5)
 

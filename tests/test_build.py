@@ -10,15 +10,16 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from scorecard.build import build_scorecard
-from scorecard.config import load_config
-from scorecard.data import (EXCLUDED, assign_samples, code_outcome, parse_dates,
-                            read_frame)
-from scorecard.evaluate import score_histogram
-from scorecard.model import LEVELS, RANGE, Scorecard
-from scorecard.run import open_engine
-from scorecard.scoring import apply_scorecard, bin_codes
-from scorecard.selection import select_characteristics
+from scorecard.api import open_engine
+from scorecard.build.pipeline import build_scorecard
+from scorecard.card.scorecard import LEVELS, RANGE, Scorecard
+from scorecard.card.scoring import apply_scorecard, bin_codes
+from scorecard.config.loading import load_config
+from scorecard.data.outcome import code_outcome
+from scorecard.data.read import read_frame
+from scorecard.data.samples import EXCLUDED, assign_samples, parse_dates
+from scorecard.evaluation.histograms import score_histogram
+from scorecard.fit.selection import select_characteristics
 
 
 def _samples(config, frame):

@@ -9,12 +9,12 @@ import pandas as pd
 import yaml
 from click.testing import CliRunner
 
+from scorecard.card.scorecard import load_scorecard
+from scorecard.card.scoring import apply_scorecard
 from scorecard.cli import main
-from scorecard.config import parse_config
-from scorecard.data import read_frame
-from scorecard.demo import write_demo
-from scorecard.model import load_scorecard
-from scorecard.scoring import apply_scorecard
+from scorecard.config.loading import parse_config
+from scorecard.data.read import read_frame
+from scorecard.demo.files import write_demo
 
 
 def test_demo_builds_end_to_end_and_its_model_scores_the_rows(tmp_path):

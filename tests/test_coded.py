@@ -4,9 +4,10 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
-from scorecard.coded import BLOCK_ROWS, CodedColumns, code_columns
+from scorecard.fit.design import BLOCK_ROWS, CodedColumns, code_columns
 
 
 def _random_coded(rows, radix, seed):

@@ -13,16 +13,16 @@ from openpyxl import load_workbook
 from scipy import stats
 from sklearn.metrics import roc_auc_score
 
+from scorecard.card.points import scaling
+from scorecard.card.scorecard import MISSING, RANGE, Bin, Characteristic, Scorecard
+from scorecard.card.scoring import apply_scorecard
 from scorecard.cli import main
-from scorecard.compare import compare
-from scorecard.compare_workbook import CAUTION, SHEETS, write_compare_workbook
-from scorecard.data import BAD, GOOD, code_outcome
-from scorecard.demo import DATA_FILE, DRIFTED_FILE
-from scorecard.demo_data import DRIFTED_CHARACTERISTICS, make_applications
+from scorecard.data.outcome import BAD, GOOD, code_outcome
+from scorecard.demo.applications import DRIFTED_CHARACTERISTICS, make_applications
+from scorecard.demo.files import DATA_FILE, DRIFTED_FILE
 from scorecard.errors import InputError
-from scorecard.model import MISSING, RANGE, Bin, Characteristic, Scorecard
-from scorecard.points import scaling
-from scorecard.scoring import apply_scorecard
+from scorecard.evaluation.comparison import compare
+from scorecard.outputs.comparison_workbook import CAUTION, SHEETS, write_compare_workbook
 
 STATUSES = {"stable", "watch", "shift"}
 

@@ -12,8 +12,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from scorecard import config as config_module
-from scorecard.config import (
+from scorecard.config import loading as config_module
+from scorecard.config.loading import (
     BinningConfig,
     CharacteristicOverride,
     Config,

@@ -4,7 +4,7 @@ from pathlib import Path
 
 import pytest
 
-from scorecard.config import load_config
+from scorecard.config.loading import load_config
 
 CONFIGS = sorted((Path(__file__).parents[1] / "configs").glob("*.yaml"))
 

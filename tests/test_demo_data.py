@@ -15,7 +15,11 @@ import yaml
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from scorecard.demo_data import DRIFTED_CHARACTERISTICS, demo_config_text, make_applications
+from scorecard.demo.applications import (
+    DRIFTED_CHARACTERISTICS,
+    demo_config_text,
+    make_applications,
+)
 from scorecard.errors import InputError
 
 COLUMNS = [

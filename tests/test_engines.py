@@ -16,19 +16,27 @@ import pandas as pd
 import pyarrow as pa
 import pyarrow.parquet as pq
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
-from scorecard.build import build_scorecard
-from scorecard.config import load_config
-from scorecard.data import read_frame
-from scorecard.engine import LocalEngine, PassProgress, ordered_fold, pass_label
+from scorecard.binning.fine import NumericLayout, candidate_cuts
+from scorecard.build.pipeline import build_scorecard
+from scorecard.config.loading import load_config
+from scorecard.data.read import read_frame
+from scorecard.engines.base import PassProgress, ordered_fold, pass_label
+from scorecard.engines.local import LocalEngine
+from scorecard.engines.passes import (
+    RowFacts,
+    coded_patterns,
+    fine_counts,
+    merge_fine,
+    merge_patterns,
+    pattern_radix,
+)
 from scorecard.errors import InputError
-from scorecard.fine import NumericLayout, candidate_cuts
-from scorecard.passes import (RowFacts, coded_patterns, fine_counts, merge_fine, merge_patterns,
-                              pattern_radix)
 
 distributed = pytest.importorskip("distributed")
-from scorecard.dask_engine import DaskEngine, parquet_files  # noqa: E402
+from scorecard.engines.dask_engine import DaskEngine, parquet_files
 
 # Coefficients come from sums over the same patterns in the same order on every engine; the
 # only freedom left is the order of a few additions, far below this tolerance.
@@ -229,7 +237,7 @@ def test_a_source_the_dask_engine_cannot_read_is_named(tmp_path, name, message):
 
 def test_an_unreachable_scheduler_is_an_input_error(parquet_demo, monkeypatch):
     _, folder = parquet_demo
-    monkeypatch.setattr("scorecard.dask_engine.CONNECT_TIMEOUT", "1s")
+    monkeypatch.setattr("scorecard.engines.dask_engine.CONNECT_TIMEOUT", "1s")
     with pytest.raises(InputError, match=r"engine.dask: cannot reach the Dask scheduler at "
                                          r"tcp://127.0.0.1:9"):
         DaskEngine(folder, "tcp://127.0.0.1:9")
@@ -279,7 +287,7 @@ def test_no_live_line_off_a_terminal_or_when_quiet(stream, quiet):
 
 
 def test_pass_labels_name_the_pass_even_inside_a_lambda():
-    from scorecard.passes import column_summary, fine_counts
+    from scorecard.engines.passes import column_summary, fine_counts
     assert pass_label(fine_counts) == "counting fine classes"
     assert pass_label(lambda c: column_summary(c, {}, {})) == "summarising columns"
     assert pass_label(len) == "reading rows"

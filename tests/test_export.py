@@ -8,24 +8,33 @@ Java runtime; reference library) and the SQL query by SQLite through Python's sq
 from __future__ import annotations
 
 import importlib.util
-from dataclasses import replace
 import shutil
 import sqlite3
 import xml.etree.ElementTree as ET
+from dataclasses import replace
 
 import numpy as np
 import pandas as pd
 import pytest
 from click.testing import CliRunner
 
+from scorecard.card.points import scaling
+from scorecard.card.scorecard import (
+    LEVELS,
+    MISSING,
+    OUT_OF_RANGE,
+    RANGE,
+    SPECIAL,
+    UNSEEN,
+    Bin,
+    Characteristic,
+    Scorecard,
+)
 from scorecard.cli import main
 from scorecard.errors import InputError
-from scorecard.export_pmml import NAMESPACE, pmml_document, tie_breaking_baselines, write_pmml
-from scorecard.export_sql import quote_name, scoring_query, write_sql
-from scorecard.model import (LEVELS, MISSING, OUT_OF_RANGE, RANGE, SPECIAL, UNSEEN, Bin,
-                             Characteristic, Scorecard)
-from scorecard.points import scaling
-from scorecard.score_file import score_file
+from scorecard.outputs.pmml import NAMESPACE, pmml_document, tie_breaking_baselines, write_pmml
+from scorecard.outputs.scored_file import score_file
+from scorecard.outputs.sql import quote_name, scoring_query, write_sql
 
 REASONS = [f"reason_{i}" for i in range(1, 5)]
 needs_pmml_evaluator = pytest.mark.skipif(

@@ -15,21 +15,31 @@ from openpyxl import Workbook, load_workbook
 from scipy.stats.contingency import association
 from sklearn.metrics import mutual_info_score
 
-from scorecard.build import _outcome_facts, build_scorecard
+from scorecard.api import open_engine
+from scorecard.build.pipeline import _outcome_facts, build_scorecard
+from scorecard.card.points import scaling
+from scorecard.card.scorecard import LEVELS, MISSING, RANGE, UNSEEN, Bin, Characteristic, Scorecard
 from scorecard.cli import main
-from scorecard.config import load_config
-from scorecard.data import DEVELOPMENT, HOLDOUT
-from scorecard.demo import write_demo
-from scorecard.engine import LocalEngine
+from scorecard.config.loading import load_config
+from scorecard.data.samples import DEVELOPMENT, HOLDOUT
+from scorecard.demo.files import write_demo
+from scorecard.engines.local import LocalEngine
+from scorecard.engines.passes import RowFacts
 from scorecard.errors import InputError
-from scorecard.fairness import (IMPACT_FLAG, PROXY_FLAG, FairnessReport, choose_cutoffs,
-                                compute_fairness, impact_table, merge_protected_counts,
-                                protected_counts, protected_levels, proxy_table, risk_table)
-from scorecard.fairness_sheet import CAUTION, write_fairness_sheet
-from scorecard.model import LEVELS, MISSING, RANGE, UNSEEN, Bin, Characteristic, Scorecard
-from scorecard.passes import RowFacts
-from scorecard.points import scaling
-from scorecard.run import open_engine
+from scorecard.evaluation.fairness import (
+    IMPACT_FLAG,
+    PROXY_FLAG,
+    FairnessReport,
+    choose_cutoffs,
+    compute_fairness,
+    impact_table,
+    merge_protected_counts,
+    protected_counts,
+    protected_levels,
+    proxy_table,
+    risk_table,
+)
+from scorecard.outputs.workbook.fairness_sheet import CAUTION, write_fairness_sheet
 
 GROUPS = ("p", "q", "r")
 

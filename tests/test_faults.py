@@ -21,15 +21,15 @@ import openpyxl
 import pytest
 from click.testing import CliRunner
 
-import scorecard.run
-from scorecard.atomic import atomic_path
-from scorecard.build import build_scorecard
+import scorecard.api
+from scorecard.api import open_engine
+from scorecard.build.pipeline import build_scorecard
+from scorecard.card.scorecard import load_scorecard
 from scorecard.cli import main
-from scorecard.config import load_config
-from scorecard.demo import write_demo
-from scorecard.model import load_scorecard
-from scorecard.run import open_engine
-from scorecard.workbook import SHEETS
+from scorecard.config.loading import load_config
+from scorecard.demo.files import write_demo
+from scorecard.outputs.atomic import atomic_path
+from scorecard.outputs.workbook import SHEETS
 
 PREVIOUS_WORKBOOK = b"PK\x03\x04 the workbook of an earlier build"
 PREVIOUS_MODEL = '{"format_version": 1, "note": "the model of an earlier build"}\n'
@@ -77,7 +77,7 @@ def half_save_then(exc: BaseException):
 def test_a_build_failing_while_writing_the_workbook_leaves_the_old_outputs(case, monkeypatch, exc):
     monkeypatch.setattr(openpyxl.Workbook, "save", half_save_then(exc))
     with pytest.raises(type(exc)):
-        scorecard.run.build(case / "scorecard.yaml")
+        scorecard.api.build(case / "scorecard.yaml")
     assert previous_outputs_intact(case)
     assert leftovers(case) == []
 
@@ -87,9 +87,9 @@ def test_a_build_failing_while_writing_the_model_leaves_the_old_workbook(case, m
         with atomic_path(path) as tmp:
             tmp.write_text(text[:100])
             raise OSError(28, "No space left on device")
-    monkeypatch.setattr(scorecard.run, "write_text", half_write)
+    monkeypatch.setattr(scorecard.api, "write_text", half_write)
     with pytest.raises(OSError):
-        scorecard.run.build(case / "scorecard.yaml")
+        scorecard.api.build(case / "scorecard.yaml")
     assert leftovers(case) == []
     assert previous_outputs_intact(case)
 

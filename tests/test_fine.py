@@ -7,12 +7,19 @@ import math
 import numpy as np
 import pandas as pd
 import pytest
-from hypothesis import assume, given, settings, strategies as st
+from hypothesis import assume, given, settings
+from hypothesis import strategies as st
 
-from scorecard import fine
-from scorecard.fine import (NumericLayout, candidate_cuts, grid_cells, numeric_codes,
-                            quantile_starts, regular_range)
-from scorecard.passes import column_summary, merge_summaries
+from scorecard.binning.fine import (
+    NumericLayout,
+    candidate_cuts,
+    numeric_codes,
+    quantile_starts,
+    regular_range,
+)
+from scorecard.data import coding
+from scorecard.data.coding import grid_cells
+from scorecard.engines.passes import column_summary, merge_summaries
 
 finite = st.floats(allow_nan=False, allow_infinity=False, width=64)
 moderate = st.floats(min_value=-1e12, max_value=1e12, allow_nan=False)
@@ -55,9 +62,9 @@ def test_both_zeros_count_a_cut_at_zero_beside_a_subnormal_cut():
                                     (-3e-4, -1e-6), (12.5, 12.75)])
 def test_the_bucket_table_serves_typical_grids(lo, hi):
     cuts = candidate_cuts(lo, hi)
-    table = fine._bucket_table(cuts)
-    assert table is not None and table.steps <= fine._MAX_STEPS
-    assert len(table.before) <= fine._MAX_TABLE
+    table = coding._bucket_table(cuts)
+    assert table is not None and table.steps <= coding._MAX_STEPS
+    assert len(table.before) <= coding._MAX_TABLE
     rng = np.random.default_rng(1)
     x = rng.uniform(lo - (hi - lo) * 0.1, hi + (hi - lo) * 0.1, 20_000)
     np.testing.assert_array_equal(grid_cells(x, cuts), np.searchsorted(cuts, x, side="right"))

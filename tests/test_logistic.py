@@ -10,7 +10,7 @@ from hypothesis import strategies as st
 from scipy import special, stats
 
 from scorecard.errors import InputError
-from scorecard.logistic import (
+from scorecard.fit.logistic import (
     LogisticFit,
     fit_logistic,
     fit_logistic_fast,

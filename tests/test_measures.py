@@ -1,4 +1,4 @@
-"""Tests of the count-array measures in scorecard.measures."""
+"""Tests of the count-array measures in scorecard.measures.information."""
 
 import math
 import warnings

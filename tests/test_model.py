@@ -4,8 +4,8 @@ import json
 
 import pytest
 
+from scorecard.card.scorecard import Scorecard, load_scorecard
 from scorecard.errors import InputError
-from scorecard.model import Scorecard, load_scorecard
 
 
 def test_round_trip_is_exact(demo_build):

@@ -2,7 +2,7 @@
 
 Each test builds on a small seeded frame with one strong characteristic ``x`` (so that a model
 always exists) and the odd column under test. Frames go through a CSV file and
-:func:`scorecard.data.read_frame`, as a user's data would.
+:func:`scorecard.data.read.read_frame`, as a user's data would.
 """
 
 from __future__ import annotations
@@ -15,14 +15,16 @@ import openpyxl
 import pandas as pd
 import pytest
 
-from scorecard.build import build_scorecard
-from scorecard.config import parse_config
-from scorecard.data import assign_samples, code_outcome, read_frame
-from scorecard.engine import LocalEngine
-from scorecard.model import LEVELS, OUT_OF_RANGE, RANGE
-from scorecard.passes import RowFacts, bin_counts
-from scorecard.scoring import apply_scorecard, bin_codes
-from scorecard.starter import starter_config
+from scorecard.build.pipeline import build_scorecard
+from scorecard.card.scorecard import LEVELS, OUT_OF_RANGE, RANGE
+from scorecard.card.scoring import apply_scorecard, bin_codes
+from scorecard.config.loading import parse_config
+from scorecard.data.outcome import code_outcome
+from scorecard.data.read import read_frame
+from scorecard.data.samples import assign_samples
+from scorecard.engines.local import LocalEngine
+from scorecard.engines.passes import RowFacts, bin_counts
+from scorecard.outputs.starter_config import starter_config
 
 BASE = """\
 data: {source: odd.csv, target: y, bad: [bad], good: [good]}
@@ -282,7 +284,7 @@ def test_a_byte_order_mark_does_not_stick_to_the_first_column(tmp_path):
 
 
 def test_the_characteristics_sheet_shows_every_fate_and_reason(tmp_path):
-    from scorecard.workbook import write_workbook
+    from scorecard.outputs.workbook import write_workbook
     frame = make_frame()
     frame["branch"] = 7
     frame["income"] = np.nan

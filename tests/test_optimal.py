@@ -9,8 +9,8 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 from scipy.optimize import isotonic_regression
 
+from scorecard.binning.optimal import Coarsening, bin_of_fine_class, optimal_bins
 from scorecard.errors import InputError
-from scorecard.optimal import Coarsening, bin_of_fine_class, optimal_bins
 
 MONOTONE = ("ascending", "descending")
 

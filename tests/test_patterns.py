@@ -5,13 +5,14 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
-from scorecard import patterns
-from scorecard.engine import ordered_fold
-from scorecard.model import MISSING, RANGE, Bin, Characteristic
-from scorecard.passes import N_SAMPLES, RowFacts, bin_counts
-from scorecard.patterns import Patterns, distinct_patterns, merge_distinct, pattern_index
+from scorecard.card.scorecard import MISSING, RANGE, Bin, Characteristic
+from scorecard.engines import patterns
+from scorecard.engines.base import ordered_fold
+from scorecard.engines.passes import N_SAMPLES, RowFacts, bin_counts
+from scorecard.engines.patterns import Patterns, distinct_patterns, merge_distinct, pattern_index
 
 
 def _by_dictionary(codes, weights):

@@ -4,10 +4,17 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
-from scorecard.points import (attribute_points, bad_probability_of_score, largest_rounding_change,
-                              odds_of_score, scaling, score_of_odds)
+from scorecard.card.points import (
+    attribute_points,
+    bad_probability_of_score,
+    largest_rounding_change,
+    odds_of_score,
+    scaling,
+    score_of_odds,
+)
 
 
 def test_siddiqi_scaling_example():

@@ -19,18 +19,22 @@ import warnings
 import numpy as np
 import pandas as pd
 import pytest
-from hypothesis import HealthCheck, given, reject, settings, strategies as st
+from hypothesis import HealthCheck, given, reject, settings
+from hypothesis import strategies as st
 
-from scorecard.build import build_scorecard
-from scorecard.config import load_config, parse_config
-from scorecard.data import BAD, GOOD, SAMPLE_NAMES, assign_samples, code_outcome, read_frame
-from scorecard.demo import write_demo
-from scorecard.engine import LocalEngine
+from scorecard.build.pipeline import build_scorecard
+from scorecard.card.points import score_of_odds
+from scorecard.card.scorecard import LEVELS, RANGE, Scorecard
+from scorecard.card.scoring import apply_scorecard
+from scorecard.config.loading import load_config, parse_config
+from scorecard.data.outcome import BAD, GOOD, code_outcome
+from scorecard.data.read import read_frame
+from scorecard.data.samples import SAMPLE_NAMES, assign_samples
+from scorecard.demo.files import write_demo
+from scorecard.engines.local import LocalEngine
 from scorecard.errors import InputError
-from scorecard.measures import entropy, stability_index
-from scorecard.model import LEVELS, RANGE, Scorecard
-from scorecard.points import score_of_odds
-from scorecard.scoring import apply_scorecard
+from scorecard.measures.information import entropy
+from scorecard.measures.stability import stability_index
 
 
 @pytest.fixture(scope="module")
@@ -67,8 +71,8 @@ def test_the_chunk_size_does_not_change_the_model(demo, chunk_rows):
         assert np.array_equal(chunked.histograms[name].bads, hist.bads)
 
 
-MODEL_OF = ("import sys; from scorecard.config import load_config; "
-            "from scorecard.build import build_scorecard; from scorecard.run import open_engine; "
+MODEL_OF = ("import sys; from scorecard.config.loading import load_config; "
+            "from scorecard.build.pipeline import build_scorecard; from scorecard.api import open_engine; "
             "c = load_config(sys.argv[1]); sys.stdout.write(build_scorecard(c, open_engine(c)).card.to_json())")
 
 

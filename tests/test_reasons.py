@@ -9,9 +9,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from hypothesis.extra.numpy import arrays
 
-from scorecard.model import LEVELS, MISSING, RANGE, UNSEEN, Bin, Characteristic, Scorecard
-from scorecard.points import scaling
-from scorecard.scoring import apply_scorecard, reason_codes, reason_groups, reasons
+from scorecard.card.points import scaling
+from scorecard.card.scorecard import LEVELS, MISSING, RANGE, UNSEEN, Bin, Characteristic, Scorecard
+from scorecard.card.scoring import apply_scorecard, reason_codes, reason_groups, reasons
 
 
 def numeric(name, code, points, reason="", rejected_missing=False):

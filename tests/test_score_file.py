@@ -10,18 +10,19 @@ import pyarrow.parquet as pq
 import pytest
 from click.testing import CliRunner
 
-from scorecard.build import build_scorecard
+from scorecard.api import open_engine
+from scorecard.build.pipeline import build_scorecard
+from scorecard.card.points import attribute_points, scaling
+from scorecard.card.scorecard import LEVELS, MISSING, RANGE, UNSEEN, Bin, Characteristic, Scorecard
+from scorecard.card.scoring import apply_scorecard, reasons
 from scorecard.cli import main
-from scorecard.config import load_config
-from scorecard.data import (BAD, GOOD, SAMPLE_NAMES, assign_samples, code_outcome, parse_dates,
-                            read_frame)
-from scorecard.demo import write_demo
+from scorecard.config.loading import load_config
+from scorecard.data.outcome import BAD, GOOD, code_outcome
+from scorecard.data.read import read_frame
+from scorecard.data.samples import SAMPLE_NAMES, assign_samples, parse_dates
+from scorecard.demo.files import write_demo
 from scorecard.errors import InputError
-from scorecard.model import LEVELS, MISSING, RANGE, UNSEEN, Bin, Characteristic, Scorecard
-from scorecard.points import attribute_points, scaling
-from scorecard.run import open_engine
-from scorecard.score_file import score_file
-from scorecard.scoring import apply_scorecard, reasons
+from scorecard.outputs.scored_file import score_file
 
 KEEP = ["application_id", "outcome", "decided_on"]
 

@@ -11,7 +11,7 @@ from scipy import special
 from statsmodels.stats.outliers_influence import variance_inflation_factor
 
 from scorecard.errors import InputError
-from scorecard.selection import (
+from scorecard.fit.selection import (
     Fate,
     Selection,
     select_characteristics,

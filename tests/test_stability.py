@@ -10,10 +10,15 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import stats
 
-from scorecard.data import DEVELOPMENT, HOLDOUT, OUT_OF_TIME
-from scorecard.model import MISSING, RANGE, Bin, Characteristic
-from scorecard.stability import (band_counts, band_labels, build_stability,
-                                 characteristic_stability, score_stability)
+from scorecard.card.scorecard import MISSING, RANGE, Bin, Characteristic
+from scorecard.data.samples import DEVELOPMENT, HOLDOUT, OUT_OF_TIME
+from scorecard.evaluation.stability import (
+    band_counts,
+    band_labels,
+    build_stability,
+    characteristic_stability,
+    score_stability,
+)
 
 
 def _char(points=(10, 30, 20)):
@@ -157,7 +162,7 @@ def test_points_shift_is_the_change_of_the_mean_points(base_rows, cur_rows, poin
 
 
 def test_band_labels_and_counts():
-    from scorecard.evaluate import ScoreHistogram
+    from scorecard.evaluation.histograms import ScoreHistogram
     hist = ScoreHistogram(300, np.array([1.0, 2, 3, 4, 5]), np.array([0.0, 1, 0, 1, 0]))
     assert band_labels([300, 302], 304) == ["300 to 301", "302 to 304"]
     assert band_counts(hist, [300, 302]).tolist() == [4.0, 13.0]

@@ -24,19 +24,25 @@ from hypothesis import strategies as st
 from openpyxl import Workbook, load_workbook
 from python_calamine import CalamineWorkbook
 
-import scorecard.run
-from scorecard.demo import write_demo
-from scorecard.model import (LEVELS, MISSING, OUT_OF_RANGE, RANGE, SPECIAL, UNSEEN,
-                             load_scorecard)
-from scorecard.scoring import apply_scorecard
-from scorecard.stability import build_stability
-from scorecard.workbook import SHEETS, write_workbook
-from scorecard.workbook import frames
-from scorecard.workbook.calculator import defined_name
-from scorecard.workbook.manifest import source_sha256
-from scorecard.cautions import CAUTION
-from scorecard.workbook.overview import DATA_HASH_LABEL, RUN_TIME_LABEL
-from scorecard.workbook.tables import safe_value, write_table
+import scorecard.api
+from scorecard.card.scorecard import (
+    LEVELS,
+    MISSING,
+    OUT_OF_RANGE,
+    RANGE,
+    SPECIAL,
+    UNSEEN,
+    load_scorecard,
+)
+from scorecard.card.scoring import apply_scorecard
+from scorecard.demo.files import write_demo
+from scorecard.evaluation.stability import build_stability
+from scorecard.outputs.cautions import CAUTION
+from scorecard.outputs.workbook import SHEETS, frames, write_workbook
+from scorecard.outputs.workbook.calculator import defined_name
+from scorecard.outputs.workbook.manifest import source_sha256
+from scorecard.outputs.workbook.overview import DATA_HASH_LABEL, RUN_TIME_LABEL
+from scorecard.outputs.workbook.tables import safe_value, write_table
 
 TABLE_SHEETS = ("Characteristics", "Bins", "Model", "Points", "Score bands", "Stability")
 FIRST_HEADERS = {
@@ -60,14 +66,14 @@ REL = "{http://schemas.openxmlformats.org/officeDocument/2006/relationships}"
 def demo(tmp_path_factory):
     """The demo (4,000 rows) built with its files written: (result, workbook path, folder)."""
     folder = tmp_path_factory.mktemp("demo_workbook")
-    result = scorecard.run.build(write_demo(folder, rows=4000))
+    result = scorecard.api.build(write_demo(folder, rows=4000))
     return result, result.outputs["workbook"], folder
 
 
 @pytest.fixture(scope="module")
 def tiny(tmp_path_factory):
     """A small build whose categorical levels and title look like formulas."""
-    return scorecard.run.build(_tiny_config(tmp_path_factory.mktemp("tiny_workbook")))
+    return scorecard.api.build(_tiny_config(tmp_path_factory.mktemp("tiny_workbook")))
 
 
 @pytest.fixture(scope="module")
@@ -203,8 +209,8 @@ def test_score_bands_sheet_holds_the_gains_and_names_its_sample(demo, book):
 def test_score_to_odds_table_follows_the_published_scaling():
     # Published (Siddiqi 2006, from memory): 600 points at 50:1 and 20 points to double the
     # odds put odds of 100:1 at 620 and 25:1 at 580.
-    from scorecard.points import scaling
-    from scorecard.model import Bin, Characteristic, Scorecard
+    from scorecard.card.points import scaling
+    from scorecard.card.scorecard import Bin, Characteristic, Scorecard
     bins = (Bin("< 1", RANGE, 1, 1, 0.0, 280, upper=1.0), Bin(">= 1", RANGE, 1, 1, 0.0, 640, lower=1.0))
     card = Scorecard("s", scaling(600, 50, 20), 0.0,
                      (Characteristic("x", "numeric", bins, 1.0, "R01", "x", cuts=(1.0,)),))
@@ -407,7 +413,7 @@ def _check_calculator(file, card, chosen: dict) -> None:
     s = card.scaling
     assert ws.cell(k + 4, 3).value == pytest.approx(math.exp((total - s.offset) / s.factor), rel=1e-12)
     assert ws.cell(k + 5, 3).value == pytest.approx(
-        float(scorecard.scoring.bad_probability(card, total)), rel=1e-12)
+        float(scorecard.card.scoring.bad_probability(card, total)), rel=1e-12)
 
 
 @pytest.mark.skipif(shutil.which("soffice") is None, reason="LibreOffice (soffice) is not installed")
@@ -489,7 +495,7 @@ def test_without_a_holdout_every_figure_comes_from_development(tmp_path):
     config = _tiny_config(tmp_path)
     config.write_text(config.read_text().replace("holdout: 0.3", "holdout: null"))
     with pytest.warns(UserWarning, match="no holdout"):
-        result = scorecard.run.build(config)
+        result = scorecard.api.build(config)
     book = load_workbook(result.outputs["workbook"])
     stability = [c.value for c in book["Stability"]["A"] if c.value]
     assert stability[-1] == "No holdout or out-of-time sample: nothing to compare with."
@@ -579,7 +585,7 @@ def test_write_table_returns_its_rows_and_keeps_formats():
 # --- tables as data ---------------------------------------------------------------------------
 
 def test_attribute_labels_are_unique_within_a_characteristic():
-    from scorecard.model import Bin, Characteristic
+    from scorecard.card.scorecard import Bin, Characteristic
     bins = (Bin("missing", LEVELS, 1, 1, 0, 1, levels=("missing",)),
             Bin("missing", MISSING, 1, 1, 0, 2), Bin("a", LEVELS, 1, 1, 0, 3, levels=("a",)))
     labels = frames.attribute_labels(Characteristic("x", "categorical", bins, 1.0, "R01", "x"))
@@ -590,7 +596,7 @@ def test_attribute_labels_are_unique_within_a_characteristic():
 @given(st.integers(0, 400), st.lists(st.integers(0, 50), min_size=1, max_size=300),
        st.integers(1, 60))
 def test_distribution_table_keeps_every_row_and_ends_at_one(low, goods, max_rows):
-    from scorecard.evaluate import ScoreHistogram
+    from scorecard.evaluation.histograms import ScoreHistogram
     g = np.array(goods, dtype=float)
     b = g[::-1].copy() + 1
     table = frames.distribution_frame(ScoreHistogram(low, g, b), max_rows=max_rows)
@@ -622,7 +628,7 @@ def test_a_failed_write_leaves_the_previous_workbook_whole(demo, tmp_path, monke
 
 def test_rebuilding_gives_the_same_cells_except_the_run_time(demo, tmp_path):
     result, first, folder = demo
-    again = scorecard.run.build(result.config.config_file, workbook=tmp_path / "again.xlsx",
+    again = scorecard.api.build(result.config.config_file, workbook=tmp_path / "again.xlsx",
                                 model=tmp_path / "again.json")
     one, two = load_workbook(first), load_workbook(again.outputs["workbook"])
     assert one.sheetnames == two.sheetnames

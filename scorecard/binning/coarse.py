@@ -1,0 +1,235 @@
+"""Coarse classing: from fine-class counts to the bins of one characteristic.
+
+Numeric fine classes are merged in value order, categorical levels in order of bad rate, by the
+exact optimiser of :mod:`scorecard.binning.optimal`. Missing values and each special value keep bins of
+their own. Manual ``cuts`` and ``groups`` from the config replace the optimiser. The result is a
+draft :class:`~scorecard.card.scorecard.Characteristic` whose bins carry rules only; counts, weights of
+evidence and points are filled in once the rows have been coded (see :mod:`scorecard.build.pipeline`).
+"""
+
+from __future__ import annotations
+
+import math
+from typing import NamedTuple
+
+import numpy as np
+import pandas as pd
+
+from scorecard.binning.fine import NumericLayout, quantile_starts
+from scorecard.binning.optimal import optimal_bins
+from scorecard.card.scorecard import (
+    LEVELS,
+    MISSING,
+    OUT_OF_RANGE,
+    RANGE,
+    SPECIAL,
+    UNSEEN,
+    Bin,
+    Characteristic,
+)
+from scorecard.card.scoring import bin_codes
+from scorecard.data.coding import grid_cells
+from scorecard.errors import InputError
+
+OTHER_LEVELS = "other levels"
+
+
+class BinningOutcome(NamedTuple):
+    """How one characteristic was classed."""
+
+    draft: Characteristic | None   # None when it cannot form two bins
+    fine_classes: int
+    trend: str                     # trend used ('manual' for config cuts or groups)
+    reason: str                    # '' when binned, else why not
+
+
+class Limits(NamedTuple):
+    """Size limits of a coarse bin, in development weight."""
+
+    max_bins: int
+    min_count: float
+    min_goods: float
+    min_bads: float
+
+
+def format_number(value: float) -> str:
+    return f"{value:.6g}"
+
+
+def range_label(lower: float | None, upper: float | None) -> str:
+    """Plain text of a value range ``lower <= x < upper``."""
+    if lower is None and upper is None:
+        return "any value"
+    if lower is None:
+        return f"< {format_number(upper)}"
+    if upper is None:
+        return f">= {format_number(lower)}"
+    return f"{format_number(lower)} to < {format_number(upper)}"
+
+
+def _empty_bin(label: str, kind: str, **rule) -> Bin:
+    return Bin(label=label, kind=kind, goods=0.0, bads=0.0, woe=0.0, points=0, **rule)
+
+
+def numeric_draft(name: str, cuts, special_values, development_range,
+                  out_of_range_bin: bool) -> Characteristic:
+    """Draft numeric characteristic: range bins from ``cuts``, then missing and special bins."""
+    cuts = tuple(float(c) for c in cuts)
+    bounds = list(zip((None,) + cuts, cuts + (None,)))
+    bins = [_empty_bin(range_label(lo, hi), RANGE, lower=lo, upper=hi) for lo, hi in bounds]
+    bins.append(_empty_bin("missing", MISSING))
+    bins += [_empty_bin(f"special value {format_number(v)}", SPECIAL, value=float(v))
+             for v in special_values]
+    if out_of_range_bin:
+        bins.append(_empty_bin("outside the development range", OUT_OF_RANGE))
+    return Characteristic(name, "numeric", tuple(bins), 0.0, "", "", cuts=cuts,
+                          special_values=tuple(float(v) for v in special_values),
+                          development_range=development_range)
+
+
+def categorical_draft(name: str, groups) -> Characteristic:
+    """Draft categorical characteristic: one bin per group of levels, then missing and unseen."""
+    bins = [_empty_bin(label, LEVELS, levels=tuple(levels)) for label, levels in groups]
+    bins.append(_empty_bin("missing", MISSING))
+    bins.append(_empty_bin("level not seen in development", UNSEEN))
+    return Characteristic(name, "categorical", tuple(bins), 0.0, "", "")
+
+
+def class_numeric(name: str, layout: NumericLayout, goods: np.ndarray, bads: np.ndarray,
+                  *, fine_bins: int, trend: str, limits: Limits, development_range,
+                  manual_cuts=None, out_of_range_bin: bool = False) -> BinningOutcome:
+    """Bins of a numeric characteristic from its grid-cell counts (development sample)."""
+    cells = layout.n_cells
+    regular = goods[:cells] + bads[:cells]
+    # A declared special value the development rows never take gets no bin of its own.
+    specials = tuple(v for i, v in enumerate(layout.special_values)
+                     if goods[cells + 1 + i] + bads[cells + 1 + i] > 0)
+    if manual_cuts is not None:
+        draft = numeric_draft(name, manual_cuts, specials, development_range, out_of_range_bin)
+        return BinningOutcome(draft, 0, "manual", "")
+    if regular.sum() <= 0:
+        return BinningOutcome(None, 0, trend, "no values besides missing and special values")
+    starts = quantile_starts(regular, fine_bins)
+    fine_goods = np.add.reduceat(goods[:cells], starts)
+    fine_bads = np.add.reduceat(bads[:cells], starts)
+    result = optimal_bins(fine_goods, fine_bads, total_goods=goods.sum(), total_bads=bads.sum(),
+                          trend=trend, max_bins=limits.max_bins, min_bin_count=limits.min_count,
+                          min_bin_goods=limits.min_goods, min_bin_bads=limits.min_bads)
+    if not result.feasible:
+        reason = "a single value" if len(starts) == 1 else result.reason
+        return BinningOutcome(None, len(starts), result.trend, f"cannot form two bins: {reason}")
+    cut_cells = starts[list(result.starts[1:])]
+    cuts = layout.cuts[cut_cells - 1]
+    draft = numeric_draft(name, cuts, specials, development_range, out_of_range_bin)
+    return BinningOutcome(draft, len(starts), result.trend, "")
+
+
+def class_categorical(name: str, levels, goods: np.ndarray, bads: np.ndarray, *,
+                      rare_share: float, limits: Limits, manual_groups=None,
+                      override_key: str = "") -> BinningOutcome:
+    """Bins of a categorical characteristic from its level counts (last entry: missing)."""
+    levels = list(levels)
+    lg, lb = goods[: len(levels)], bads[: len(levels)]
+    counts = lg + lb
+    present = [lv for lv, c in zip(levels, counts) if c > 0]
+    if manual_groups is not None:
+        listed = {lv for g in manual_groups for lv in g}
+        lost = [lv for lv in present if lv not in listed]
+        if lost:
+            raise InputError(f"{override_key}.groups: level {lost[0]!r} of {name} is in the "
+                             "data but in no group")
+        groups = [(", ".join(g), tuple(g)) for g in manual_groups]
+        return BinningOutcome(categorical_draft(name, groups), len(present), "manual", "")
+    total = counts.sum()
+    if total <= 0:
+        return BinningOutcome(None, 0, "ascending", "no values besides missing")
+    rare = (counts > 0) & (counts < rare_share * total)
+    classes = [(lv, (lv,), g, b) for lv, g, b, c, r in zip(levels, lg, lb, counts, rare)
+               if c > 0 and not r]
+    if rare.any():
+        pooled = tuple(lv for lv, r in zip(levels, rare) if r)
+        classes.append((OTHER_LEVELS, pooled, lg[rare].sum(), lb[rare].sum()))
+    # Order by bad rate, then by label, so that ties never depend on the file's level order.
+    classes.sort(key=lambda c: (c[3] / (c[2] + c[3]), c[0]))
+    fine_goods = np.array([c[2] for c in classes], dtype=float)
+    fine_bads = np.array([c[3] for c in classes], dtype=float)
+    result = optimal_bins(fine_goods, fine_bads, total_goods=goods.sum(), total_bads=bads.sum(),
+                          trend="ascending", max_bins=limits.max_bins,
+                          min_bin_count=limits.min_count, min_bin_goods=limits.min_goods,
+                          min_bin_bads=limits.min_bads)
+    if not result.feasible:
+        reason = "a single level" if len(classes) == 1 else result.reason
+        return BinningOutcome(None, len(classes), "ascending", f"cannot form two bins: {reason}")
+    bounds = list(result.starts) + [len(classes)]
+    groups = [(", ".join(c[0] for c in classes[lo:hi]),
+               tuple(lv for c in classes[lo:hi] for lv in c[1]))
+              for lo, hi in zip(bounds[:-1], bounds[1:])]
+    return BinningOutcome(categorical_draft(name, groups), len(classes), "ascending", "")
+
+
+def bins_of_fine_classes(char: Characteristic, layout) -> np.ndarray | None:
+    """The bin of each fine code, when every fine class falls whole into one bin; else None.
+
+    Then a characteristic's counts by bin are sums of its fine-class counts, exactly, and need
+    no pass over the rows. That holds when every cut is a cut of the fine grid (manual cuts may
+    not be), and when no bin depends on the development range, as an out-of-range bin does:
+    a grid cell can straddle the range's end. Categorical fine classes are the levels, whose
+    bins :func:`scorecard.card.scoring.bin_codes` gives by the same text matching as for rows.
+
+    Examples
+    --------
+    >>> char = numeric_draft("x", [2.0], (), (0.0, 9.0), out_of_range_bin=False)
+    >>> bins_of_fine_classes(char, NumericLayout(np.array([1.0, 2.0, 3.0]), ())).tolist()
+    [0, 0, 1, 1, 2]
+    """
+    missing = char.bin_index(MISSING)
+    if missing is None:
+        return None
+    if isinstance(layout, NumericLayout):
+        cuts = np.asarray(char.cuts, dtype=float)
+        if char.bin_index(OUT_OF_RANGE) is not None or not np.isin(cuts, layout.cuts).all():
+            return None
+        # A cell's lower edge stands for the whole cell: no bin cut falls inside a cell.
+        cells = grid_cells(np.concatenate([[-np.inf], layout.cuts]), cuts)
+        special = {b.value: i for i, b in enumerate(char.bins) if b.kind == SPECIAL}
+        # A declared special value with no bin of its own is scored by its value.
+        specials = [special.get(v, int(grid_cells(np.array([v]), cuts)[0]))
+                    for v in layout.special_values]
+        return np.concatenate([cells, [missing], specials]).astype(np.intp)
+    if char.bin_index(UNSEEN) is None:
+        return None
+    levels = pd.Series(list(layout) + [None], dtype=object)
+    return bin_codes(char, levels)[0].astype(np.intp)
+
+
+def limits_from(total_weight: float, max_bins: int, min_share: float, min_goods: float,
+                min_bads: float) -> Limits:
+    return Limits(max_bins, min_share * total_weight, max(min_goods, 1.0), max(min_bads, 1.0))
+
+
+def bin_weights_of_evidence(goods: np.ndarray, bads: np.ndarray, kinds, limits: Limits,
+                            ) -> tuple[np.ndarray, list[str]]:
+    """WoE of each bin, with the documented fallbacks and a note per bin.
+
+    A range or group bin with no goods or no bads (possible only with manual cuts or groups) gets
+    0.5 added to its goods and bads. A missing, special-value, unseen or out-of-range bin with
+    fewer goods or bads than the bin limits is too small to estimate and gets WoE 0, the average
+    risk of the development sample.
+    """
+    total_g, total_b = goods.sum(), bads.sum()
+    woe = np.zeros(len(goods))
+    notes = [""] * len(goods)
+    for i, kind in enumerate(kinds):
+        g, b = goods[i], bads[i]
+        if kind in (RANGE, LEVELS):
+            if g <= 0 or b <= 0:
+                g, b = g + 0.5, b + 0.5
+                notes[i] = "no goods or no bads: 0.5 added to each before the weight of evidence"
+            woe[i] = math.log((g / total_g) / (b / total_b))
+        elif g + b <= 0:
+            notes[i] = "not seen in development: weight of evidence 0 (average risk)"
+        elif g < limits.min_goods or b < limits.min_bads:
+            notes[i] = "too few rows to estimate: weight of evidence 0 (average risk)"
+        else:
+            woe[i] = math.log((g / total_g) / (b / total_b))
+    return woe, notes

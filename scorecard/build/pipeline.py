@@ -1,0 +1,407 @@
+"""The main job: from a config to a built scorecard and the facts a reviewer needs.
+
+Steps: read and code the outcome, draw the samples, count fine classes, class every
+characteristic, code the rows into bins and count per distinct pattern, select and fit, scale
+to points, and evaluate each sample from its score histogram. Every step after a pass over the
+rows works on count tables only.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Callable
+
+import numpy as np
+import pandas as pd
+
+from scorecard.binning import coarse as binning
+from scorecard.binning.fine import NumericLayout, candidate_cuts
+from scorecard.build.result import BuildResult, CharacteristicReport, SampleFacts
+from scorecard.card.points import attribute_points, largest_rounding_change, scaling
+from scorecard.card.scorecard import (
+    LEVELS,
+    MISSING,
+    OUT_OF_RANGE,
+    RANGE,
+    UNSEEN,
+    Bin,
+    Characteristic,
+    Scorecard,
+)
+from scorecard.data.outcome import BAD, GOOD, code_outcome
+from scorecard.data.read import column_kind
+from scorecard.data.samples import DEVELOPMENT, EXCLUDED, SAMPLE_NAMES, assign_samples, parse_dates
+from scorecard.engines.passes import (
+    RowFacts,
+    bin_counts,
+    coded_patterns,
+    column_summary,
+    fine_counts,
+    merge_bin_counts,
+    merge_fine,
+    merge_patterns,
+    merge_summaries,
+    pattern_radix,
+)
+from scorecard.errors import InputError
+from scorecard.evaluation.fairness import compute_fairness
+from scorecard.evaluation.histograms import band_edges, gains_table, performance, score_histogram
+from scorecard.fit.design import CodedColumns
+from scorecard.fit.selection import floor_fates, select_characteristics
+from scorecard.measures.information import iv_strength, outcome_mutual_information
+
+
+def _say(progress, text):
+    if progress is not None:
+        progress(text)
+
+
+def _candidate_kinds(config, head: pd.DataFrame, reports: dict) -> dict:
+    data = config.data
+    reserved = {data.target, data.weight} | set(data.ignore) | set(data.protected)
+    if config.samples.out_of_time is not None:
+        reserved.add(config.samples.out_of_time.column)
+    kinds = {}
+    for name in head.columns:
+        if name in reserved:
+            continue
+        override = config.characteristics.get(name)
+        kind = column_kind(head[name])
+        if override is not None and override.kind is not None:
+            kind = override.kind
+        if override is not None and override.use is False:
+            reports[name] = CharacteristicReport(name, kind, "not used", "config",
+                                                 "use: false in the config")
+            continue
+        if kind == "date":
+            reports[name] = CharacteristicReport(name, kind, "not used", "data",
+                                                 "a date column is not a characteristic")
+            continue
+        kinds[name] = kind
+    return kinds
+
+
+def _outcome_facts(config, engine):
+    data = config.data
+    oot = config.samples.out_of_time
+
+    def per_chunk(chunk):
+        if data.target not in chunk.columns:
+            raise InputError(f"column {data.target}: the target column is not in the data")
+        weight = chunk[data.weight] if data.weight else None
+        out = code_outcome(chunk[data.target], data.bad, data.good, weight, data.weight or "")
+        late = np.zeros(len(chunk), dtype=bool)
+        if oot is not None:
+            dates = parse_dates(chunk[oot.column], oot.column)
+            late = dates >= np.datetime64(pd.Timestamp(oot.from_date), "ns")
+        return out.label, out.weight, late
+
+    needed = [data.target] + [c for c in (data.weight, oot.column if oot else None) if c]
+    label, weight, late = engine.collect(per_chunk, columns=needed)
+    sample = assign_samples(label, config.samples.holdout, config.samples.seed,
+                            late if oot is not None else None)
+    return RowFacts(label, weight, sample)
+
+
+def _sample_facts(rows: RowFacts) -> SampleFacts:
+    facts = SampleFacts(len(rows.label), int((rows.sample == EXCLUDED).sum()), {}, {}, {})
+    for code, name in SAMPLE_NAMES.items():
+        mask = rows.sample == code
+        facts.rows[name] = int(mask.sum())
+        facts.goods[name] = float(rows.weight[mask & (rows.label == GOOD)].sum())
+        facts.bads[name] = float(rows.weight[mask & (rows.label == BAD)].sum())
+    return facts
+
+
+def _layouts(config, kinds, summary, reports):
+    layouts = {}
+    for name, kind in kinds.items():
+        if kind == "numeric":
+            lo, hi = summary[name]
+            layouts[name] = NumericLayout(candidate_cuts(lo, hi), _specials(config, name))
+        else:
+            levels = tuple(sorted(summary[name]))
+            if len(levels) > config.binning.max_levels:
+                reports[name] = CharacteristicReport(name, kind, "not used", "data",
+                                                     _too_many_levels(levels, config))
+                continue
+            layouts[name] = levels
+    return layouts
+
+
+def _too_many_levels(levels, config) -> str:
+    numeric = pd.to_numeric(pd.Series(levels), errors="coerce").notna()
+    if numeric.mean() >= 0.5:
+        texts = [lv for lv, is_number in zip(levels, numeric) if not is_number][:3]
+        return (f"numbers mixed with text: {numeric.sum()} of {len(levels)} distinct values are "
+                f"numbers, the others text such as {', '.join(map(repr, texts))}; recode the text "
+                "(to empty, or to a number declared in special_values) and rebuild")
+    return (f"identifier-like: {len(levels)} distinct levels "
+            f"(more than max_levels {config.binning.max_levels})")
+
+
+def _specials(config, name) -> tuple:
+    override = config.characteristics.get(name)
+    values = override.special_values if override is not None and override.special_values is not None \
+        else config.binning.special_values
+    return tuple(float(v) for v in values)
+
+
+def _class_all(config, layouts, counts, limits, reports) -> list:
+    drafts = []
+    b = config.binning
+    for name, layout in layouts.items():
+        override = config.characteristics.get(name)
+        fc = counts[name]
+        key = f"characteristics.{name}"
+        if isinstance(layout, NumericLayout):
+            cuts = override.cuts if override is not None else None
+            if cuts is not None and fc.development_range is not None:
+                _check_cuts(key, cuts, fc.development_range)
+            trend = override.trend if override is not None and override.trend else b.trend
+            outcome = binning.class_numeric(
+                name, layout, fc.goods, fc.bads, fine_bins=b.fine_bins, trend=trend,
+                limits=limits, development_range=fc.development_range, manual_cuts=cuts,
+                out_of_range_bin=config.scoring.out_of_range != "edge")
+            kind = "numeric"
+        else:
+            groups = override.groups if override is not None else None
+            outcome = binning.class_categorical(
+                name, layout, fc.goods, fc.bads, rare_share=b.rare_level_share, limits=limits,
+                manual_groups=groups, override_key=key)
+            kind = "categorical"
+        report = CharacteristicReport(name, kind, "not binned", "binning", outcome.reason,
+                                      fine_classes=outcome.fine_classes, trend=outcome.trend)
+        reports[name] = report
+        if outcome.draft is not None:
+            drafts.append(outcome.draft)
+    return drafts
+
+
+def _check_cuts(key, cuts, development_range):
+    lo, hi = development_range
+    if not math.isnan(lo) and (cuts[0] <= lo or cuts[-1] > hi):
+        raise InputError(f"{key}.cuts: every cut must lie inside the development range "
+                         f"{lo:g} to {hi:g}")
+
+
+def _with_counts(draft: Characteristic, table: np.ndarray, limits) -> Characteristic:
+    dev = table[:, DEVELOPMENT, :]
+    goods, bads = dev[:, GOOD], dev[:, BAD]
+    woe, notes = binning.bin_weights_of_evidence(goods, bads, [b.kind for b in draft.bins], limits)
+    bins = tuple(Bin(**{**b.__dict__, "goods": float(g), "bads": float(bd), "woe": float(w),
+                        "note": n}) for b, g, bd, w, n in zip(draft.bins, goods, bads, woe, notes))
+    return Characteristic(**{**draft.__dict__, "bins": bins})
+
+
+def _unseen_rules(char: Characteristic, rules, coefficient: float = 1.0) -> Characteristic:
+    """Apply the config's rules to bins the development sample never filled.
+
+    'worst' takes the weight of evidence of the estimated bin with the fewest points, which
+    depends on the sign of the coefficient, so the build applies the rules again once the
+    coefficient is known.
+    """
+    estimated = [b.woe for b in char.bins
+                 if b.count > 0 and (b.kind in (RANGE, LEVELS) or not b.note)]
+    worst = min(estimated, key=lambda w: coefficient * w) if estimated else 0.0
+    bins = []
+    for b in char.bins:
+        rule = None
+        if b.kind == UNSEEN:
+            rule = rules.unseen_level
+        elif b.kind == MISSING and b.count == 0:
+            rule = rules.unseen_missing
+        elif b.kind == OUT_OF_RANGE:
+            rule = rules.out_of_range
+        if rule == "worst":
+            b = Bin(**{**b.__dict__, "woe": worst, "note": "scored as the worst attribute (config)"})
+        elif rule == "reject":
+            b = Bin(**{**b.__dict__, "rejected": True, "note": "rows here are refused (config)"})
+        elif rule == "neutral":
+            b = Bin(**{**b.__dict__, "woe": 0.0,
+                       "note": "scored as average risk: weight of evidence 0 (config)"})
+        bins.append(b)
+    return Characteristic(**{**char.__dict__, "bins": tuple(bins)})
+
+
+def _default_reason(name: str) -> str:
+    return f"{name.replace('_', ' ').capitalize()} scored below its best attribute"
+
+
+def _scale(config, selection, chosen: list) -> Scorecard:
+    fit = selection.fit
+    coef = dict(zip(fit.names, fit.coefficients))
+    intercept = float(coef["intercept"])
+    sc = config.scaling
+    scale = scaling(sc.base_score, sc.base_odds, sc.pdo)
+    k = len(chosen)
+    chars, exact = [], []
+    for i, char in enumerate(chosen, start=1):
+        beta = float(coef[char.name])
+        char = _unseen_rules(char, config.scoring, beta)
+        pts = attribute_points([b.woe for b in char.bins], beta, intercept, k, scale)
+        override = config.characteristics.get(char.name)
+        code = (override.reason_code if override is not None and override.reason_code else f"R{i:02d}")
+        text = override.reason if override is not None and override.reason else _default_reason(char.name)
+        bins = tuple(Bin(**{**b.__dict__, "points": int(p)}) for b, p in zip(char.bins, pts.points))
+        chars.append(Characteristic(**{**char.__dict__, "bins": bins, "coefficient": beta,
+                                       "reason_code": code, "reason": text}))
+        exact.append(pts.exact)
+    d = config.data
+    target = {"column": d.target, "bad": list(d.bad), "good": list(d.good)}
+    return Scorecard(config.name, scale, intercept, tuple(chars), target,
+                     largest_rounding_change(exact), config.scoring.reasons)
+
+
+def _histograms(card: Scorecard, patterns, names) -> dict:
+    """Score histogram of each sample, straight from the pattern counts."""
+    cols = [2 + names.index(c.name) for c in card.characteristics]
+    tables = [np.array([b.points for b in c.bins], dtype=np.int64) for c in card.characteristics]
+    score = np.zeros(len(patterns.codes), dtype=np.int64)
+    refused = np.zeros(len(patterns.codes), dtype=bool)
+    for col, table, char in zip(cols, tables, card.characteristics):
+        score += table[patterns.codes[:, col]]
+        refused |= np.array([b.rejected for b in char.bins])[patterns.codes[:, col]]
+    low, high = card.min_score, card.max_score
+    out = {}
+    for code, name in SAMPLE_NAMES.items():
+        # Rows the scorecard refuses get no score in production, so none here either.
+        mask = (patterns.codes[:, 0] == code) & ~refused
+        if not mask.any():
+            continue
+        out[name] = score_histogram(score[mask], patterns.codes[mask, 1],
+                                    patterns.weights[mask, 0], low, high)
+    return out
+
+
+def _bin_tables(engine, rows, drafts, layouts, counts) -> list[np.ndarray]:
+    """Weights by (bin, sample, outcome) of every characteristic.
+
+    Summed from the fine classes wherever each fine class falls whole into one bin; the other
+    characteristics (off-grid manual cuts, out-of-range bins) are counted in a pass over the
+    rows. Both are exact.
+    """
+    maps = [binning.bins_of_fine_classes(d, layouts[d.name]) for d in drafts]
+    uncounted = [d for d, m in zip(drafts, maps) if m is None]
+    counted = iter(engine.reduce(bin_counts, merge_bin_counts, rows, uncounted,
+                                 columns=[d.name for d in uncounted]) if uncounted else ())
+    tables = []
+    for draft, fine_bin in zip(drafts, maps):
+        if fine_bin is None:
+            tables.append(next(counted))
+            continue
+        table = np.zeros((len(draft.bins),) + counts[draft.name].table.shape[1:])
+        np.add.at(table, fine_bin, counts[draft.name].table)
+        tables.append(table)
+    return tables
+
+
+def _binned_report(draft: Characteristic, table: np.ndarray, limits, config,
+                   report: CharacteristicReport) -> Characteristic:
+    """Fill ``report`` with the bins' counts, WoE, IV and MI; return the binned characteristic."""
+    char = _unseen_rules(_with_counts(draft, table, limits), config.scoring)
+    woe = np.array([bn.woe for bn in char.bins])
+    g, bd = table[:, DEVELOPMENT, GOOD], table[:, DEVELOPMENT, BAD]
+    # IV of the bins as the model codes them (fallback WoE included).
+    iv = float(np.sum((g / g.sum() - bd / bd.sum()) * woe))
+    mi = outcome_mutual_information(g, bd)
+    report.characteristic = Characteristic(**{**char.__dict__, "information_value": iv})
+    report.sample_counts = table
+    report.information_value, report.strength = iv, iv_strength(iv)
+    report.mutual_information_nats, report.mutual_information_bits = mi.nats, mi.bits
+    return report.characteristic
+
+
+def build_scorecard(config, engine, progress: Callable[[str], None] | None = None) -> BuildResult:
+    """Build a scorecard from a validated config on an engine holding the data.
+
+    Use :func:`scorecard.build.pipeline` to start from a config file.
+    """
+    reports: dict = {}
+    head = engine.sample_rows()
+    kinds = _candidate_kinds(config, head, reports)
+
+    rows = _outcome_facts(config, engine)
+    facts = _sample_facts(rows)
+    dev_goods, dev_bads = facts.goods["development"], facts.bads["development"]
+    if dev_goods <= 0 or dev_bads <= 0:
+        held = engine.reduce(lambda c: column_summary(c, {config.data.target: "categorical"}, {}),
+                             merge_summaries, columns=[config.data.target])[config.data.target]
+        shown = ", ".join(sorted(map(repr, held))[:8]) or "none"
+        raise InputError(f"column {config.data.target}: the development sample needs both goods "
+                         f"and bads (found {dev_goods:g} goods, {dev_bads:g} bads); data.bad and "
+                         f"data.good must name values the column holds: {shown}")
+    _say(progress, f"outcome coded: {facts.rows_read} rows, {facts.left_out} left out")
+
+    specials = {n: _specials(config, n) for n, k in kinds.items() if k == "numeric"}
+    summary = engine.reduce(lambda c: column_summary(c, kinds, specials), merge_summaries,
+                            columns=list(kinds))
+    layouts = _layouts(config, kinds, summary, reports)
+    counts = engine.reduce(fine_counts, merge_fine, rows, layouts, columns=list(layouts))
+    _say(progress, f"fine classes counted for {len(layouts)} characteristics")
+
+    b = config.binning
+    limits = binning.limits_from(dev_goods + dev_bads, b.max_bins, b.min_bin_share,
+                                 b.min_bin_goods, b.min_bin_bads)
+    drafts = _class_all(config, layouts, counts, limits, reports)
+    if not drafts:
+        raise InputError(f"{config.data.source}: no characteristic could be binned")
+    _say(progress, f"coarse classes formed for {len(drafts)} characteristics")
+
+    tables = _bin_tables(engine, rows, drafts, layouts, counts)
+    binned = [_binned_report(draft, table, limits, config, reports[draft.name])
+              for draft, table in zip(drafts, tables)]
+
+    # Only characteristics that pass the information value floor (or are kept) can enter the
+    # model, so only they take part in the pattern table: it stays small however many weak
+    # characteristics the data hold.
+    s = config.selection
+    names = [c.name for c in binned]
+    floored = floor_fates(names, [c.information_value for c in binned], s.min_iv, s.keep)
+    candidates = [c for c in binned if c.name not in floored]
+    radix = pattern_radix(candidates)
+    patterns = engine.reduce(coded_patterns, lambda a, c: merge_patterns(a, c, radix), rows,
+                             candidates, columns=[c.name for c in candidates])
+    _say(progress, f"{len(candidates)} candidates coded into {len(patterns.codes)} distinct "
+                   "patterns")
+
+    dev = patterns.codes[:, 0] == DEVELOPMENT
+    codes = patterns.codes[dev]
+    w = patterns.weights[dev, 0]
+    successes = np.where(codes[:, 1] == GOOD, w, 0.0)
+    failures = np.where(codes[:, 1] == BAD, w, 0.0)
+    # The WoE design stays as bin codes with each column's WoE table: no float matrix of
+    # patterns by candidates is made.
+    design = CodedColumns(codes[:, 2:], [[b.woe for b in c.bins] for c in candidates])
+    selection = select_characteristics(
+        design, successes, failures, [c.name for c in candidates],
+        [c.information_value for c in candidates],
+        min_iv=s.min_iv, max_correlation=s.max_correlation, max_vif=s.max_vif, method=s.method,
+        entry_p_value=s.entry_p_value, max_characteristics=s.max_characteristics,
+        keep=tuple(s.keep))
+    selection = selection._replace(fates={**floored, **selection.fates})
+    for name, fate in selection.fates.items():
+        rep = reports[name]
+        rep.status = "in model" if fate.selected else "not selected"
+        rep.stage, rep.reason = fate.stage, fate.reason
+    if not selection.selected:
+        raise InputError(f"{config.data.source}: no characteristic entered the model "
+                         "(see the information values; lower selection.min_iv or entry_p_value)")
+    _say(progress, f"model fitted on {len(selection.selected)} characteristics")
+
+    by_name = {c.name: c for c in binned}
+    card = _scale(config, selection, [by_name[n] for n in selection.selected])
+    for char in card.characteristics:
+        reports[char.name].characteristic = char
+    histograms = _histograms(card, patterns, [c.name for c in candidates])
+    perf = {name: performance(h) for name, h in histograms.items()}
+    gains_sample = "holdout" if "holdout" in histograms else "development"
+    starts = band_edges(histograms[gains_sample], config.evaluation.score_bands)
+    gains = gains_table(histograms[gains_sample], starts, card.scaling)
+    ordered = [reports[n] for n in head.columns if n in reports]
+    fairness = compute_fairness(config, engine, rows, card)
+    if fairness is not None:
+        _say(progress, f"fairness check on {', '.join(config.data.protected)}: "
+                       f"{len(fairness.flags)} findings")
+    return BuildResult(config, card, ordered, selection, facts, histograms, perf, gains,
+                       gains_sample, starts, patterns, fairness=fairness)

@@ -1,0 +1,1 @@
+"""Data: reading application files, coding the outcome, drawing the samples, coding values."""

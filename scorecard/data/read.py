@@ -1,0 +1,255 @@
+"""Reading application files: CSV and Parquet (files or folders) into frames.
+
+CSV is read with pyarrow's multithreaded reader, text columns dictionary-encoded so that they
+arrive as integer codes; Parquet files and folders of them are read with pyarrow too. Everything
+after the read works on numpy arrays.
+"""
+
+from __future__ import annotations
+
+import codecs
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
+import pyarrow.csv as pacsv
+import pyarrow.dataset as pads
+import pyarrow.parquet as pq
+
+from scorecard.errors import InputError
+
+PARQUET_SUFFIXES = (".parquet", ".pq")
+CSV_SUFFIXES = (".csv", ".txt", ".tsv")
+
+
+def read_table(path, columns=None, encoding="utf-8", delimiter=",") -> pa.Table:
+    """Read a CSV file, a Parquet file or a folder of Parquet files into an Arrow table.
+
+    Files are only ever opened for reading. A CSV whose text does not decode, or whose rows do
+    not all have the header's number of fields, raises InputError naming the row.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "rows.csv"
+    >>> _ = path.write_text("age;outcome\\n31;repaid\\n")
+    >>> read_table(path, delimiter=";").column_names
+    ['age', 'outcome']
+    """
+    path = Path(path)
+    if not path.exists():
+        raise InputError(f"{path}: data file not found")
+    suffix = "" if path.is_dir() else path.suffix.lower()
+    try:
+        if path.is_dir():
+            table = pads.dataset(path, format="parquet").to_table(columns=columns)
+            if not table.column_names:
+                raise InputError(f"{path}: the folder holds no Parquet files")
+            return table
+        if suffix in PARQUET_SUFFIXES:
+            return pq.read_table(path, columns=columns)
+        if suffix in CSV_SUFFIXES:
+            return _read_csv(path, columns, encoding, delimiter)
+    except pa.ArrowInvalid as exc:
+        if suffix in CSV_SUFFIXES and "CSV parse error" in str(exc):
+            raise InputError(_parse_error(path, encoding, delimiter, exc)) from None
+        raise InputError(f"{path}: cannot read the data: {_first_line(exc)}") from None
+    except (pa.ArrowKeyError, OSError) as exc:
+        raise InputError(f"{path}: cannot read the data: {_first_line(exc)}") from None
+    except UnicodeDecodeError as exc:
+        raise InputError(f"{path}: the text is not valid {encoding} ({exc.reason}); "
+                         f"{_ENCODING_HINT}") from None
+    raise InputError(f"{path}: unknown data format {path.suffix!r} "
+                     "(expected .csv, .parquet or a folder of Parquet files)")
+
+
+def _csv_options(path: Path, encoding: str, delimiter: str, threads: bool = True):
+    read = pacsv.ReadOptions(encoding=encoding, block_size=1 << 24, use_threads=threads)
+    parse = pacsv.ParseOptions(delimiter="\t" if path.suffix.lower() == ".tsv" else delimiter)
+    return read, parse
+
+
+def _read_csv(path: Path, columns, encoding: str, delimiter: str) -> pa.Table:
+    if path.stat().st_size == 0:
+        raise InputError(f"{path}: the file is empty")
+    try:
+        codec = codecs.lookup(encoding).name
+    except LookupError:
+        raise InputError(f"{path}: {encoding!r} is not a known text encoding") from None
+    if codec.startswith("utf-8"):
+        _refuse_nul_bytes(path)
+    read, parse = _csv_options(path, encoding, delimiter)
+    convert = pacsv.ConvertOptions(strings_can_be_null=True, auto_dict_encode=True,
+                                   auto_dict_max_cardinality=1 << 16, include_columns=columns)
+    table = pacsv.read_csv(path, read_options=read, parse_options=parse, convert_options=convert)
+    _check_text(path, table, encoding)
+    _check_delimiter(path, table, parse.delimiter)
+    return table
+
+
+def _refuse_nul_bytes(path: Path) -> None:
+    # UTF-8 text never holds NUL bytes; UTF-16 text and spreadsheet files do, and would otherwise
+    # surface as a confusing count of fields.
+    with open(path, "rb") as file:
+        head = file.read(1 << 16)
+    if b"\x00" in head:
+        raise InputError(f"{path}: the file holds NUL bytes, so it is not UTF-8 text: if it is "
+                         "UTF-16, give data.encoding: utf-16; a spreadsheet must be saved as CSV")
+
+
+def _parse_error(path: Path, encoding: str, delimiter: str, exc: Exception) -> str:
+    """The parse error with its data row, found by a second, single-threaded read."""
+    found = []
+
+    def note(row):
+        found.append(row)
+        return "skip"
+
+    read, parse = _csv_options(path, encoding, delimiter, threads=False)
+    parse.invalid_row_handler = note
+    try:
+        pacsv.read_csv(path, read_options=read, parse_options=parse)
+    except pa.ArrowInvalid:
+        pass
+    if found and found[0].number is not None:
+        # The reader counts the header as row 1; messages count data rows from 1.
+        bad = found[0]
+        return (f"{path}: row {bad.number - 1}: expected {bad.expected_columns} fields as in the "
+                f"header, found {bad.actual_columns}")
+    return f"{path}: cannot read the data: {_first_line(exc)}"
+
+
+_ENCODING_HINT = "give the file's encoding as data.encoding (for example latin-1 or cp1252)"
+
+
+def _check_text(path: Path, table: pa.Table, encoding: str) -> None:
+    # The CSV reader keeps text that does not decode as raw bytes instead of failing: in the
+    # header they fail only when the names are read, in a column they would silently become
+    # levels like b'caf\xe9'.
+    try:
+        names = table.column_names
+    except UnicodeDecodeError:
+        raise InputError(f"{path}: the header is not valid {encoding} text; "
+                         f"{_ENCODING_HINT}") from None
+    for index, name in enumerate(names):
+        column = table.column(index)
+        kind = column.type.value_type if pa.types.is_dictionary(column.type) else column.type
+        if pa.types.is_binary(kind) or pa.types.is_large_binary(kind):
+            row = _first_undecodable_row(column)
+            where = "" if row is None else f" row {row + 1}:"
+            raise InputError(f"{path}: column {name}:{where} the text is not valid {encoding}; "
+                             f"{_ENCODING_HINT}")
+
+
+def _first_undecodable_row(column: pa.ChunkedArray) -> int | None:
+    """Position of the first value that is not UTF-8, or None if no single value is to blame."""
+    start = 0
+    for chunk in column.chunks:
+        if pa.types.is_dictionary(chunk.type):
+            entry = _first_undecodable(chunk.dictionary)
+            at = -1 if entry is None else pc.index(chunk.indices, entry).as_py()
+        else:
+            found = _first_undecodable(chunk)
+            at = -1 if found is None else found
+        if at >= 0:
+            return start + at
+        start += len(chunk)
+    return None
+
+
+def _first_undecodable(values: pa.Array) -> int | None:
+    """Index of the first binary value that is not UTF-8, decoding all bytes at once."""
+    offsets_type = np.int64 if pa.types.is_large_binary(values.type) else np.int32
+    buffers = values.buffers()
+    offsets = np.frombuffer(buffers[1], dtype=offsets_type)[values.offset:
+                                                            values.offset + len(values) + 1]
+    data = buffers[2].to_pybytes()[offsets[0]:offsets[-1]] if buffers[2] else b""
+    try:
+        data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        return int(np.searchsorted(offsets, offsets[0] + exc.start, side="right")) - 1
+    return None
+
+
+def _check_delimiter(path: Path, table: pa.Table, delimiter: str) -> None:
+    if table.num_columns != 1:
+        return
+    header = table.column_names[0]
+    other = next((d for d in (";", "\t", "|", ",") if d != delimiter and d in header), None)
+    if other is not None:
+        raise InputError(f"{path}: the file reads as a single column {header[:40]!r}; its fields "
+                         f"seem to be separated by {other!r}: give that as data.delimiter")
+
+
+def _first_line(exc: Exception) -> str:
+    return (str(exc).strip().splitlines() or [exc.__class__.__name__])[0]
+
+
+def read_frame(path, columns=None, encoding="utf-8", delimiter=",") -> pd.DataFrame:
+    """Read a data file into pandas; text columns come back as categoricals.
+
+    Parameters
+    ----------
+    path : path
+        A CSV file (.csv, .txt, .tsv), a Parquet file (.parquet, .pq) or a folder of Parquet files.
+    columns : list of str, optional
+        Read only these columns.
+    encoding : str, default "utf-8"
+        Text encoding of a CSV file.
+    delimiter : str, default ","
+        Field separator of a CSV file (a .tsv file is always tab-separated).
+
+    Returns
+    -------
+    pandas.DataFrame
+        One row per data row, in file order, with a default integer index (row ``i`` of the
+        file is label ``i``; messages about a row count from 1).
+
+    Raises
+    ------
+    InputError
+        The file is missing, empty, has a header but no rows, repeats a column name, or cannot
+        be read or decoded; the message names the file and, where it can, the column and row.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "rows.csv"
+    >>> _ = path.write_text("age,outcome\\n31,repaid\\n45,defaulted\\n")
+    >>> frame = read_frame(path)
+    >>> frame["age"].tolist(), column_kind(frame["outcome"])
+    ([31, 45], 'categorical')
+    """
+    table = read_table(path, columns, encoding, delimiter)
+    names = table.column_names
+    if len(set(names)) != len(names):
+        dup = next(n for n in names if names.count(n) > 1)
+        raise InputError(f"{path}: column {dup}: the name appears more than once")
+    if table.num_rows == 0:
+        raise InputError(f"{path}: the data has column names but no rows")
+    table = pa.table({n: _dictionary_text(table.column(n)) for n in names})
+    return table.to_pandas(split_blocks=True, self_destruct=True, date_as_object=False)
+
+
+def _dictionary_text(column: pa.ChunkedArray) -> pa.ChunkedArray:
+    """Text as dictionary-encoded Arrow, so pandas receives integer codes, not strings."""
+    kind = column.type
+    if pa.types.is_dictionary(kind):
+        return column.unify_dictionaries() if column.num_chunks > 1 else column
+    if pa.types.is_string(kind) or pa.types.is_large_string(kind):
+        return column.dictionary_encode()
+    return column
+
+
+def column_kind(series: pd.Series) -> str:
+    """'numeric', 'categorical' or 'date', from the column's type."""
+    dtype = series.dtype
+    if pd.api.types.is_datetime64_any_dtype(dtype):
+        return "date"
+    if isinstance(dtype, pd.CategoricalDtype):
+        return "categorical"
+    if pd.api.types.is_bool_dtype(dtype) or pd.api.types.is_numeric_dtype(dtype):
+        return "numeric"
+    return "categorical"

@@ -1,0 +1,229 @@
+"""The passes over the rows. Each takes one chunk of rows and returns small count tables.
+
+Counts from different chunks add up, so an engine may run a pass over one in-memory frame or
+over the partitions of a Dask dataframe and merge the results with the matching ``merge_*``
+function. Merging in chunk order keeps every result independent of how the rows were cut.
+
+Within a chunk the characteristics are coded on a few threads: the heavy numpy loops
+(``searchsorted``, comparisons, gathers) release the interpreter lock.
+"""
+
+from __future__ import annotations
+
+import os
+from concurrent.futures import ThreadPoolExecutor
+from typing import NamedTuple
+
+import numpy as np
+import pandas as pd
+
+from scorecard.binning.fine import NumericLayout, numeric_codes, regular_range
+from scorecard.card.scoring import bin_codes
+from scorecard.data.coding import categorical_codes, level_labels, numeric_values
+from scorecard.data.outcome import BAD, GOOD
+from scorecard.data.samples import DEVELOPMENT, EXCLUDED
+from scorecard.engines.patterns import Patterns, distinct_patterns, merge_distinct
+
+N_SAMPLES = 3  # development, holdout, out of time
+MAX_THREADS = 4
+_THREAD_ROWS = 50_000   # below this a chunk is coded faster than threads start
+# Rows per block when laying per-characteristic codes side by side: a block of the code matrix
+# then stays in cache while every column is written into it.
+_FILL_ROWS = 1 << 16
+
+
+class RowFacts(NamedTuple):
+    """Per-row outcome, weight and sample of one chunk."""
+
+    label: np.ndarray
+    weight: np.ndarray
+    sample: np.ndarray
+
+
+def pass_threads() -> int:
+    """Threads a pass may use inside one chunk: the cores this process may run on, at most 4."""
+    try:
+        cores = len(os.sched_getaffinity(0))
+    except AttributeError:  # not every platform reports the affinity
+        cores = os.cpu_count() or 1
+    return max(1, min(MAX_THREADS, cores))
+
+
+def _each(fn, items: list, rows: int) -> list:
+    if len(items) < 2 or rows < _THREAD_ROWS or pass_threads() == 1:
+        return [fn(item) for item in items]
+    with ThreadPoolExecutor(pass_threads()) as pool:
+        return list(pool.map(fn, items))
+
+
+def column_summary(frame: pd.DataFrame, kinds: dict, special_values: dict) -> dict:
+    """Per column: (min, max) of regular numeric values, or the set of categorical levels."""
+    def one(item):
+        name, kind = item
+        series = frame[name]
+        if kind == "numeric":
+            return name, regular_range(numeric_values(series, name), special_values[name])
+        cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
+        seen = np.bincount(cat.cat.codes.to_numpy() + 1, minlength=len(cat.cat.categories) + 1)
+        return name, frozenset(level_labels(cat.cat.categories[seen[1:] > 0]))
+    return dict(_each(one, list(kinds.items()), len(frame)))
+
+
+def merge_summaries(a: dict, b: dict) -> dict:
+    out = dict(a)
+    for name, value in b.items():
+        if name not in out:
+            out[name] = value
+        elif isinstance(value, frozenset):
+            out[name] = out[name] | value
+        else:
+            lo, hi = out[name]
+            out[name] = (float(np.fmin(lo, value[0])), float(np.fmax(hi, value[1])))
+    return out
+
+
+def _sample_outcome_counter(rows: RowFacts):
+    """A function from (codes, number of codes) to weights by (code, sample, outcome)."""
+    kept = rows.sample != EXCLUDED
+    # Left-out rows weigh nothing, so every row can take part and no row selection is made.
+    weight = np.where(kept, rows.weight, 0.0)
+    cell = np.where(kept, rows.sample.astype(np.intp) * 2 + rows.label, 0)
+    cells = N_SAMPLES * 2
+
+    def counted(codes: np.ndarray, n_codes: int) -> np.ndarray:
+        table = np.bincount(codes * cells + cell, weights=weight, minlength=n_codes * cells)
+        return table.reshape(n_codes, N_SAMPLES, 2)
+
+    return counted
+
+
+class FineCounts(NamedTuple):
+    """Weights per fine code by sample and outcome, and the development value range.
+
+    ``table`` has shape (codes, 3, 2): samples as in :data:`scorecard.data.samples.SAMPLE_NAMES`,
+    outcomes good then bad. The classing reads the development part; the other samples let a
+    characteristic's bins be counted from its fine classes without another pass.
+    """
+
+    table: np.ndarray
+    development_range: tuple[float, float] | None
+
+    @property
+    def goods(self) -> np.ndarray:
+        return self.table[:, DEVELOPMENT, GOOD]
+
+    @property
+    def bads(self) -> np.ndarray:
+        return self.table[:, DEVELOPMENT, BAD]
+
+
+def fine_counts(frame: pd.DataFrame, rows: RowFacts, layouts: dict) -> dict:
+    """Fine-class counts by sample and outcome for every characteristic.
+
+    ``layouts`` maps a name to a :class:`NumericLayout` or to the tuple of its levels.
+    Categorical codes are the level index, with the missing code last.
+
+    Examples
+    --------
+    >>> rows = RowFacts(np.array([0, 1, 0], np.int8), np.ones(3), np.zeros(3, np.int8))
+    >>> c = fine_counts(pd.DataFrame({"x": [1.0, 5.0, None]}), rows,
+    ...                 {"x": NumericLayout(np.array([2.0]), ())})["x"]
+    >>> c.goods.tolist(), c.bads.tolist(), c.development_range
+    ([1.0, 0.0, 1.0], [0.0, 1.0, 0.0], (1.0, 5.0))
+    """
+    dev = rows.sample == DEVELOPMENT
+    counted = _sample_outcome_counter(rows)
+
+    def one(item):
+        name, layout = item
+        series = frame[name]
+        if isinstance(layout, NumericLayout):
+            x = numeric_values(series, name)
+            table = counted(numeric_codes(x, layout), layout.n_codes)
+            return name, FineCounts(table, regular_range(x, layout.special_values, dev))
+        idx = categorical_codes(series, layout)
+        return name, FineCounts(counted(np.where(idx < 0, len(layout), idx), len(layout) + 1),
+                                None)
+
+    return dict(_each(one, list(layouts.items()), len(frame)))
+
+
+def merge_fine(a: dict, b: dict) -> dict:
+    out = {}
+    for name, fa in a.items():
+        fb = b[name]
+        rng = None
+        if fa.development_range is not None:
+            rng = (float(np.fmin(fa.development_range[0], fb.development_range[0])),
+                   float(np.fmax(fa.development_range[1], fb.development_range[1])))
+        out[name] = FineCounts(fa.table + fb.table, rng)
+    return out
+
+
+def coded_patterns(frame: pd.DataFrame, rows: RowFacts, drafts) -> Patterns:
+    """Counts per distinct (sample, outcome, bin of each characteristic) over the chunk.
+
+    The first two columns of the pattern codes are the sample and the outcome (0 good, 1 bad);
+    the rest are the bin index of each characteristic in ``drafts`` order. Weights: one column.
+    Rows outside every sample are left out.
+    """
+    keep = rows.sample != EXCLUDED
+    every = bool(keep.all())
+
+    def one(char):
+        codes = bin_codes(char, frame[char.name])[0]
+        return codes if every else codes[keep]
+
+    columns = [rows.sample if every else rows.sample[keep],
+               rows.label if every else rows.label[keep]] + _each(one, list(drafts), len(frame))
+    radix = pattern_radix(drafts)
+    weight = rows.weight if every else rows.weight[keep]
+    return distinct_patterns(_side_by_side(columns), radix, [weight])
+
+
+def pattern_radix(drafts) -> list[int]:
+    """Number of values of each pattern column: samples, outcomes, then bins per characteristic."""
+    return [N_SAMPLES, 2] + [len(c.bins) for c in drafts]
+
+
+def _side_by_side(columns: list) -> np.ndarray:
+    n = len(columns[0])
+    out = np.empty((n, len(columns)), dtype=np.int16)
+    for start in range(0, n, _FILL_ROWS):
+        block = out[start:start + _FILL_ROWS]
+        for j, column in enumerate(columns):
+            block[:, j] = column[start:start + _FILL_ROWS]
+    return out
+
+
+def merge_patterns(a: Patterns, b: Patterns, radix) -> Patterns:
+    """Patterns of two chunks as one table; ``a``'s chunk comes first in the rows."""
+    return merge_distinct(a, b, radix)
+
+
+def bin_counts(frame: pd.DataFrame, rows: RowFacts, drafts) -> list[np.ndarray]:
+    """Per characteristic: weights by (bin, sample, outcome), an array of shape (bins, 3, 2).
+
+    Rows outside every sample are left out. The build needs this pass only for characteristics
+    whose bins are not unions of fine classes (see :func:`scorecard.binning.coarse.bins_of_fine_classes`).
+
+    Examples
+    --------
+    >>> from scorecard.card.scorecard import RANGE, Bin, Characteristic
+    >>> bins = (Bin("< 2", RANGE, 1, 0, 0.0, 0, upper=2.0), Bin(">= 2", RANGE, 1, 1, 0.0, 0, lower=2.0))
+    >>> char = Characteristic("x", "numeric", bins, 0.0, "", "", cuts=(2.0,))
+    >>> rows = RowFacts(np.array([0, 1, 0], np.int8), np.ones(3), np.array([0, 0, 1], np.int8))
+    >>> table = bin_counts(pd.DataFrame({"x": [1.0, 5.0, 3.0]}), rows, [char])[0]
+    >>> table[:, 0].tolist(), table[:, 1].tolist()
+    ([[1.0, 0.0], [0.0, 1.0]], [[0.0, 0.0], [1.0, 0.0]])
+    """
+    counted = _sample_outcome_counter(rows)
+
+    def one(char):
+        return counted(bin_codes(char, frame[char.name])[0].astype(np.intp), len(char.bins))
+
+    return _each(one, list(drafts), len(frame))
+
+
+def merge_bin_counts(a: list, b: list) -> list:
+    return [x + y for x, y in zip(a, b)]

@@ -1,0 +1,1 @@
+"""Evaluation on counts: score histograms and gains, stability, fairness, comparison of samples."""

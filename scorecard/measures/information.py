@@ -1,0 +1,338 @@
+"""Measures over count arrays: odds, entropy, weight of evidence, association, ranking and drift.
+
+Every function here works on arrays of (possibly weighted, float) counts, never on rows, so a
+caller first aggregates its data (for example with ``np.bincount``) and then asks for a measure.
+All logarithms are natural (nats); bits are nats divided by ``ln 2``.
+
+Conventions
+-----------
+* A *good* is the non-event, a *bad* the event. The model predicts the log-odds of GOOD.
+* Weight of evidence of bin ``i`` is ``ln((g_i / G) / (b_i / B))``: positive means lower risk.
+* Information value is ``sum((g_i / G - b_i / B) * WoE_i)``, which is never negative.
+* Higher scores mean lower risk, so score histograms are given in ascending score order.
+
+Invalid arrays (wrong shape, unequal lengths, non-finite or negative entries, zero totals)
+raise :class:`ValueError` naming the argument and the first entry at fault.
+"""
+
+from __future__ import annotations
+
+import math
+import warnings
+from typing import NamedTuple
+
+import numpy as np
+from scipy import special
+
+from scorecard.measures.checks import (
+    as_counts,
+    as_number,
+    as_table,
+    check_positive_total,
+    check_same_length,
+    check_smoothing,
+    log_ratio,
+)
+
+
+class InformationValue(NamedTuple):
+    """Information value of a binned characteristic.
+
+    Attributes
+    ----------
+    total : float
+        Sum of ``per_bin``; ``inf`` when some bin holds only goods or only bads.
+    per_bin : ndarray
+        Contribution ``(g_i/G - b_i/B) * WoE_i`` of every bin (0 for a bin with no cases).
+    woe : ndarray
+        Weight of evidence of every bin.
+    """
+
+    total: float
+    per_bin: np.ndarray
+    woe: np.ndarray
+
+
+class MutualInformation(NamedTuple):
+    """Mutual information in nats and in bits."""
+
+    nats: float
+    bits: float
+
+
+def logit(p):
+    """Log-odds ``ln(p / (1 - p))``, element-wise.
+
+    Parameters
+    ----------
+    p : array_like
+        Probabilities in [0, 1]; 0 and 1 give -inf and +inf.
+
+    Returns
+    -------
+    ndarray or float
+        Log-odds with the shape of ``p``.
+
+    Examples
+    --------
+    >>> float(logit(0.75))  # odds 3:1
+    1.0986122886681098
+    """
+    probabilities = np.asarray(p, dtype=float)
+    outside = np.flatnonzero(~((probabilities >= 0) & (probabilities <= 1)))
+    if outside.size:
+        first = probabilities.flat[outside[0]]
+        raise ValueError(f"p: probabilities must lie in [0, 1], got {first}")
+    return special.logit(probabilities)
+
+
+def logistic(x):
+    """Logistic function ``1 / (1 + exp(-x))``, element-wise and without overflow.
+
+    Parameters
+    ----------
+    x : array_like
+        Log-odds; ±inf are allowed and give 1 and 0.
+
+    Returns
+    -------
+    ndarray or float
+        Probabilities with the shape of ``x``.
+
+    Examples
+    --------
+    >>> float(logistic(0.0))
+    0.5
+    """
+    log_odds = np.asarray(x, dtype=float)
+    if np.any(np.isnan(log_odds)):
+        raise ValueError("x: must not contain nan")
+    return special.expit(log_odds)
+
+
+def entropy(counts):
+    """Shannon entropy, in nats, of the distribution proportional to ``counts``.
+
+    Parameters
+    ----------
+    counts : array_like
+        1-d non-negative weights; zero entries contribute nothing.
+
+    Returns
+    -------
+    float
+
+    Examples
+    --------
+    >>> entropy([5, 5]) == math.log(2)
+    True
+    """
+    weights = as_counts(counts, "counts")
+    check_positive_total(weights, "counts", "entropy needs a distribution")
+    shares = weights / weights.sum()
+    return float(-special.xlogy(shares, shares).sum())
+
+
+def _smoothed_shares(goods, bads, smoothing):
+    goods = as_counts(goods, "goods")
+    bads = as_counts(bads, "bads")
+    check_same_length(goods, "goods", bads, "bads")
+    why = "weight of evidence needs at least one good and one bad"
+    check_positive_total(goods, "goods", why)
+    check_positive_total(bads, "bads", why)
+    smoothing = check_smoothing(smoothing)
+    goods = goods + smoothing
+    bads = bads + smoothing
+    return goods / goods.sum(), bads / bads.sum()
+
+
+def _warn_empty_bins(good_share, bad_share):
+    empty = np.flatnonzero((good_share == 0) & (bad_share == 0))
+    if empty.size:
+        warnings.warn(
+            f"bins {empty.tolist()} hold no goods and no bads; their weight of evidence is nan",
+            stacklevel=3,
+        )
+
+
+def weight_of_evidence(goods, bads, smoothing=0.0):
+    """Weight of evidence ``ln((g_i / G) / (b_i / B))`` of every bin.
+
+    Parameters
+    ----------
+    goods, bads : array_like
+        1-d weights of goods and bads per bin, of equal length; each must have a positive total.
+    smoothing : float, default 0.0
+        Added to the goods and to the bads of every bin before shares are taken. 0.5 is the
+        documented fallback when some bin has zero goods or zero bads.
+
+    Returns
+    -------
+    ndarray
+        With ``smoothing=0`` a bin with no goods gives -inf and a bin with no bads +inf, without
+        a RuntimeWarning. A bin with neither gives nan and a UserWarning.
+
+    Examples
+    --------
+    >>> weight_of_evidence([10, 30], [30, 10]).round(4)
+    array([-1.0986,  1.0986])
+    """
+    good_share, bad_share = _smoothed_shares(goods, bads, smoothing)
+    _warn_empty_bins(good_share, bad_share)
+    return log_ratio(good_share, bad_share)
+
+
+def information_value(goods, bads, smoothing=0.0):
+    """Information value of a binned characteristic, with its per-bin parts and WoE.
+
+    Parameters
+    ----------
+    goods, bads, smoothing
+        As for :func:`weight_of_evidence`; the shares used are those after smoothing.
+
+    Returns
+    -------
+    InformationValue
+        ``total`` is ``inf`` when, unsmoothed, a bin holds only goods or only bads. A bin with
+        no cases contributes 0.
+
+    Examples
+    --------
+    >>> round(information_value([10, 30], [30, 10]).total, 4)
+    1.0986
+    """
+    good_share, bad_share = _smoothed_shares(goods, bads, smoothing)
+    _warn_empty_bins(good_share, bad_share)
+    woe = log_ratio(good_share, bad_share)
+    # A bin without cases has equal (zero) shares, so it adds nothing even though its WoE is nan.
+    no_cases = (good_share == 0) & (bad_share == 0)
+    per_bin = (good_share - bad_share) * np.where(no_cases, 0.0, woe)
+    return InformationValue(total=float(per_bin.sum()), per_bin=per_bin, woe=woe)
+
+
+def iv_strength(iv):
+    """Plain-English strength of an information value.
+
+    Cut-offs: below 0.02 'not predictive', below 0.1 'weak', below 0.3 'medium', up to 0.5
+    'strong' and above 0.5 'suspiciously strong', a hint to look for leakage of the outcome.
+
+    Parameters
+    ----------
+    iv : float
+        A non-negative information value (``inf`` allowed).
+
+    Returns
+    -------
+    str
+
+    Examples
+    --------
+    >>> iv_strength(0.15)
+    'medium'
+    """
+    iv = as_number(iv, "iv")
+    if not iv >= 0:
+        raise ValueError(f"iv: must be a number >= 0, got {iv!r}")
+    if iv < 0.02:
+        return "not predictive"
+    if iv < 0.1:
+        return "weak"
+    if iv < 0.3:
+        return "medium"
+    if iv <= 0.5:
+        return "strong"
+    return "suspiciously strong"
+
+
+def mutual_information(table):
+    """Mutual information between the row and column variables of a contingency table.
+
+    Computed as ``sum p_ij ln(p_ij / (p_i. p_.j))`` over non-empty cells, which equals
+    ``H(X) + H(Y) - H(X, Y)`` without the cancellation of subtracting entropies; rounding
+    below zero is clipped to 0.
+
+    Parameters
+    ----------
+    table : array_like
+        2-d non-negative weights, rows = bins, columns = classes or groups.
+
+    Returns
+    -------
+    MutualInformation
+
+    Examples
+    --------
+    >>> mutual_information([[5, 0], [0, 5]]).bits
+    1.0
+    """
+    weights = as_table(table)
+    joint = weights / weights.sum()
+    row_share = joint.sum(axis=1, keepdims=True)
+    column_share = joint.sum(axis=0, keepdims=True)
+    rows, columns = np.nonzero(joint)
+    cells = joint[rows, columns]
+    terms = cells * (
+        np.log(cells) - np.log(row_share[rows, 0]) - np.log(column_share[0, columns])
+    )
+    nats = max(float(terms.sum()), 0.0)
+    return MutualInformation(nats=nats, bits=nats / math.log(2))
+
+
+def outcome_mutual_information(goods, bads):
+    """Mutual information between the bin and the good/bad outcome.
+
+    Parameters
+    ----------
+    goods, bads : array_like
+        1-d weights of goods and bads per bin, of equal length.
+
+    Returns
+    -------
+    MutualInformation
+
+    Examples
+    --------
+    >>> outcome_mutual_information([10, 10], [10, 10]).nats
+    0.0
+    """
+    goods = as_counts(goods, "goods")
+    bads = as_counts(bads, "bads")
+    check_same_length(goods, "goods", bads, "bads")
+    return mutual_information(np.column_stack([goods, bads]))
+
+
+def cramers_v(table):
+    """Cramér's V of a contingency table, without bias correction.
+
+    ``sqrt(chi2 / (N (k - 1)))`` with ``chi2`` Pearson's statistic (no continuity correction)
+    and ``k`` the smaller of the numbers of rows and columns. Empty rows and columns are
+    dropped first, since they carry no information and would make expected counts zero.
+
+    Parameters
+    ----------
+    table : array_like
+        2-d non-negative weights.
+
+    Returns
+    -------
+    float
+        In [0, 1]; nan with a warning when fewer than two non-empty rows or columns remain.
+
+    Examples
+    --------
+    >>> cramers_v([[10, 0], [0, 10]])
+    1.0
+    """
+    weights = as_table(table)
+    weights = weights[weights.sum(axis=1) > 0][:, weights.sum(axis=0) > 0]
+    smaller_side = min(weights.shape)
+    if smaller_side < 2:
+        warnings.warn(
+            "table: fewer than two non-empty rows or columns; Cramér's V is nan",
+            stacklevel=2,
+        )
+        return math.nan
+    total = weights.sum()
+    expected = np.outer(weights.sum(axis=1), weights.sum(axis=0)) / total
+    chi_square = ((weights - expected) ** 2 / expected).sum()
+    return float(np.clip(math.sqrt(chi_square / (total * (smaller_side - 1))), 0.0, 1.0))

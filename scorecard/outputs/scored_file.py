@@ -1,0 +1,333 @@
+"""``scorecard score``: apply a model file to a data file, in chunks, and write the scored rows.
+
+The data is streamed: a CSV file block by block (pyarrow's streaming reader), a Parquet file or
+folder batch by batch, so a file larger than memory goes through in bounded memory. Each chunk
+is scored by :func:`scorecard.card.scoring.apply_scorecard`, the same code the build uses, and
+written at once to a temporary file that replaces the output only when every row is done.
+
+Columns of the scored file, in order: the ``keep`` columns as read, ``score``,
+``bad_probability``, ``points_<name>`` for each characteristic, ``reason_1`` ... ``reason_N``.
+A row that the scorecard refuses (a bin whose config rule is ``reject``) gets an empty score,
+an empty bad probability, empty points for the refusing characteristic and
+``REJECTED:<name>`` as its reasons. Reasons are stored dictionary-encoded: a handful of labels
+and one small integer per row.
+"""
+
+from __future__ import annotations
+
+import contextlib
+from pathlib import Path
+from typing import Iterator, NamedTuple
+
+import numpy as np
+import pyarrow as pa
+import pyarrow.compute as pc
+import pyarrow.csv as pacsv
+import pyarrow.dataset as pads
+import pyarrow.parquet as pq
+
+from scorecard.card.scorecard import MISSING, OUT_OF_RANGE, UNSEEN, Scorecard, load_scorecard
+from scorecard.card.scoring import UnusualValues, apply_scorecard, bad_probability, reason_codes
+from scorecard.data.read import CSV_SUFFIXES, PARQUET_SUFFIXES
+from scorecard.errors import InputError
+from scorecard.outputs.atomic import atomic_path
+
+CHUNK_ROWS = 1 << 18
+CSV_BLOCK_BYTES = 1 << 24
+OUTPUT_SUFFIXES = (".csv", ".tsv") + PARQUET_SUFFIXES
+_TEXT = pa.dictionary(pa.int32(), pa.string())
+
+
+class ScoringSummary(NamedTuple):
+    """What ``scorecard score`` did: rows scored, refused, and unusual values per characteristic.
+
+    ``unusual`` maps a characteristic to its :class:`~scorecard.card.scoring.UnusualValues` counts,
+    ``refused`` to the rows it refused, ``treatment`` to how the scorecard scores each kind of
+    unusual value (``"refused"``, ``"<p> points"`` or ``"end range bins"``).
+    """
+
+    rows: int
+    rejected: int
+    unusual: dict
+    out: Path
+    refused: dict
+    treatment: dict
+
+    def text(self) -> str:
+        """Lines for the command line: the totals, then one line per characteristic affected."""
+        lines = [f"scored {self.rows} rows into {self.out}" +
+                 (f"; {self.rejected} refused" if self.rejected else "")]
+        for name, counts in self.unusual.items():
+            ways = self.treatment[name]
+            parts = [f"{_CASE_WORDS[case]}: {count} ({ways[case]})"
+                     for case, count in counts._asdict().items() if count]
+            if parts:
+                lines.append(f"  {name}: " + ", ".join(parts))
+        return "\n".join(lines)
+
+
+_CASE_WORDS = {"unseen_levels": "levels not seen in development",
+               "unseen_missing": "missing values where development had none",
+               "out_of_range": "values outside the development range"}
+
+
+def score_file(model, data, out, keep=(), reasons: int = 4, *, reason_text: bool = False,
+               encoding: str = "utf-8", delimiter: str = ",", chunk_rows: int = CHUNK_ROWS,
+               csv_block_bytes: int = CSV_BLOCK_BYTES) -> ScoringSummary:
+    """Score every row of ``data`` with a scorecard and write ``out`` (CSV or Parquet).
+
+    Parameters
+    ----------
+    model : path or Scorecard
+        A model file written by ``scorecard build``, or the scorecard itself.
+    data : path
+        CSV file (``.csv``, ``.txt``; ``.tsv`` is tab-separated), Parquet file or folder of
+        Parquet files.
+    out : path
+        The scored file; ``.csv``/``.tsv`` or ``.parquet``/``.pq``. Written atomically.
+    keep : sequence of str
+        Input columns copied to the front of the output.
+    reasons : int
+        Reason columns per row (0 for none).
+    reason_text : bool
+        Write each reason's text instead of its code.
+    encoding, delimiter : str
+        How to read a CSV file.
+    chunk_rows : int
+        Most rows scored at a time; bounds the memory of the per-row arrays.
+    csv_block_bytes : int
+        Bytes of CSV read at a time; each block carries its own level dictionaries.
+
+    Returns
+    -------
+    ScoringSummary
+
+    Examples
+    --------
+    >>> import tempfile, pathlib, pandas as pd
+    >>> from scorecard.card.scorecard import Bin, Characteristic, Scorecard, RANGE, MISSING
+    >>> from scorecard.card.points import scaling
+    >>> b = (Bin("< 1", RANGE, 60, 40, -0.4, 580, upper=1.0), Bin(">= 1", RANGE, 90, 10, 1.0, 620, lower=1.0),
+    ...      Bin("missing", MISSING, 5, 5, 0.0, 600))
+    >>> card = Scorecard("demo", scaling(600, 50, 20), 0.5,
+    ...                  (Characteristic("x", "numeric", b, 1.0, "R01", "x is low", cuts=(1.0,)),))
+    >>> folder = pathlib.Path(tempfile.mkdtemp())
+    >>> pd.DataFrame({"id": [1, 2, 3], "x": [0.5, 2.0, None]}).to_csv(folder / "in.csv", index=False)
+    >>> print(score_file(card, folder / "in.csv", folder / "out.csv", keep=["id"], reasons=1).rows)
+    3
+    >>> print((folder / "out.csv").read_text())
+    "id","score","bad_probability","points_x","reason_1"
+    1,580,0.038461538461538...,580,"R01"
+    2,620,0.0099009900990098...,620,
+    3,600,0.019607843137254...,600,"R01"
+    <BLANKLINE>
+    """
+    card = model if isinstance(model, Scorecard) else load_scorecard(model)
+    data, out = Path(data), Path(out)
+    keep = tuple(keep)
+    if reasons < 0:
+        raise InputError(f"--reasons {reasons}: must be at least 0")
+    if chunk_rows < 1 or csv_block_bytes < 1:
+        raise ValueError("chunk_rows and csv_block_bytes must be positive")
+    _check_output(out, data)
+    counts = _Counts(card)
+    with _open_source(card, data, keep, encoding, delimiter, chunk_rows,
+                      csv_block_bytes) as (schema, batches):
+        out_schema = scored_schema(card, schema, keep, reasons)
+        with atomic_path(out) as tmp, _open_writer(tmp, out, out_schema) as write:
+            for batch in batches:
+                scored, scores = scored_batch(card, batch, keep, reasons, reason_text, out_schema)
+                write(scored)
+                counts.add(scores)
+    return counts.summary(out)
+
+
+def scored_schema(card: Scorecard, source: pa.Schema, keep=(), reasons: int = 4) -> pa.Schema:
+    """Schema of the scored file for input columns ``source``; InputError on a name clash."""
+    fields = [source.field(k) for k in keep]
+    fields += [pa.field("score", pa.int64()), pa.field("bad_probability", pa.float64())]
+    fields += [pa.field(f"points_{c.name}", pa.int64()) for c in card.characteristics]
+    fields += [pa.field(f"reason_{i + 1}", _TEXT) for i in range(reasons)]
+    names = [f.name for f in fields]
+    for k in keep:
+        if names.count(k) > 1:
+            raise InputError(f"--keep {k}: listed twice or clashes with an output column")
+    return pa.schema(fields)
+
+
+def scored_batch(card: Scorecard, batch: pa.RecordBatch, keep=(), reasons: int = 4,
+                 reason_text: bool = False, schema: pa.Schema | None = None):
+    """Score one batch of rows; return the output batch and the raw :class:`Scores`."""
+    schema = schema or scored_schema(card, batch.schema, keep, reasons)
+    s = apply_scorecard(card, _characteristic_frame(card, batch))
+    arrays = [batch.column(k).cast(schema.field(k).type) for k in keep]
+    arrays.append(pa.array(s.score, mask=s.rejected))
+    arrays.append(pa.array(bad_probability(card, s.score), type=pa.float64(), mask=s.rejected))
+    arrays += [pa.array(np.ascontiguousarray(s.points[:, j]), mask=s.refused[:, j])
+               for j in range(len(card.characteristics))]
+    if reasons:
+        ranked = reason_codes(card, s.points, reasons, s.refused, reason_text)
+        labels = pa.array(ranked.labels, type=pa.string())
+        for i in range(reasons):
+            column = ranked.index[:, i]
+            arrays.append(pa.DictionaryArray.from_arrays(
+                pa.array(column, type=pa.int32(), mask=column < 0), labels))
+    return pa.RecordBatch.from_arrays(arrays, schema=schema), s
+
+
+def _characteristic_frame(card: Scorecard, batch: pa.RecordBatch):
+    """The characteristic columns as pandas: numbers as float64, text dictionary-encoded."""
+    columns = {}
+    for c in card.characteristics:
+        column = batch.column(c.name)
+        kind = column.type
+        if c.kind == "numeric" and (pa.types.is_integer(kind) or pa.types.is_boolean(kind)
+                                    or pa.types.is_floating(kind) or pa.types.is_null(kind)):
+            column = column.cast(pa.float64())
+        elif c.kind == "categorical" and (pa.types.is_string(kind) or pa.types.is_large_string(kind)
+                                          or pa.types.is_null(kind)):
+            column = pc.dictionary_encode(column.cast(pa.string()))
+        columns[c.name] = column
+    return pa.table(columns).to_pandas(split_blocks=True)
+
+
+class _Counts:
+    """Running totals over the chunks."""
+
+    def __init__(self, card: Scorecard):
+        self.card = card
+        self.rows = self.rejected = 0
+        self.unusual = {c.name: UnusualValues(0, 0, 0) for c in card.characteristics}
+        self.refused = {c.name: 0 for c in card.characteristics}
+
+    def add(self, scores) -> None:
+        self.rows += len(scores.score)
+        self.rejected += int(scores.rejected.sum())
+        for j, c in enumerate(self.card.characteristics):
+            before, now = self.unusual[c.name], scores.unusual[c.name]
+            self.unusual[c.name] = UnusualValues(*(a + b for a, b in zip(before, now)))
+            self.refused[c.name] += int(scores.refused[:, j].sum())
+
+    def summary(self, out: Path) -> ScoringSummary:
+        treatment = {c.name: {"unseen_levels": _treatment(c, UNSEEN),
+                              "unseen_missing": _treatment(c, MISSING),
+                              "out_of_range": _treatment(c, OUT_OF_RANGE)}
+                     for c in self.card.characteristics}
+        return ScoringSummary(self.rows, self.rejected, self.unusual, out, self.refused, treatment)
+
+
+def _treatment(char, kind: str) -> str:
+    index = char.bin_index(kind)
+    if index is None:
+        return "end range bins" if kind == OUT_OF_RANGE else "no bin"
+    b = char.bins[index]
+    return "refused" if b.rejected else f"{b.points} points"
+
+
+def _check_output(out: Path, data: Path) -> None:
+    if out.suffix.lower() not in OUTPUT_SUFFIXES:
+        raise InputError(f"{out}: --out must end in .csv, .tsv, .parquet or .pq")
+    target, source = out.resolve(), data.resolve()
+    if target == source or source in target.parents:
+        raise InputError(f"{out}: --out would overwrite or sit inside the data {data}; "
+                         "inputs are never modified")
+
+
+@contextlib.contextmanager
+def _open_source(card, path: Path, keep, encoding, delimiter, chunk_rows, block_bytes):
+    """Yield (schema, iterator of batches of at most ``chunk_rows`` rows) for the data file."""
+    if not path.exists():
+        raise InputError(f"{path}: data file not found")
+    with contextlib.ExitStack() as stack:
+        try:
+            schema, batches = _batches(card, path, keep, encoding, delimiter, chunk_rows,
+                                       block_bytes, stack)
+        except (pa.ArrowInvalid, pa.ArrowKeyError, OSError, UnicodeDecodeError) as exc:
+            raise InputError(f"{path}: cannot read the data: {_first_line(exc)}") from None
+        yield schema, _guarded(path, batches, chunk_rows)
+
+
+def _batches(card, path: Path, keep, encoding, delimiter, chunk_rows, block_bytes, stack):
+    # Levels are read straight into dictionaries: one string per distinct level, not per row.
+    levels = [c.name for c in card.characteristics if c.kind == "categorical"]
+    if path.is_dir():
+        form = pads.ParquetFileFormat(dictionary_columns=levels)
+        dataset = pads.dataset(path, format=form)
+        columns = _needed(card, path, dataset.schema.names, keep)
+        return dataset.schema, dataset.to_batches(columns=columns, batch_size=chunk_rows)
+    suffix = path.suffix.lower()
+    if suffix in PARQUET_SUFFIXES:
+        columns = _needed(card, path, pq.read_schema(path).names, keep)
+        file = stack.enter_context(pq.ParquetFile(path, read_dictionary=levels))
+        return file.schema_arrow, file.iter_batches(batch_size=chunk_rows, columns=columns)
+    if suffix in CSV_SUFFIXES:
+        reader = _csv_reader(card, path, keep, encoding, delimiter, block_bytes)
+        stack.callback(reader.close)
+        return reader.schema, reader
+    raise InputError(f"{path}: unknown data format {path.suffix!r} "
+                     "(expected .csv, .parquet or a folder of Parquet files)")
+
+
+def _guarded(path: Path, batches, chunk_rows: int) -> Iterator[pa.RecordBatch]:
+    """Batches cut to ``chunk_rows``; read errors become InputError naming the file."""
+    try:
+        for batch in batches:
+            for start in range(0, batch.num_rows, chunk_rows):
+                yield batch.slice(start, chunk_rows)
+    except (pa.ArrowInvalid, OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"{path}: cannot read the data: {_first_line(exc)}") from None
+
+
+def _needed(card, path: Path, names, keep) -> list[str]:
+    """The columns to read; InputError naming a column that is absent or repeated."""
+    names = list(names)
+    for name in names:
+        if names.count(name) > 1:
+            raise InputError(f"{path}: column {name}: the name appears more than once")
+    for k in keep:
+        if k not in names:
+            raise InputError(f"--keep {k}: no such column in {path}")
+    for c in card.characteristics:
+        if c.name not in names:
+            raise InputError(f"{path}: column {c.name}: the scorecard needs it but the data "
+                             "lacks it")
+    return list(dict.fromkeys(list(keep) + list(card.names)))
+
+
+def _csv_reader(card, path: Path, keep, encoding, delimiter, block_bytes):
+    if path.stat().st_size == 0:
+        raise InputError(f"{path}: the file is empty")
+    parse = pacsv.ParseOptions(delimiter="\t" if path.suffix.lower() == ".tsv" else delimiter)
+    header = pacsv.open_csv(path, read_options=pacsv.ReadOptions(encoding=encoding,
+                                                                 block_size=1 << 20),
+                            parse_options=parse)
+    names = header.schema.names
+    header.close()
+    columns = _needed(card, path, names, keep)
+    # Types are fixed for the characteristics, so that a block whose first rows are all missing
+    # cannot be read as another type; levels keep their text, dictionary-encoded per block.
+    types = {c.name: pa.float64() if c.kind == "numeric" else _TEXT for c in card.characteristics}
+    convert = pacsv.ConvertOptions(strings_can_be_null=True, column_types=types,
+                                   include_columns=columns)
+    return pacsv.open_csv(path, read_options=pacsv.ReadOptions(encoding=encoding,
+                                                               block_size=block_bytes),
+                          parse_options=parse, convert_options=convert)
+
+
+@contextlib.contextmanager
+def _open_writer(tmp: Path, out: Path, schema: pa.Schema):
+    """Yield a function that writes one batch to ``tmp`` in the format of ``out``."""
+    suffix = out.suffix.lower()
+    if suffix in PARQUET_SUFFIXES:
+        writer = pq.ParquetWriter(tmp, schema)
+    else:
+        options = pacsv.WriteOptions(delimiter="\t" if suffix == ".tsv" else ",")
+        writer = pacsv.CSVWriter(tmp, schema, write_options=options)
+    try:
+        yield writer.write_batch
+    finally:
+        writer.close()
+
+
+def _first_line(exc: Exception) -> str:
+    return (str(exc).strip().splitlines() or [exc.__class__.__name__])[0]

@@ -1,0 +1,72 @@
+"""The reviewer's workbook of a built scorecard (an .xlsx file).
+
+Sheets, in the fixed order of the output contract: Overview, Characteristics, Bins, Model,
+Points, Score bands, Stability, Calculator, then Fairness when the build examined fairness.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from openpyxl import Workbook
+
+from scorecard.outputs.atomic import atomic_path
+from scorecard.outputs.workbook import calculator, overview, sheets, stability_sheet
+from scorecard.outputs.workbook.manifest import run_manifest
+
+__all__ = ["SHEETS", "write_workbook"]
+
+SHEETS = ("Overview", "Characteristics", "Bins", "Model", "Points", "Score bands", "Stability",
+          "Calculator")
+FAIRNESS = "Fairness"
+
+
+def write_workbook(result, path) -> Path:
+    """Write the workbook of a build to ``path``, whole or not at all.
+
+    Parameters
+    ----------
+    result : scorecard.build.result.BuildResult
+        The build; ``result.fairness``, when present and not None, adds the Fairness sheet.
+    path : path
+        The .xlsx file to write; its folder is created if needed.
+
+    Returns
+    -------
+    Path
+        ``path``.
+
+    Examples
+    --------
+    >>> import tempfile, scorecard.demo.files, scorecard.api
+    >>> folder = tempfile.mkdtemp()
+    >>> result = scorecard.api.build(scorecard.demo.files.write_demo(folder, rows=2000))
+    >>> write_workbook(result, f"{folder}/again.xlsx").name
+    'again.xlsx'
+    """
+    from scorecard.evaluation.stability import build_stability
+
+    wb = Workbook()
+    wb.remove(wb.active)
+    ws = {name: wb.create_sheet(name) for name in SHEETS}
+    overview.write_overview(ws["Overview"], result, run_manifest(result.config))
+    sheets.write_characteristics(ws["Characteristics"], result)
+    sheets.write_bins(ws["Bins"], result)
+    sheets.write_model(ws["Model"], result)
+    points_header, _ = sheets.write_points(ws["Points"], result)
+    sheets.write_score_bands(ws["Score bands"], result)
+    limits = result.config.stability
+    stability_sheet.write_stability(ws["Stability"], build_stability(result),
+                                    watch=limits.watch, shift=limits.shift)
+    calculator.write_calculator(ws["Calculator"], result.card, points_header)
+    fairness = getattr(result, "fairness", None)
+    if fairness is not None:
+        from scorecard.outputs.workbook.fairness_sheet import write_fairness_sheet
+        write_fairness_sheet(wb.create_sheet(FAIRNESS), fairness)
+    # Spreadsheet programs compute the calculator's formulas when the file opens.
+    wb.calculation.fullCalcOnLoad = True
+    wb.properties.creator = "scorecard"
+    path = Path(path)
+    with atomic_path(path) as tmp:
+        wb.save(tmp)
+    return path

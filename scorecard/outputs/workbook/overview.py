@@ -1,0 +1,122 @@
+"""The Overview sheet: a cover page a reviewer reads first.
+
+Label in column A, value in column B; short tables where a fact has one row per sample; long
+sentences in wrapped cells merged across the page width.
+"""
+
+from __future__ import annotations
+
+import math
+
+from openpyxl.utils import get_column_letter
+from openpyxl.worksheet.worksheet import Worksheet
+
+from scorecard.outputs.cautions import CAUTION
+from scorecard.outputs.workbook import frames, style
+from scorecard.outputs.workbook.manifest import Manifest
+from scorecard.outputs.workbook.tables import safe_value, set_print_layout, write_table
+
+LABEL_WIDTH, VALUE_WIDTH, VALUE_COLUMNS = 48, 14, 6
+RUN_TIME_LABEL = "Time of the run (UTC)"
+DATA_HASH_LABEL = "Data SHA-256 (of the file, or of a folder's file hashes)"
+READING = ("Colour repeats what signs and words say, so a black-and-white print reads the same: "
+           "a blue tint marks lower risk (positive weight of evidence, shown with +), a sand tint "
+           "higher risk (negative, shown with -). Every figure names the sample it comes from: "
+           "development (the fit), holdout (set aside at random) or out of time (a later period).")
+
+
+class _Page:
+    """A cursor down the cover page."""
+
+    def __init__(self, ws: Worksheet):
+        self.ws, self.row = ws, 1
+
+    def heading(self, text: str) -> None:
+        self.row += 1
+        self.ws.cell(self.row, 1, safe_value(text)).font = style.HEADING_FONT
+        self.row += 1
+
+    def fact(self, label: str, value, number_format: str | None = None) -> None:
+        self.ws.cell(self.row, 1, safe_value(label)).font = style.BOLD
+        cell = self.ws.cell(self.row, 2, safe_value(value))
+        # Numbers and text line up under one another on a cover page.
+        cell.alignment = style.LEFT
+        if number_format is not None:
+            cell.number_format = number_format
+        self.row += 1
+
+    def paragraph(self, text: str, font=None) -> None:
+        """Text wrapped across the value columns, its row tall enough for every line."""
+        ws, row = self.ws, self.row
+        ws.merge_cells(start_row=row, start_column=1, end_row=row, end_column=1 + VALUE_COLUMNS)
+        cell = ws.cell(row, 1, safe_value(text))
+        cell.alignment = style.WRAP
+        if font is not None:
+            cell.font = font
+        characters_per_line = (LABEL_WIDTH + VALUE_WIDTH * VALUE_COLUMNS) * 0.95
+        lines = math.ceil(len(text) / characters_per_line)
+        ws.row_dimensions[row].height = 15 * lines + 3
+        self.row += 1
+
+    def table(self, frame, formats) -> None:
+        _, last = write_table(self.ws, frame, start_row=self.row, formats=formats)
+        self.row = last + 1
+
+
+def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
+    """Fill the cover page from a build result and its run manifest."""
+    ws.column_dimensions["A"].width = LABEL_WIDTH
+    for k in range(VALUE_COLUMNS):
+        ws.column_dimensions[get_column_letter(2 + k)].width = VALUE_WIDTH
+    config, card, samples = result.config, result.card, result.samples
+    page = _Page(ws)
+    ws.cell(1, 1, safe_value(config.name)).font = style.TITLE_FONT
+    page.row = 2
+    page.paragraph(f"A points scorecard ranking applications by their risk of the outcome "
+                   f"'{', '.join(map(str, config.data.bad))}' against "
+                   f"'{', '.join(map(str, config.data.good))}' in column "
+                   f"'{config.data.target}': a higher score means lower risk.")
+    page.paragraph(CAUTION, style.BOLD)
+
+    page.heading("Data")
+    page.fact("Data file", str(config.data.source))
+    page.fact("Rows read", samples.rows_read, style.COUNT)
+    page.fact("Rows left out (outcome neither bad nor good)", samples.left_out, style.COUNT)
+    page.table(frames.samples_frame(samples),
+               {"Rows": style.COUNT, "Goods": style.COUNT, "Bads": style.COUNT,
+                "Bad rate": style.PERCENT})
+
+    page.heading("Scaling")
+    s = card.scaling
+    page.fact("Base score", s.base_score, "0")
+    page.fact("Good:bad odds at the base score", s.base_odds, "0.##")
+    page.fact("Points to double the odds", s.pdo, "0.##")
+    page.fact("Factor (points to double the odds / ln 2)", s.factor, style.WOE)
+    page.fact("Offset (base score - factor x ln odds)", s.offset, style.WOE)
+    page.fact("Largest score change caused by rounding", card.rounding_change, "0.00")
+    page.fact("Lowest and highest attainable score", f"{card.min_score} to {card.max_score}")
+
+    page.heading("How well the score separates goods from bads")
+    page.table(frames.discrimination_frame(result.performance),
+               {"AUC": style.MEASURE, "Gini": style.MEASURE, "KS": style.MEASURE})
+
+    page.heading(f"Characteristics in the model ({len(card.characteristics)})")
+    page.table(frames.model_frame(card), {"Information value": style.WOE, "Coefficient": style.WOE,
+                                    "Lowest points": style.INTEGER, "Highest points": style.INTEGER})
+
+    page.heading("Run manifest")
+    page.fact("Config file", manifest.config_file)
+    page.fact("Config file SHA-256", manifest.config_sha256)
+    page.fact(DATA_HASH_LABEL, manifest.data_sha256)
+    page.fact("Rows read", samples.rows_read, style.COUNT)
+    page.fact("Rows per sample", "; ".join(f"{name} {rows:,}" for name, rows in samples.rows.items()))
+    page.fact("Random seed of the holdout split", manifest.seed)
+    for name, version in manifest.versions:
+        page.fact(f"Version of {name}", version)
+    page.fact(RUN_TIME_LABEL, manifest.run_time)
+
+    page.heading("How to read this workbook")
+    page.paragraph(READING)
+    set_print_layout(ws)
+    ws.page_setup.orientation = "portrait"
+

@@ -1,0 +1,224 @@
+"""The table sheets: Characteristics, Bins, Model, Points and Score bands.
+
+Each writer fills one worksheet with its header in row 1 and states, in a note under the
+table, which sample its figures come from.
+"""
+
+from __future__ import annotations
+
+import math
+
+from openpyxl.utils import get_column_letter
+from openpyxl.worksheet.pagebreak import Break
+from openpyxl.worksheet.worksheet import Worksheet
+
+from scorecard.outputs.workbook import charts, frames, style
+from scorecard.outputs.workbook.tables import finish_table_sheet, safe_value, write_table
+
+BIN_FORMATS = {"Rows": style.COUNT, "Goods": style.COUNT, "Bads": style.COUNT,
+               "Bad rate": style.PERCENT, "Share of rows": style.PERCENT,
+               "Weight of evidence": style.SIGNED_WOE, "IV contribution": style.WOE,
+               "Points": style.INTEGER}
+GAINS_FORMATS = {"Band": style.INTEGER, "Lowest score": style.INTEGER,
+                 "Highest score": style.INTEGER, "Rows": style.COUNT, "Goods": style.COUNT,
+                 "Bads": style.COUNT, "Bad rate": style.PERCENT,
+                 "Predicted bad rate": style.PERCENT, "Share of rows": style.PERCENT,
+                 "Cumulative share of bads": style.PERCENT,
+                 "Cumulative share of goods": style.PERCENT, "Gap (KS)": style.PERCENT}
+DISTRIBUTION_FORMATS = {"Score from": style.INTEGER, "Score to": style.INTEGER,
+                        "Goods": style.COUNT, "Bads": style.COUNT,
+                        "Share of goods": style.PERCENT, "Share of bads": style.PERCENT,
+                        "Cumulative share of goods": style.PERCENT,
+                        "Cumulative share of bads": style.PERCENT, "Gap (KS)": style.PERCENT}
+
+
+def note(ws: Worksheet, row: int, text: str, col: int = 1) -> int:
+    """Write a one-line note in small italics; returns the next free row."""
+    ws.cell(row, col, safe_value(text)).font = style.NOTE_FONT
+    return row + 1
+
+
+def tint_by_sign(ws: Worksheet, column: int, first_row: int, last_row: int) -> None:
+    """Blue for lower risk (positive), sand for higher risk (negative); the sign says it too."""
+    for row in range(first_row, last_row + 1):
+        cell = ws.cell(row, column)
+        if isinstance(cell.value, (int, float)) and cell.value != 0:
+            cell.fill = style.LOWER_RISK_FILL if cell.value > 0 else style.HIGHER_RISK_FILL
+
+
+def separate_groups(ws: Worksheet, frame, header: int, column: str = "Characteristic") -> None:
+    """A thin rule above the first row of each characteristic, so its block reads as one."""
+    values = frame[column].tolist()
+    for i in range(1, len(values)):
+        if values[i] != values[i - 1]:
+            for col in range(1, len(frame.columns) + 1):
+                ws.cell(header + 1 + i, col).border = style.GROUP_BORDER
+
+
+def column_of(frame, name: str, start_col: int = 1) -> int:
+    return start_col + list(frame.columns).index(name)
+
+
+def write_characteristics(ws: Worksheet, result) -> None:
+    frame = frames.characteristics_frame(result.reports)
+    formats = {"Fine classes": style.INTEGER, "Information value": style.WOE,
+               "Mutual information (nats)": style.WOE, "Mutual information (bits)": style.WOE}
+    header, last = write_table(ws, frame, formats=formats)
+    status_col = column_of(frame, "Status")
+    for row in range(header + 1, last + 1):
+        if ws.cell(row, status_col).value == frames.IN_MODEL:
+            for col in range(1, len(frame.columns) + 1):
+                ws.cell(row, col).font = style.BOLD
+    finish_table_sheet(ws, header, last, len(frame.columns))
+    note(ws, last + 2, "Ranked by information value, measured on the development sample; "
+                       "characteristics in the model are in bold.")
+
+
+def write_bins(ws: Worksheet, result) -> None:
+    frame = frames.bins_frame(result.reports)
+    header, last = write_table(ws, frame, formats=BIN_FORMATS)
+    tint_by_sign(ws, column_of(frame, "Weight of evidence"), header + 1, last)
+    separate_groups(ws, frame, header)
+    finish_table_sheet(ws, header, last, len(frame.columns))
+    row = note(ws, last + 2, "Counts, bad rates and weights of evidence are from the development "
+                             "sample. Positive weight of evidence (+, blue) means lower risk than "
+                             "average; negative (-, sand) higher. Points are blank for "
+                             "characteristics not in the model.")
+    row = note(ws, row, "Charts below: bad rate by attribute (bars, left axis) and weight of "
+                        "evidence (line, right axis), development sample.")
+    _bin_charts(ws, frame, header, row + 1)
+
+
+def _bin_charts(ws: Worksheet, frame, header: int, top: int) -> None:
+    """One chart per characteristic, two across and whole on each printed page, below the table.
+
+    A chart spans the characteristic's bins up to the last one with development rows: the
+    trailing bins that development never filled (unseen levels, an empty missing bin) have no
+    bad rate to draw.
+    """
+    label_col, rate_col = column_of(frame, "Attribute"), column_of(frame, "Bad rate")
+    woe_col = column_of(frame, "Weight of evidence")
+    grid = charts.chart_grid(charts.table_width_cm(ws, len(frame.columns)))
+    second_col = charts.column_after(ws, 1, grid.width_cm + 0.5)
+    for k, (first_row, last_row, name) in enumerate(_chart_spans(frame, header)):
+        chart = charts.bad_rate_and_woe_chart(ws, name, first_row, last_row, label_col=label_col,
+                                              bad_rate_col=rate_col, woe_col=woe_col)
+        chart.width, chart.height = grid.width_cm, grid.height_cm
+        grid_row = k // 2
+        row = top + grid_row * grid.rows_per_chart
+        if k % 2 == 0 and grid_row % grid.chart_rows_per_page == 0:
+            # A printed page holds whole charts only.
+            ws.row_breaks.append(Break(id=row - 1))
+        col = 1 if k % 2 == 0 else second_col
+        ws.add_chart(chart, f"{get_column_letter(col)}{row}")
+
+
+def _chart_spans(frame, header: int) -> list[tuple[int, int, str]]:
+    """(first row, last row, characteristic) of each chart, in the order of the table."""
+    names = frame["Characteristic"].tolist()
+    filled = (frame["Rows"] > 0).tolist()
+    spans, start = [], 0
+    for name in dict.fromkeys(names):
+        count = names.count(name)
+        used = [i for i in range(start, start + count) if filled[i]] or [start]
+        spans.append((header + 1 + start, header + 1 + used[-1], name))
+        start += count
+    return spans
+
+
+def write_model(ws: Worksheet, result) -> None:
+    selection = result.selection
+    coefficients = frames.coefficients_frame(selection)
+    formats = {"Coefficient": style.WOE, "Standard error": style.WOE, "z": "0.00",
+               "p-value": "0.00E+00", "VIF": "0.00"}
+    header, last = write_table(ws, coefficients, formats=formats)
+    finish_table_sheet(ws, header, last, len(coefficients.columns))
+    fit = selection.fit
+    row = note(ws, last + 2, f"Logistic regression of the log-odds of good on weight-of-evidence "
+                             f"coded characteristics, fitted on the development sample. "
+                             f"Log-likelihood {fit.log_likelihood:.4f}; "
+                             f"{'converged' if fit.converged else 'did NOT converge'} after "
+                             f"{fit.iterations} {'iteration' if fit.iterations == 1 else 'iterations'}.")
+    steps = frames.steps_frame(selection)
+    write_table(ws, steps, start_row=row + 1,
+                title=f"Characteristic selection steps (method: {result.config.selection.method})",
+                formats={"Step": style.INTEGER, "Score-test p-value": "0.00E+00",
+                         "Log-likelihood": style.WOE})
+
+
+def write_points(ws: Worksheet, result) -> tuple[int, int]:
+    """The points table; returns its (header_row, last_row) for the calculator's lookups."""
+    card = result.card
+    frame = frames.points_frame(card)
+    header, last = write_table(ws, frame, formats={"Points": style.INTEGER,
+                                                   "Weight of evidence": style.SIGNED_WOE,
+                                                   "Coefficient": style.WOE})
+    tint_by_sign(ws, column_of(frame, "Weight of evidence"), header + 1, last)
+    separate_groups(ws, frame, header)
+    finish_table_sheet(ws, header, last, len(frame.columns))
+    s = card.scaling
+    row = note(ws, last + 2, f"Score = sum of the points of one attribute per characteristic. "
+                             f"{s.base_score:g} points at good:bad odds of {s.base_odds:g}:1; every "
+                             f"{s.pdo:g} points double the odds (factor {s.factor:.4f}, offset "
+                             f"{s.offset:.4f}).")
+    note(ws, row, f"Scores range from {card.min_score} to {card.max_score}. Rounding each "
+                  f"attribute to whole points changes any score by at most "
+                  f"{card.rounding_change:.2f} points.")
+    return header, last
+
+
+def write_score_bands(ws: Worksheet, result) -> None:
+    sample = result.gains_sample
+    gains = result.gains
+    header, last = write_table(ws, gains, formats=GAINS_FORMATS)
+    finish_table_sheet(ws, header, last, len(gains.columns))
+    rows = result.samples.rows.get(sample, 0)
+    row = note(ws, last + 2, f"Sample: {sample} ({rows:,} rows). Band 1 is the highest risk; "
+                             f"bands hold about equal shares of the sample. The predicted bad "
+                             f"rate is the scaling's at the band's mean score.")
+    perf = result.performance.get(sample)
+    hist = result.histograms[sample]
+    if perf is not None and not math.isnan(perf.ks):
+        row = note(ws, row, f"Largest gap between the cumulative shares of bads and goods "
+                            f"(KS): {perf.ks:.1%} at score {hist.low + perf.ks_index}.")
+    grid = charts.chart_grid(charts.table_width_cm(ws, len(gains.columns)))
+    chart_row = row + 1
+    table_row = chart_row + grid.rows_per_chart + 1
+    odds = frames.odds_frame(result.card)
+    write_table(ws, odds, start_row=table_row, title="Score, odds and bad probability",
+                formats={"Score": style.INTEGER, "Good:bad odds": "[<10]0.000;#,##0.0",
+                         "Bad probability": "0.00%"})
+    dist_col = len(odds.columns) + 2
+    distribution = frames.distribution_frame(hist)
+    dist_header, dist_last = write_table(
+        ws, distribution, start_row=table_row, start_col=dist_col,
+        title=f"Score distribution of the {sample} sample", formats=DISTRIBUTION_FORMATS)
+    _score_charts(ws, sample, distribution, dist_col, dist_header, dist_last, chart_row, grid)
+
+
+def _score_charts(ws, sample, distribution, dist_col, header, last, top, grid) -> None:
+    def col(name):
+        return column_of(distribution, name, dist_col)
+
+    first = header + 1
+    shares = charts.bar_chart(
+        ws, f"Score distribution of goods and bads ({sample})", first, last,
+        label_col=col("Score from"), x_title="Score (lowest of the group)",
+        y_title="Share of the sample's goods or bads",
+        series=[charts.Plotted(col("Share of goods"), "Share of goods", style.GOOD_LINE),
+                charts.Plotted(col("Share of bads"), "Share of bads", style.BAD_LINE)])
+    shares.width, shares.height = grid.width_cm, grid.height_cm
+    ws.add_chart(shares, f"A{top}")
+    cumulative = charts.line_chart(
+        ws, f"Cumulative shares of goods and bads, and their gap ({sample})", first, last,
+        label_col=col("Score to"), x_title="Score (highest of the group)",
+        y_title="Cumulative share", y_max=1,
+        series=[charts.Plotted(col("Cumulative share of goods"), "Cumulative share of goods",
+                            style.GOOD_LINE),
+                charts.Plotted(col("Cumulative share of bads"), "Cumulative share of bads",
+                            style.BAD_LINE, "dash"),
+                charts.Plotted(col("Gap (KS)"), "Gap (KS)", style.NEUTRAL_LINE, "sysDot")])
+    cumulative.width, cumulative.height = grid.width_cm, grid.height_cm
+    second = charts.column_after(ws, 1, grid.width_cm + 0.5)
+    ws.add_chart(cumulative, f"{get_column_letter(second)}{top}")
+
