@@ -1,8 +1,8 @@
 """A catalogue of bad input, each case through the command line.
 
 Every case copies one small demo folder (2,000 invented applications, its config, a model file
-and a previous workbook), spoils one thing, runs a command and checks the contract of
-DESIGN.md: exit status 2, exactly one stderr line beginning ``error:`` that names the file, key,
+and a previous workbook), spoils one thing, runs a command and checks the command
+contract stated in the README (Exit status): exit status 2, exactly one stderr line beginning ``error:`` that names the file, key,
 column or row at fault, no traceback, and no output created or changed (the folder's files keep
 their bytes and modification times, and no temporary file is left).
 """

@@ -77,7 +77,8 @@ def test_bins_meet_the_limits_and_follow_the_trend(demo_build):
 
 
 def test_woe_matches_its_definition(demo_build):
-    # WoE = ln(share of goods / share of bads) (DESIGN.md, the trade's definition).
+    # WoE = ln(share of goods / share of bads): the trade's definition (Siddiqi 2006, published,
+    # from memory).
     char = demo_build.card.characteristics[0]
     g = np.array([b.goods for b in char.bins])
     bd = np.array([b.bads for b in char.bins])

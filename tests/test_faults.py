@@ -1,6 +1,6 @@
 """Faults: interrupted builds, builds racing for one output, and inputs that must stay untouched.
 
-DESIGN.md: "outputs appear whole or not at all, and inputs are never modified". The checks
+The README's contract: "Outputs are written whole or not at all, and inputs are never changed." The checks
 here interrupt a build while it writes (by an exception in this process, and by a signal to a
 separate process), race two processes for the same output paths, and build and score from
 read-only inputs.

@@ -252,11 +252,12 @@ def test_each_unseen_value_rule_scores_or_refuses_as_configured(small_demo, rule
 def test_unseen_level_and_missing_bins_of_the_build_are_where_scoring_looks(small_demo):
     folder, text = small_demo
     card = _build_with(folder, text, ("reject", "worst", "neutral"))
-    for c in card.characteristics:
-        if c.kind == "categorical":
-            unseen = c.bins[c.bin_index(UNSEEN)]
-            assert unseen.rejected and unseen.count == 0
-            assert all(b.kind in (LEVELS, MISSING, UNSEEN) for b in c.bins)
+    categorical = [c for c in card.characteristics if c.kind == "categorical"]
+    assert categorical, "the demo card must hold a categorical characteristic for this check"
+    for c in categorical:
+        unseen = c.bins[c.bin_index(UNSEEN)]
+        assert unseen.rejected and unseen.count == 0
+        assert all(b.kind in (LEVELS, MISSING, UNSEEN) for b in c.bins)
 
 
 def test_the_score_command_prints_the_summary_and_bad_input_is_one_error_line(demo, tmp_path):

@@ -168,7 +168,7 @@ class Comparison(NamedTuple):
         return any(r.status in levels for r in self.indices)
 
     def to_dict(self) -> dict:
-        """The ``compare --json`` content (DESIGN.md's keys, with extra keys beside them)."""
+        """The ``compare --json`` content (the documented keys, with extra keys beside them)."""
         score = self.stability.score
         return {
             "score": {"psi": score.index, "status": score.status,
