@@ -22,3 +22,14 @@ class InputError(ValueError):
     ...
     scorecard.errors.InputError: config.yaml: binning.max_bins: must be at least 2 (line 12)
     """
+
+
+def first_line(exc: BaseException) -> str:
+    """The first line of an exception's message (its type name when it has none), for an error line.
+
+    Examples
+    --------
+    >>> first_line(OSError("disk full\\nmore detail"))
+    'disk full'
+    """
+    return (str(exc).strip().splitlines() or [exc.__class__.__name__])[0]

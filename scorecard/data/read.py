@@ -1,7 +1,8 @@
-"""Reading application files: CSV and Parquet (files or folders) into frames.
+"""Reading application files into frames: CSV, Parquet, statistical datasets, spreadsheets.
 
-CSV is read with pyarrow's multithreaded reader, text columns dictionary-encoded so that they
-arrive as integer codes; Parquet files and folders of them are read with pyarrow too. Everything
+CSV (plain or compressed) is read with pyarrow's multithreaded reader, text columns
+dictionary-encoded so that they arrive as integer codes; Parquet files and folders of them are
+read with pyarrow too; the other kinds come through :mod:`scorecard.data.formats`. Everything
 after the read works on numpy arrays.
 """
 
@@ -18,14 +19,13 @@ import pyarrow.csv as pacsv
 import pyarrow.dataset as pads
 import pyarrow.parquet as pq
 
-from scorecard.errors import InputError
+from scorecard.data.formats import (KNOWN, data_format, is_tab_separated, open_zip_member,
+                                    read_spreadsheet, read_statistical)
+from scorecard.errors import InputError, first_line
 
-PARQUET_SUFFIXES = (".parquet", ".pq")
-CSV_SUFFIXES = (".csv", ".txt", ".tsv")
 
-
-def read_table(path, columns=None, encoding="utf-8", delimiter=",") -> pa.Table:
-    """Read a CSV file, a Parquet file or a folder of Parquet files into an Arrow table.
+def read_table(path, columns=None, encoding="utf-8", delimiter=",", sheet=None) -> pa.Table:
+    """Read a data file (any kind :func:`scorecard.data.formats.data_format` knows) into Arrow.
 
     Files are only ever opened for reading. A CSV whose text does not decode, or whose rows do
     not all have the header's number of fields, raises InputError naming the row.
@@ -41,33 +41,42 @@ def read_table(path, columns=None, encoding="utf-8", delimiter=",") -> pa.Table:
     path = Path(path)
     if not path.exists():
         raise InputError(f"{path}: data file not found")
-    suffix = "" if path.is_dir() else path.suffix.lower()
+    kind = data_format(path)
     try:
         if path.is_dir():
             table = pads.dataset(path, format="parquet").to_table(columns=columns)
             if not table.column_names:
                 raise InputError(f"{path}: the folder holds no Parquet files")
             return table
-        if suffix in PARQUET_SUFFIXES:
+        if kind == "parquet":
             return pq.read_table(path, columns=columns)
-        if suffix in CSV_SUFFIXES:
+        if kind in ("csv", "zip"):
             return _read_csv(path, columns, encoding, delimiter)
+        if kind == "statistical":
+            return read_statistical(path, columns, encoding)
+        if kind == "spreadsheet":
+            return read_spreadsheet(path, columns, sheet)
     except pa.ArrowInvalid as exc:
-        if suffix in CSV_SUFFIXES and "CSV parse error" in str(exc):
+        if kind in ("csv", "zip") and "CSV parse error" in str(exc):
             raise InputError(_parse_error(path, encoding, delimiter, exc)) from None
-        raise InputError(f"{path}: cannot read the data: {_first_line(exc)}") from None
+        raise InputError(f"{path}: cannot read the data: {first_line(exc)}") from None
     except (pa.ArrowKeyError, OSError) as exc:
-        raise InputError(f"{path}: cannot read the data: {_first_line(exc)}") from None
+        raise InputError(f"{path}: cannot read the data: {first_line(exc)}") from None
     except UnicodeDecodeError as exc:
         raise InputError(f"{path}: the text is not valid {encoding} ({exc.reason}); "
                          f"{_ENCODING_HINT}") from None
-    raise InputError(f"{path}: unknown data format {path.suffix!r} "
-                     "(expected .csv, .parquet or a folder of Parquet files)")
+    raise InputError(f"{path}: unknown data format {path.suffix!r} (expected {KNOWN})")
+
+
+def csv_source(path: Path):
+    """What pyarrow's CSV reader reads for ``path``: the path itself (it undoes gzip, bzip2 and
+    zstandard by the suffix), or a stream of the one CSV inside a zip archive."""
+    return open_zip_member(path) if data_format(path) == "zip" else str(path)
 
 
 def _csv_options(path: Path, encoding: str, delimiter: str, threads: bool = True):
     read = pacsv.ReadOptions(encoding=encoding, block_size=1 << 24, use_threads=threads)
-    parse = pacsv.ParseOptions(delimiter="\t" if path.suffix.lower() == ".tsv" else delimiter)
+    parse = pacsv.ParseOptions(delimiter="\t" if is_tab_separated(path) else delimiter)
     return read, parse
 
 
@@ -83,7 +92,8 @@ def _read_csv(path: Path, columns, encoding: str, delimiter: str) -> pa.Table:
     read, parse = _csv_options(path, encoding, delimiter)
     convert = pacsv.ConvertOptions(strings_can_be_null=True, auto_dict_encode=True,
                                    auto_dict_max_cardinality=1 << 16, include_columns=columns)
-    table = pacsv.read_csv(path, read_options=read, parse_options=parse, convert_options=convert)
+    table = pacsv.read_csv(csv_source(path), read_options=read, parse_options=parse,
+                           convert_options=convert)
     _check_text(path, table, encoding)
     _check_delimiter(path, table, parse.delimiter)
     return table
@@ -91,8 +101,10 @@ def _read_csv(path: Path, columns, encoding: str, delimiter: str) -> pa.Table:
 
 def _refuse_nul_bytes(path: Path) -> None:
     # UTF-8 text never holds NUL bytes; UTF-16 text and spreadsheet files do, and would otherwise
-    # surface as a confusing count of fields.
-    with open(path, "rb") as file:
+    # surface as a confusing count of fields. Compressed text is looked at decompressed.
+    source = csv_source(path)
+    with (pa.input_stream(source, compression="detect") if isinstance(source, str)
+          else source) as file:
         head = file.read(1 << 16)
     if b"\x00" in head:
         raise InputError(f"{path}: the file holds NUL bytes, so it is not UTF-8 text: if it is "
@@ -110,7 +122,7 @@ def _parse_error(path: Path, encoding: str, delimiter: str, exc: Exception) -> s
     read, parse = _csv_options(path, encoding, delimiter, threads=False)
     parse.invalid_row_handler = note
     try:
-        pacsv.read_csv(path, read_options=read, parse_options=parse)
+        pacsv.read_csv(csv_source(path), read_options=read, parse_options=parse)
     except pa.ArrowInvalid:
         pass
     if found and found[0].number is not None:
@@ -118,7 +130,7 @@ def _parse_error(path: Path, encoding: str, delimiter: str, exc: Exception) -> s
         bad = found[0]
         return (f"{path}: row {bad.number - 1}: expected {bad.expected_columns} fields as in the "
                 f"header, found {bad.actual_columns}")
-    return f"{path}: cannot read the data: {_first_line(exc)}"
+    return f"{path}: cannot read the data: {first_line(exc)}"
 
 
 _ENCODING_HINT = "give the file's encoding as data.encoding (for example latin-1 or cp1252)"
@@ -183,23 +195,24 @@ def _check_delimiter(path: Path, table: pa.Table, delimiter: str) -> None:
                          f"seem to be separated by {other!r}: give that as data.delimiter")
 
 
-def _first_line(exc: Exception) -> str:
-    return (str(exc).strip().splitlines() or [exc.__class__.__name__])[0]
 
-
-def read_frame(path, columns=None, encoding="utf-8", delimiter=",") -> pd.DataFrame:
+def read_frame(path, columns=None, encoding="utf-8", delimiter=",", sheet=None) -> pd.DataFrame:
     """Read a data file into pandas; text columns come back as categoricals.
 
     Parameters
     ----------
     path : path
-        A CSV file (.csv, .txt, .tsv), a Parquet file (.parquet, .pq) or a folder of Parquet files.
+        A CSV file (.csv, .txt, .tsv; also compressed .gz, .bz2, .zst, or alone in a .zip), a
+        Parquet file (.parquet, .pq) or a folder of Parquet files, a statistical-package dataset
+        (.sas7bdat, .xpt) or an .xlsx workbook.
     columns : list of str, optional
         Read only these columns.
     encoding : str, default "utf-8"
         Text encoding of a CSV file.
     delimiter : str, default ","
         Field separator of a CSV file (a .tsv file is always tab-separated).
+    sheet : str or int, optional
+        The sheet of an .xlsx workbook, by name or position (default: the first).
 
     Returns
     -------
@@ -222,7 +235,7 @@ def read_frame(path, columns=None, encoding="utf-8", delimiter=",") -> pd.DataFr
     >>> frame["age"].tolist(), column_kind(frame["outcome"])
     ([31, 45], 'categorical')
     """
-    table = read_table(path, columns, encoding, delimiter)
+    table = read_table(path, columns, encoding, delimiter, sheet)
     names = table.column_names
     if len(set(names)) != len(names):
         dup = next(n for n in names if names.count(n) > 1)

@@ -18,7 +18,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from scorecard.data.read import PARQUET_SUFFIXES
+from scorecard.data.formats import PARQUET_SUFFIXES
 from scorecard.engines.base import PassProgress, pass_label, slice_rows
 from scorecard.engines.passes import RowFacts
 from scorecard.errors import InputError

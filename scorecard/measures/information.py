@@ -1,19 +1,5 @@
-"""Measures over count arrays: odds, entropy, weight of evidence, association, ranking and drift.
-
-Every function here works on arrays of (possibly weighted, float) counts, never on rows, so a
-caller first aggregates its data (for example with ``np.bincount``) and then asks for a measure.
-All logarithms are natural (nats); bits are nats divided by ``ln 2``.
-
-Conventions
------------
-* A *good* is the non-event, a *bad* the event. The model predicts the log-odds of GOOD.
-* Weight of evidence of bin ``i`` is ``ln((g_i / G) / (b_i / B))``: positive means lower risk.
-* Information value is ``sum((g_i / G - b_i / B) * WoE_i)``, which is never negative.
-* Higher scores mean lower risk, so score histograms are given in ascending score order.
-
-Invalid arrays (wrong shape, unequal lengths, non-finite or negative entries, zero totals)
-raise :class:`ValueError` naming the argument and the first entry at fault.
-"""
+"""Information measures on counts: log-odds, entropy, weight of evidence, information value,
+mutual information and Cramér's V (see the package docstring for the conventions)."""
 
 from __future__ import annotations
 

@@ -16,6 +16,7 @@ and one small integer per row.
 from __future__ import annotations
 
 import contextlib
+import itertools
 from pathlib import Path
 from typing import Iterator, NamedTuple
 
@@ -28,8 +29,10 @@ import pyarrow.parquet as pq
 
 from scorecard.card.scorecard import MISSING, OUT_OF_RANGE, UNSEEN, Scorecard, load_scorecard
 from scorecard.card.scoring import UnusualValues, apply_scorecard, bad_probability, reason_codes
-from scorecard.data.read import CSV_SUFFIXES, PARQUET_SUFFIXES
-from scorecard.errors import InputError
+from scorecard.data.formats import (PARQUET_SUFFIXES, data_format, is_tab_separated,
+                                    read_spreadsheet, statistical_batches)
+from scorecard.data.read import csv_source
+from scorecard.errors import InputError, first_line
 from scorecard.outputs.atomic import atomic_path
 
 CHUNK_ROWS = 1 << 18
@@ -243,7 +246,7 @@ def _open_source(card, path: Path, keep, encoding, delimiter, chunk_rows, block_
             schema, batches = _batches(card, path, keep, encoding, delimiter, chunk_rows,
                                        block_bytes, stack)
         except (pa.ArrowInvalid, pa.ArrowKeyError, OSError, UnicodeDecodeError) as exc:
-            raise InputError(f"{path}: cannot read the data: {_first_line(exc)}") from None
+            raise InputError(f"{path}: cannot read the data: {first_line(exc)}") from None
         yield schema, _guarded(path, batches, chunk_rows)
 
 
@@ -255,17 +258,28 @@ def _batches(card, path: Path, keep, encoding, delimiter, chunk_rows, block_byte
         dataset = pads.dataset(path, format=form)
         columns = _needed(card, path, dataset.schema.names, keep)
         return dataset.schema, dataset.to_batches(columns=columns, batch_size=chunk_rows)
-    suffix = path.suffix.lower()
-    if suffix in PARQUET_SUFFIXES:
+    kind = data_format(path)
+    if kind == "parquet":
         columns = _needed(card, path, pq.read_schema(path).names, keep)
         file = stack.enter_context(pq.ParquetFile(path, read_dictionary=levels))
         return file.schema_arrow, file.iter_batches(batch_size=chunk_rows, columns=columns)
-    if suffix in CSV_SUFFIXES:
+    if kind in ("csv", "zip"):
         reader = _csv_reader(card, path, keep, encoding, delimiter, block_bytes)
         stack.callback(reader.close)
         return reader.schema, reader
-    raise InputError(f"{path}: unknown data format {path.suffix!r} "
-                     "(expected .csv, .parquet or a folder of Parquet files)")
+    if kind == "statistical":
+        batches = statistical_batches(path, encoding, chunk_rows)
+        first = next(batches, None)
+        if first is None:
+            raise InputError(f"{path}: the dataset holds no rows")
+        columns = _needed(card, path, first.schema.names, keep)
+        rest = (b.select(columns) for b in batches)
+        return first.select(columns).schema, itertools.chain([first.select(columns)], rest)
+    table = read_spreadsheet(path, None)
+    columns = _needed(card, path, table.column_names, keep)
+    table = table.select(columns)
+    return table.schema, table.to_batches(max_chunksize=chunk_rows)
+
 
 
 def _guarded(path: Path, batches, chunk_rows: int) -> Iterator[pa.RecordBatch]:
@@ -275,7 +289,7 @@ def _guarded(path: Path, batches, chunk_rows: int) -> Iterator[pa.RecordBatch]:
             for start in range(0, batch.num_rows, chunk_rows):
                 yield batch.slice(start, chunk_rows)
     except (pa.ArrowInvalid, OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"{path}: cannot read the data: {_first_line(exc)}") from None
+        raise InputError(f"{path}: cannot read the data: {first_line(exc)}") from None
 
 
 def _needed(card, path: Path, names, keep) -> list[str]:
@@ -297,8 +311,8 @@ def _needed(card, path: Path, names, keep) -> list[str]:
 def _csv_reader(card, path: Path, keep, encoding, delimiter, block_bytes):
     if path.stat().st_size == 0:
         raise InputError(f"{path}: the file is empty")
-    parse = pacsv.ParseOptions(delimiter="\t" if path.suffix.lower() == ".tsv" else delimiter)
-    header = pacsv.open_csv(path, read_options=pacsv.ReadOptions(encoding=encoding,
+    parse = pacsv.ParseOptions(delimiter="\t" if is_tab_separated(path) else delimiter)
+    header = pacsv.open_csv(csv_source(path), read_options=pacsv.ReadOptions(encoding=encoding,
                                                                  block_size=1 << 20),
                             parse_options=parse)
     names = header.schema.names
@@ -309,7 +323,7 @@ def _csv_reader(card, path: Path, keep, encoding, delimiter, block_bytes):
     types = {c.name: pa.float64() if c.kind == "numeric" else _TEXT for c in card.characteristics}
     convert = pacsv.ConvertOptions(strings_can_be_null=True, column_types=types,
                                    include_columns=columns)
-    return pacsv.open_csv(path, read_options=pacsv.ReadOptions(encoding=encoding,
+    return pacsv.open_csv(csv_source(path), read_options=pacsv.ReadOptions(encoding=encoding,
                                                                block_size=block_bytes),
                           parse_options=parse, convert_options=convert)
 
@@ -328,6 +342,3 @@ def _open_writer(tmp: Path, out: Path, schema: pa.Schema):
     finally:
         writer.close()
 
-
-def _first_line(exc: Exception) -> str:
-    return (str(exc).strip().splitlines() or [exc.__class__.__name__])[0]
