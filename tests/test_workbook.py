@@ -25,6 +25,8 @@ from openpyxl import Workbook, load_workbook
 from python_calamine import CalamineWorkbook
 
 import scorecard.api
+from scorecard.build import frames
+from scorecard.card import frames as card_frames
 from scorecard.card.scorecard import (
     LEVELS,
     MISSING,
@@ -38,7 +40,7 @@ from scorecard.card.scoring import apply_scorecard
 from scorecard.demo.files import write_demo
 from scorecard.evaluation.stability import build_stability
 from scorecard.outputs.cautions import CAUTION
-from scorecard.outputs.workbook import SHEETS, frames, write_workbook
+from scorecard.outputs.workbook import SHEETS, write_workbook
 from scorecard.outputs.workbook.calculator import defined_name
 from scorecard.outputs.workbook.manifest import source_sha256
 from scorecard.outputs.workbook.overview import DATA_HASH_LABEL, RUN_TIME_LABEL
@@ -49,9 +51,9 @@ FIRST_HEADERS = {
     "Characteristics": ["Characteristic", "Kind", "Status", "Stage", "Reason", "Fine classes",
                         "Trend", "Information value", "Strength", "Mutual information (nats)",
                         "Mutual information (bits)"],
-    "Bins": frames.BIN_COLUMNS,
+    "Bins": card_frames.BIN_COLUMNS,
     "Model": ["Name", "Coefficient", "Standard error", "z", "p-value", "VIF"],
-    "Points": frames.POINT_COLUMNS,
+    "Points": card_frames.POINT_COLUMNS,
     "Score bands": ["Band", "Lowest score", "Highest score", "Rows", "Goods", "Bads"],
     "Stability": ["Baseline", "Current", "Measure", "Stability index", "Status"],
     "Calculator": ["Characteristic", "Attribute (choose from the list)", "Points", "Check"],
@@ -214,7 +216,7 @@ def test_score_to_odds_table_follows_the_published_scaling():
     bins = (Bin("< 1", RANGE, 1, 1, 0.0, 280, upper=1.0), Bin(">= 1", RANGE, 1, 1, 0.0, 640, lower=1.0))
     card = Scorecard("s", scaling(600, 50, 20), 0.0,
                      (Characteristic("x", "numeric", bins, 1.0, "R01", "x", cuts=(1.0,)),))
-    table = frames.odds_frame(card).set_index("Score")
+    table = card_frames.odds_frame(card).set_index("Score")
     assert table.loc[620, "Good:bad odds"] == pytest.approx(100)
     assert table.loc[580, "Good:bad odds"] == pytest.approx(25)
     assert table.loc[600, "Bad probability"] == pytest.approx(1 / 51)
@@ -421,7 +423,7 @@ def test_libreoffice_recalculates_the_calculator_to_the_products_scores(demo, ti
     # A real spreadsheet program is the reference: LibreOffice evaluates every formula.
     result, path, _ = demo
     card = result.card
-    labels = [frames.attribute_labels(c) for c in card.characteristics]
+    labels = [card_frames.attribute_labels(c) for c in card.characteristics]
     default = {c.name: max(range(len(c.bins)), key=lambda i: (c.bins[i].count, -i))
                for c in card.characteristics}
     worst = {c.name: min(range(len(c.bins)), key=lambda i: (c.bins[i].points, i))
@@ -437,7 +439,7 @@ def test_libreoffice_recalculates_the_calculator_to_the_products_scores(demo, ti
     odd = {c.name: next((i for i, b in enumerate(c.bins) if b.label[:1] in "=+@"), 0)
            for c in tiny.card.characteristics}
     odd_file = _choose(tiny.outputs["workbook"], tmp_path / "odd.xlsx",
-                       [frames.attribute_labels(c)[odd[c.name]] for c in tiny.card.characteristics])
+                       [card_frames.attribute_labels(c)[odd[c.name]] for c in tiny.card.characteristics])
     done = _recalculate([original, worst_file, wrong_file, odd_file], tmp_path)
 
     _check_calculator(done[0], card, default)
@@ -588,7 +590,7 @@ def test_attribute_labels_are_unique_within_a_characteristic():
     from scorecard.card.scorecard import Bin, Characteristic
     bins = (Bin("missing", LEVELS, 1, 1, 0, 1, levels=("missing",)),
             Bin("missing", MISSING, 1, 1, 0, 2), Bin("a", LEVELS, 1, 1, 0, 3, levels=("a",)))
-    labels = frames.attribute_labels(Characteristic("x", "categorical", bins, 1.0, "R01", "x"))
+    labels = card_frames.attribute_labels(Characteristic("x", "categorical", bins, 1.0, "R01", "x"))
     assert len(set(labels)) == 3 and labels[2] == "a"
 
 

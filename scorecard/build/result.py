@@ -56,3 +56,31 @@ class BuildResult:
     patterns: object = None
     fairness: object = None         # scorecard.evaluation.fairness.FairnessReport, or None without protected columns
     outputs: dict = field(default_factory=dict)
+
+    def tables(self) -> dict:
+        """Every table the workbook shows, as DataFrames keyed by the sheet's name for them.
+
+        For a notebook: ``result.tables()["Bins"]`` is the Bins sheet, without a spreadsheet.
+        """
+        from scorecard.build import frames
+        from scorecard.card import frames as card_frames
+        return {
+            "Samples": frames.samples_frame(self.samples),
+            "Discrimination": frames.discrimination_frame(self.performance),
+            "Characteristics": frames.characteristics_frame(self.reports),
+            "Bins": frames.bins_frame(self.reports),
+            "Model": frames.coefficients_frame(self.selection),
+            "Steps": frames.steps_frame(self.selection),
+            "Points": card_frames.points_frame(self.card),
+            "Score bands": self.gains,
+            "Score to odds": card_frames.odds_frame(self.card),
+        }
+
+    def _repr_html_(self) -> str:
+        tables = self.tables()
+        parts = [self.card._repr_html_().split("</p>", 1)[0] + "</p>"]
+        for name in ("Discrimination", "Characteristics", "Points"):
+            parts.append(f"<h4>{name}</h4>")
+            parts.append(tables[name].to_html(index=False, na_rep="",
+                                              float_format="{:.4f}".format))
+        return "\n".join(parts)

@@ -75,6 +75,16 @@ class Characteristic:
         """Index of the first bin of ``kind`` (missing, unseen, out of range), or None."""
         return next((i for i, b in enumerate(self.bins) if b.kind == kind), None)
 
+    def frame(self):
+        """The bins as a DataFrame: counts, bad rate, weight of evidence, IV part, points."""
+        from scorecard.card.frames import bins_frame
+        return bins_frame(self)
+
+    def _repr_html_(self) -> str:
+        head = (f"<p><b>{_html(self.name)}</b> ({self.kind}): information value "
+                f"{self.information_value:.4f}, coefficient {self.coefficient:.4f}</p>")
+        return head + self.frame().to_html(index=False, na_rep="", float_format="{:.4f}".format)
+
 
 @dataclass(frozen=True)
 class Scorecard:
@@ -103,6 +113,18 @@ class Scorecard:
     def names(self) -> tuple[str, ...]:
         return tuple(c.name for c in self.characteristics)
 
+    def frame(self):
+        """The points table as a DataFrame: one row per attribute of every characteristic."""
+        from scorecard.card.frames import points_frame
+        return points_frame(self)
+
+    def _repr_html_(self) -> str:
+        s = self.scaling
+        head = (f"<p><b>{_html(self.name)}</b>: {len(self.characteristics)} characteristics, "
+                f"scores {self.min_score} to {self.max_score}; {s.base_score:g} points at odds "
+                f"{s.base_odds:g}:1, {s.pdo:g} points to double the odds</p>")
+        return head + self.frame().to_html(index=False, na_rep="", float_format="{:.4f}".format)
+
     @property
     def min_score(self) -> int:
         return sum(min(b.points for b in c.bins) for c in self.characteristics)
@@ -128,6 +150,11 @@ class Scorecard:
         except json.JSONDecodeError as exc:
             raise InputError(f"{source}: not a model file: invalid JSON at line {exc.lineno}") from None
         return _scorecard_from_dict(raw, source)
+
+
+def _html(text: str) -> str:
+    import html
+    return html.escape(str(text))
 
 
 def load_scorecard(path) -> Scorecard:

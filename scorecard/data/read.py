@@ -19,8 +19,14 @@ import pyarrow.csv as pacsv
 import pyarrow.dataset as pads
 import pyarrow.parquet as pq
 
-from scorecard.data.formats import (KNOWN, data_format, is_tab_separated, open_zip_member,
-                                    read_spreadsheet, read_statistical)
+from scorecard.data.formats import (
+    KNOWN,
+    data_format,
+    is_tab_separated,
+    open_zip_member,
+    read_spreadsheet,
+    read_statistical,
+)
 from scorecard.errors import InputError, first_line
 
 

@@ -29,8 +29,13 @@ import pyarrow.parquet as pq
 
 from scorecard.card.scorecard import MISSING, OUT_OF_RANGE, UNSEEN, Scorecard, load_scorecard
 from scorecard.card.scoring import UnusualValues, apply_scorecard, bad_probability, reason_codes
-from scorecard.data.formats import (PARQUET_SUFFIXES, data_format, is_tab_separated,
-                                    read_spreadsheet, statistical_batches)
+from scorecard.data.formats import (
+    PARQUET_SUFFIXES,
+    data_format,
+    is_tab_separated,
+    read_spreadsheet,
+    statistical_batches,
+)
 from scorecard.data.read import csv_source
 from scorecard.errors import InputError, first_line
 from scorecard.outputs.atomic import atomic_path

@@ -15,7 +15,8 @@ from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.datavalidation import DataValidation
 from openpyxl.worksheet.worksheet import Worksheet
 
-from scorecard.outputs.workbook import frames, style
+from scorecard.card import frames as card_frames
+from scorecard.outputs.workbook import style
 from scorecard.outputs.workbook.tables import MAX_WIDTH, safe_value, set_print_layout
 
 POINTS_SHEET = "Points"
@@ -74,7 +75,7 @@ def write_calculator(ws: Worksheet, card, points_header: int) -> None:
         first = last + 1
     labels = _totals(ws, len(card.characteristics) + 1, card.scaling)
     names = [c.name for c in card.characteristics]
-    choices = [label for c in card.characteristics for label in frames.attribute_labels(c)]
+    choices = [label for c in card.characteristics for label in card_frames.attribute_labels(c)]
     ws.column_dimensions["A"].width = min(MAX_WIDTH, max(map(len, names + labels)) + 2)
     # Room for the drop-down arrow beside the longest attribute.
     ws.column_dimensions["B"].width = min(MAX_WIDTH, max(map(len, choices + [HEADERS[1]])) + 4)
@@ -85,7 +86,7 @@ def write_calculator(ws: Worksheet, card, points_header: int) -> None:
 
 
 def _characteristic_row(ws, row, char, attributes, points, offset) -> None:
-    labels = frames.attribute_labels(char)
+    labels = card_frames.attribute_labels(char)
     ws.cell(row, 1, safe_value(char.name)).alignment = style.TEXT
     choice = ws.cell(row, 2, safe_value(labels[default_attribute(char)]))
     choice.fill, choice.alignment = style.INPUT_FILL, style.TEXT

@@ -11,8 +11,10 @@ import math
 from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.worksheet import Worksheet
 
+from scorecard.build import frames
+from scorecard.card import frames as card_frames
 from scorecard.outputs.cautions import CAUTION
-from scorecard.outputs.workbook import frames, style
+from scorecard.outputs.workbook import style
 from scorecard.outputs.workbook.manifest import Manifest
 from scorecard.outputs.workbook.tables import safe_value, set_print_layout, write_table
 
@@ -101,7 +103,7 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
                {"AUC": style.MEASURE, "Gini": style.MEASURE, "KS": style.MEASURE})
 
     page.heading(f"Characteristics in the model ({len(card.characteristics)})")
-    page.table(frames.model_frame(card), {"Information value": style.WOE, "Coefficient": style.WOE,
+    page.table(card_frames.model_frame(card), {"Information value": style.WOE, "Coefficient": style.WOE,
                                     "Lowest points": style.INTEGER, "Highest points": style.INTEGER})
 
     page.heading("Run manifest")

@@ -12,7 +12,9 @@ from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.pagebreak import Break
 from openpyxl.worksheet.worksheet import Worksheet
 
-from scorecard.outputs.workbook import charts, frames, style
+from scorecard.build import frames
+from scorecard.card import frames as card_frames
+from scorecard.outputs.workbook import charts, style
 from scorecard.outputs.workbook.tables import finish_table_sheet, safe_value, write_table
 
 BIN_FORMATS = {"Rows": style.COUNT, "Goods": style.COUNT, "Bads": style.COUNT,
@@ -149,7 +151,7 @@ def write_model(ws: Worksheet, result) -> None:
 def write_points(ws: Worksheet, result) -> tuple[int, int]:
     """The points table; returns its (header_row, last_row) for the calculator's lookups."""
     card = result.card
-    frame = frames.points_frame(card)
+    frame = card_frames.points_frame(card)
     header, last = write_table(ws, frame, formats={"Points": style.INTEGER,
                                                    "Weight of evidence": style.SIGNED_WOE,
                                                    "Coefficient": style.WOE})
@@ -184,7 +186,7 @@ def write_score_bands(ws: Worksheet, result) -> None:
     grid = charts.chart_grid(charts.table_width_cm(ws, len(gains.columns)))
     chart_row = row + 1
     table_row = chart_row + grid.rows_per_chart + 1
-    odds = frames.odds_frame(result.card)
+    odds = card_frames.odds_frame(result.card)
     write_table(ws, odds, start_row=table_row, title="Score, odds and bad probability",
                 formats={"Score": style.INTEGER, "Good:bad odds": "[<10]0.000;#,##0.0",
                          "Bad probability": "0.00%"})
