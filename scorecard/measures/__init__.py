@@ -31,7 +31,7 @@ from scorecard.measures.information import (
                                             outcome_mutual_information,
                                             weight_of_evidence,
 )
-from scorecard.measures.ranking import Discrimination, discrimination
+from scorecard.measures.ranking import Discrimination, PairedAUC, discrimination, paired_auc
 from scorecard.measures.stability import (
                                             StabilityIndex,
                                             stability_critical_value,
@@ -44,6 +44,7 @@ __all__ = [
     "HosmerLemeshow",
     "InformationValue",
     "MutualInformation",
+    "PairedAUC",
     "StabilityIndex",
     "cramers_v",
     "discrimination",
@@ -55,6 +56,7 @@ __all__ = [
     "logit",
     "mutual_information",
     "outcome_mutual_information",
+    "paired_auc",
     "stability_critical_value",
     "stability_index",
     "stability_status",
