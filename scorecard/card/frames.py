@@ -8,12 +8,15 @@ from a model file alone, and the workbook writes the same tables.
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
 
 from scorecard.card.points import bad_probability_of_score, odds_of_score
-from scorecard.card.scorecard import Characteristic, Scorecard
+
+if TYPE_CHECKING:   # the scorecard's methods import this module: no import back at run time
+    from scorecard.card.scorecard import Characteristic, Scorecard
 
 # Steps between the scores of the distribution table and of the score-to-odds table: the
 # smallest of these that keeps the table within the given number of rows. Odds are read at
@@ -36,7 +39,7 @@ def attribute_labels(char: Characteristic) -> list[str]:
 
     Examples
     --------
-    >>> from scorecard.card.scorecard import Bin, LEVELS, MISSING
+    >>> from scorecard.card.scorecard import Bin, Characteristic, LEVELS, MISSING
     >>> bins = (Bin("missing", LEVELS, 1, 1, 0.0, 1, levels=("missing",)),
     ...         Bin("missing", MISSING, 1, 1, 0.0, 2))
     >>> attribute_labels(Characteristic("x", "categorical", bins, 1.0, "R01", "x"))
@@ -105,7 +108,7 @@ def bins_frame(char: Characteristic, with_points: bool = True) -> pd.DataFrame:
 
     Examples
     --------
-    >>> from scorecard.card.scorecard import Bin, RANGE
+    >>> from scorecard.card.scorecard import Bin, Characteristic, RANGE
     >>> bins = (Bin("< 1", RANGE, 60, 40, -0.4, 10, upper=1.0),
     ...         Bin(">= 1", RANGE, 90, 10, 1.0, 30, lower=1.0))
     >>> frame = bins_frame(Characteristic("x", "numeric", bins, 1.0, "R01", "x is low"))
