@@ -39,10 +39,24 @@ def _module_name(path: Path) -> str:
     return ".".join(parts[:-1] if parts[-1] == "__init__" else parts)
 
 
+def _run_time_nodes(tree: ast.AST):
+    """Every node but those under ``if TYPE_CHECKING:``, which run only for type checkers."""
+    stack = [tree]
+    while stack:
+        node = stack.pop()
+        yield node
+        for child in ast.iter_child_nodes(node):
+            if isinstance(child, ast.If) and isinstance(child.test, ast.Name) \
+                    and child.test.id == "TYPE_CHECKING":
+                stack.extend(child.orelse)
+                continue
+            stack.append(child)
+
+
 def _imports(path: Path) -> list[tuple[str, int]]:
     """Every module of the package that ``path`` imports, with the line, wherever it stands."""
     found = []
-    for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+    for node in _run_time_nodes(ast.parse(path.read_text(encoding="utf-8"))):
         if isinstance(node, ast.ImportFrom) and node.module and node.level == 0:
             if node.module == "scorecard" or node.module.startswith("scorecard."):
                 found.append((node.module, node.lineno))
