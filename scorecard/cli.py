@@ -54,9 +54,9 @@ def main():
 
 @main.command()
 @click.argument("config", type=click.Path(path_type=Path))
-@click.option("--workbook", type=click.Path(dir_okay=False, path_type=Path),
+@click.option("--workbook", type=click.Path(path_type=Path),
               help="Write the workbook here instead of output.workbook.")
-@click.option("--model", type=click.Path(dir_okay=False, path_type=Path),
+@click.option("--model", type=click.Path(path_type=Path),
               help="Write the model file here instead of output.model.")
 @click.option("--quiet", is_flag=True, help="Print nothing but errors.")
 def build(config, workbook, model, quiet):
@@ -95,7 +95,7 @@ def demo(directory, rows, seed, quiet):
 @main.command()
 @click.argument("data", type=click.Path(path_type=Path))
 @click.option("--target", required=True, help="The outcome column.")
-@click.option("--out", type=click.Path(dir_okay=False, path_type=Path),
+@click.option("--out", type=click.Path(path_type=Path),
               help="Write the config here (default: print it).")
 def init(data, target, out):
     """Write a starter config for DATA with every column classified."""
@@ -110,7 +110,7 @@ def init(data, target, out):
 @main.command()
 @click.argument("model", type=click.Path(dir_okay=False, path_type=Path))
 @click.argument("data", type=click.Path(path_type=Path))
-@click.option("--out", required=True, type=click.Path(dir_okay=False, path_type=Path),
+@click.option("--out", required=True, type=click.Path(path_type=Path),
               help="Scored file (.csv or .parquet).")
 @click.option("--keep", multiple=True, help="Input column to copy to the output (repeatable).")
 @click.option("--reasons", type=click.IntRange(min=0), default=None,
@@ -127,9 +127,9 @@ def score(model, data, out, keep, reasons, reason_text):
 @click.argument("model", type=click.Path(dir_okay=False, path_type=Path))
 @click.argument("baseline", type=click.Path(path_type=Path))
 @click.argument("current", type=click.Path(path_type=Path))
-@click.option("--workbook", type=click.Path(dir_okay=False, path_type=Path),
+@click.option("--workbook", type=click.Path(path_type=Path),
               help="Write the validator's workbook (.xlsx) here.")
-@click.option("--json", "json_path", type=click.Path(dir_okay=False, path_type=Path),
+@click.option("--json", "json_path", type=click.Path(path_type=Path),
               help="Write the indices as JSON here.")
 @click.option("--fail-on", type=click.Choice(["watch", "shift"]),
               help="Exit with status 1 when any index reaches this status.")
@@ -149,7 +149,7 @@ def compare(model, baseline, current, workbook, json_path, fail_on, bands):
 @click.argument("model", type=click.Path(dir_okay=False, path_type=Path))
 @click.option("--format", "form", required=True, type=click.Choice(["pmml", "sql"]),
               help="pmml: a PMML 4.4 Scorecard document; sql: one standard SQL query.")
-@click.option("--out", required=True, type=click.Path(dir_okay=False, path_type=Path),
+@click.option("--out", required=True, type=click.Path(path_type=Path),
               help="File to write.")
 @click.option("--table", default="applications", show_default=True,
               help="sql: the table of applications to score.")
