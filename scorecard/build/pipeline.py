@@ -28,6 +28,7 @@ from scorecard.card.scorecard import (
     Characteristic,
     Scorecard,
 )
+from scorecard.config.loading import SCALE_LIMIT
 from scorecard.data.outcome import BAD, GOOD, code_outcome
 from scorecard.data.read import column_kind
 from scorecard.data.samples import DEVELOPMENT, EXCLUDED, SAMPLE_NAMES, assign_samples, parse_dates
@@ -240,6 +241,9 @@ def _scale(config, selection, chosen: list) -> Scorecard:
         beta = float(coef[char.name])
         char = _unseen_rules(char, config.scoring, beta)
         pts = attribute_points([b.woe for b in char.bins], beta, intercept, k, scale)
+        if not np.all(np.abs(pts.exact) < SCALE_LIMIT):
+            raise InputError(f"scaling: the points of {char.name} reach beyond "
+                             f"±{SCALE_LIMIT:,.0f}; lower scaling.pdo or scaling.base_score")
         override = config.characteristics.get(char.name)
         code = (override.reason_code if override is not None and override.reason_code else f"R{i:02d}")
         text = override.reason if override is not None and override.reason else _default_reason(char.name)
