@@ -8,11 +8,12 @@ from __future__ import annotations
 import os
 import signal
 import sys
+import warnings
 from pathlib import Path
 
 import click
 
-from scorecard.errors import InputError
+from scorecard.errors import InputError, ResultWarning
 from scorecard.progress import StageLog
 
 
@@ -24,13 +25,24 @@ def _raise_terminated(signum, frame):
     raise _Terminated()
 
 
+def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
+    """A warning as one plain line on stderr; under ``--quiet`` only one that changes the result."""
+    ctx = click.get_current_context(silent=True)
+    if ctx is not None and ctx.params.get("quiet") and not issubclass(category, ResultWarning):
+        return
+    click.echo(f"warning: {message}", err=True)
+
+
 class _Group(click.Group):
     """Turns bad input and usage mistakes into one ``error: ...`` line with exit status 2."""
 
     def invoke(self, ctx):
         previous = signal.signal(signal.SIGTERM, _raise_terminated)
         try:
-            return super().invoke(ctx)
+            with warnings.catch_warnings():
+                warnings.simplefilter("default")
+                warnings.showwarning = _show_warning
+                return super().invoke(ctx)
         except InputError as exc:
             click.echo(f"error: {exc}", err=True)
             ctx.exit(2)
@@ -73,6 +85,8 @@ def _print_summary(result) -> None:
                f"scores {card.min_score} to {card.max_score}")
     for name, perf in result.performance.items():
         click.echo(f"  {name:12s} AUC {perf.auc:.4f}  Gini {perf.gini:.4f}  KS {perf.ks:.4f}")
+    for name, why in result.unmeasured.items():
+        click.echo(f"  {name:12s} not available: {why}")
     for kind, path in result.outputs.items():
         click.echo(f"  {kind}: {path}")
 

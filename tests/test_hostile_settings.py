@@ -66,7 +66,6 @@ def test_warnings_that_do_not_change_the_result_are_silenced_by_quiet(case):
     assert ran.stderr == "", ran.stderr
 
 
-@FAILS_TODAY
 def test_a_config_warning_is_one_plain_line(case):
     edit_config(case, "holdout: 0.3", "holdout: null")
     edit_config(case, "out_of_time: {column: decided_on, from: 2025-07-01}", "out_of_time: null")

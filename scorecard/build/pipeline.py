@@ -9,6 +9,7 @@ rows works on count tables only.
 from __future__ import annotations
 
 import math
+import warnings
 from typing import Callable
 
 import numpy as np
@@ -31,7 +32,8 @@ from scorecard.card.scorecard import (
 from scorecard.config.loading import SCALE_LIMIT
 from scorecard.data.outcome import BAD, GOOD, code_outcome
 from scorecard.data.read import column_kind
-from scorecard.data.samples import DEVELOPMENT, EXCLUDED, SAMPLE_NAMES, assign_samples, parse_dates
+from scorecard.data.samples import (DEVELOPMENT, EXCLUDED, HOLDOUT, OUT_OF_TIME, SAMPLE_NAMES,
+                                    assign_samples, parse_dates)
 from scorecard.engines.passes import (
     RowFacts,
     bin_counts,
@@ -44,7 +46,7 @@ from scorecard.engines.passes import (
     merge_summaries,
     pattern_radix,
 )
-from scorecard.errors import InputError
+from scorecard.errors import InputError, ResultWarning
 from scorecard.evaluation.fairness import compute_fairness
 from scorecard.evaluation.histograms import band_edges, gains_table, performance, score_histogram
 from scorecard.fit.design import CodedColumns
@@ -398,8 +400,9 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
     for char in card.characteristics:
         reports[char.name].characteristic = char
     histograms = _histograms(card, patterns, [c.name for c in candidates])
-    perf = {name: performance(h) for name, h in histograms.items()}
-    gains_sample = "holdout" if "holdout" in histograms else "development"
+    unmeasured = _unmeasured(config, histograms)
+    perf = {name: performance(h) for name, h in histograms.items() if name not in unmeasured}
+    gains_sample = "holdout" if "holdout" in perf else "development"
     starts = band_edges(histograms[gains_sample], config.evaluation.score_bands)
     gains = gains_table(histograms[gains_sample], starts, card.scaling)
     ordered = [reports[n] for n in head.columns if n in reports]
@@ -408,4 +411,24 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
         _say(progress, f"fairness check on {', '.join(config.data.protected)}: "
                        f"{len(fairness.flags)} findings")
     return BuildResult(config, card, ordered, selection, facts, histograms, perf, gains,
-                       gains_sample, starts, patterns, fairness=fairness)
+                       gains_sample, starts, patterns, fairness=fairness, unmeasured=unmeasured)
+
+
+def _unmeasured(config, histograms: dict) -> dict:
+    """Why each configured sample has no AUC, Gini or KS (it lacks goods or bads), by name.
+
+    Each is also a warning that changes the result, so it shows even under ``--quiet``.
+    """
+    wanted = [SAMPLE_NAMES[HOLDOUT]] * bool(config.samples.holdout) \
+        + [SAMPLE_NAMES[OUT_OF_TIME]] * (config.samples.out_of_time is not None)
+    out = {}
+    for name in wanted:
+        hist = histograms.get(name)
+        goods, bads = (0.0, 0.0) if hist is None else (hist.goods.sum(), hist.bads.sum())
+        if goods > 0 and bads > 0:
+            continue
+        out[name] = (f"holds {goods:,.0f} goods and {bads:,.0f} bads; AUC, Gini and KS need "
+                     "both")
+        warnings.warn(f"the {name} sample {out[name]}: its measures are not available",
+                      ResultWarning)
+    return out

@@ -101,6 +101,9 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     page.heading("How well the score separates goods from bads")
     page.table(frames.discrimination_frame(result.performance),
                {"AUC": style.MEASURE, "Gini": style.MEASURE, "KS": style.MEASURE})
+    for name, why in getattr(result, "unmeasured", {}).items():
+        page.paragraph(f"Warning: the {name} sample {why}, so its measures are not available.",
+                       style.BOLD)
 
     page.heading(f"Characteristics in the model ({len(card.characteristics)})")
     page.table(card_frames.model_frame(card), {"Information value": style.WOE, "Coefficient": style.WOE,
