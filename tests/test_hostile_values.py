@@ -42,7 +42,6 @@ EXTREMES = [
 
 
 @pytest.mark.parametrize(("column", "values"), EXTREMES)
-@FAILS_TODAY
 def test_extreme_values_in_a_few_rows_keep_the_characteristic(case, demo_card, column, values):
     assert column in [c["name"] for c in demo_card["characteristics"]]
     set_cells(case, column, values)
@@ -56,7 +55,6 @@ def test_extreme_values_in_a_few_rows_keep_the_characteristic(case, demo_card, c
         assert re.search(rf"\b{row}\b", said[0]), said[0]
 
 
-@FAILS_TODAY
 def test_extreme_values_leave_the_bulk_of_the_fine_classes(case, demo_card):
     # The bins of the column keep separating the bulk: as many range bins as without the rows.
     set_cells(case, "credit_utilisation", {5: "1e308", 9: "-1e308"})
@@ -78,7 +76,6 @@ HUGE = st.one_of(
 @settings(max_examples=6, deadline=None, derandomize=True, phases=(Phase.generate,),
           suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
 @given(data=st.data())
-@FAILS_TODAY
 def test_random_extreme_values_never_remove_a_characteristic(demo_folder, demo_card, tmp_path_factory,
                                                              data):
     import shutil

@@ -120,8 +120,11 @@ def _layouts(config, kinds, summary, reports):
     layouts = {}
     for name, kind in kinds.items():
         if kind == "numeric":
-            lo, hi = summary[name]
-            layouts[name] = NumericLayout(candidate_cuts(lo, hi), _specials(config, name))
+            # The grid covers the bulk: a few values far beyond it fall in the end classes
+            # instead of flattening every other value into one class.
+            bulk = summary[name].bulk()
+            layouts[name] = NumericLayout(candidate_cuts(bulk.low, bulk.high),
+                                          _specials(config, name), (bulk.below, bulk.above))
         else:
             levels = tuple(sorted(summary[name]))
             if len(levels) > config.binning.max_levels:
@@ -344,6 +347,7 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
                             columns=list(kinds))
     layouts = _layouts(config, kinds, summary, reports)
     counts = engine.reduce(fine_counts, merge_fine, rows, layouts, columns=list(layouts))
+    extreme = _extreme_values(config, counts)
     _say(progress, f"fine classes counted for {len(layouts)} characteristics")
 
     b = config.binning
@@ -411,7 +415,27 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
         _say(progress, f"fairness check on {', '.join(config.data.protected)}: "
                        f"{len(fairness.flags)} findings")
     return BuildResult(config, card, ordered, selection, facts, histograms, perf, gains,
-                       gains_sample, starts, patterns, fairness=fairness, unmeasured=unmeasured)
+                       gains_sample, starts, patterns, fairness=fairness, unmeasured=unmeasured,
+                       extreme_values=extreme)
+
+
+def _extreme_values(config, counts: dict) -> dict:
+    """Per column holding values far beyond the rest: a line naming how many and their rows.
+
+    Each is also a warning that changes the result (the values sit in the end classes).
+    """
+    out = {}
+    for name, fc in counts.items():
+        if not fc.extremes:
+            continue
+        rows = ", ".join(str(i + 1) for i in fc.extreme_rows)
+        hidden = fc.extremes - len(fc.extreme_rows)
+        more = f" and {hidden} more" if hidden else ""
+        out[name] = (f"{fc.extremes} value{'s' * (fc.extremes > 1)} far beyond the rest "
+                     f"(row{'s' * (fc.extremes > 1)} {rows}{more}), classed with the "
+                     "nearest end of the range")
+        warnings.warn(f"{config.data.source}: column {name}: {out[name]}", ResultWarning)
+    return out
 
 
 def _unmeasured(config, histograms: dict) -> dict:

@@ -87,6 +87,8 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     page.table(frames.samples_frame(samples),
                {"Rows": style.COUNT, "Goods": style.COUNT, "Bads": style.COUNT,
                 "Bad rate": style.PERCENT})
+    for name, what in getattr(result, "extreme_values", {}).items():
+        page.paragraph(f"Warning: column {name}: {what}.", style.BOLD)
 
     page.heading("Scaling")
     s = card.scaling
