@@ -22,7 +22,8 @@ def open_engine(config, progress=None):
     """The engine named by the config, holding the development data; use it in ``with``."""
     d = config.data
     if config.engine.dask is None:
-        return LocalEngine(read_frame(d.source, encoding=d.encoding, delimiter=d.delimiter),
+        return LocalEngine(read_frame(d.source, encoding=d.encoding, delimiter=d.delimiter,
+                                      decimal=d.decimal),
                            progress=progress)
     from scorecard.engines.dask_engine import DaskEngine
     return DaskEngine(d.source, config.engine.dask, progress=progress)

@@ -31,7 +31,7 @@ from scorecard.card.scorecard import (
 )
 from scorecard.config.loading import SCALE_LIMIT
 from scorecard.data.outcome import BAD, GOOD, code_outcome
-from scorecard.data.read import column_kind
+from scorecard.data.read import column_kind, decimal_comma_column
 from scorecard.data.samples import (DEVELOPMENT, EXCLUDED, HOLDOUT, OUT_OF_TIME, SAMPLE_NAMES,
                                     assign_samples, parse_dates)
 from scorecard.engines.passes import (
@@ -72,6 +72,8 @@ def _candidate_kinds(config, head: pd.DataFrame, reports: dict) -> dict:
         kind = column_kind(head[name])
         if override is not None and override.kind is not None:
             kind = override.kind
+        elif kind == "categorical":
+            _refuse_decimal_commas(config, name, head[name])
         if override is not None and override.use is False:
             reports[name] = CharacteristicReport(name, kind, "not used", "config",
                                                  "use: false in the config")
@@ -82,6 +84,15 @@ def _candidate_kinds(config, head: pd.DataFrame, reports: dict) -> dict:
             continue
         kinds[name] = kind
     return kinds
+
+
+def _refuse_decimal_commas(config, name: str, column: pd.Series) -> None:
+    # Numbers in another notation must not silently become a categorical characteristic.
+    example = decimal_comma_column(column)
+    if example is not None:
+        raise InputError(f"{config.data.source}: column {name}: values such as {example!r} are "
+                         "numbers with a decimal comma, so they read as text; give data.decimal: "
+                         f"',' (or kind: categorical under characteristics.{name} to keep text)")
 
 
 def _outcome_facts(config, engine):

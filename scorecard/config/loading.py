@@ -128,6 +128,8 @@ class DataConfig:
         Text encoding of a CSV source.
     delimiter : str
         Field separator of a CSV source, one character.
+    decimal : str
+        Decimal mark of the numbers in a CSV source: ``.`` or ``,``.
     """
 
     source: Path
@@ -139,6 +141,7 @@ class DataConfig:
     protected: tuple[str, ...] = ()
     encoding: str = "utf-8"
     delimiter: str = ","
+    decimal: str = "."
 
 
 @dataclass(frozen=True, slots=True)
@@ -996,7 +999,7 @@ _above_zero_to_one = _number(0, 1, low_open=True)
 _DATA_SCHEMA = {
     "source": _text, "target": _text, "bad": _outcomes, "good": _outcomes,
     "weight": _optional(_text), "ignore": _columns, "protected": _columns,
-    "encoding": _encoding, "delimiter": _delimiter,
+    "encoding": _encoding, "delimiter": _delimiter, "decimal": _choice((".", ",")),
 }
 _SAMPLES_SCHEMA = {
     "holdout": _optional(_number(0, 1, low_open=True, high_open=True)),
