@@ -29,7 +29,6 @@ def plain(stderr: str) -> bool:
     return all(line.startswith(("warning:", "[")) for line in stderr.splitlines())
 
 
-@FAILS_TODAY
 def test_a_special_value_a_characteristic_never_holds_is_a_warning(case):
     add_override(case, f"bike_price: {{{sentinel_key(case)}: [-1]}}")
     ran = build(case)
@@ -39,7 +38,6 @@ def test_a_special_value_a_characteristic_never_holds_is_a_warning(case):
     assert plain(ran.stderr), ran.stderr
 
 
-@FAILS_TODAY
 def test_a_global_special_value_no_characteristic_holds_is_a_warning(case):
     key = sentinel_key(case)
     edit_config(case, f"{key}: [-999]", f"{key}: [-999, -777]")
@@ -50,7 +48,6 @@ def test_a_global_special_value_no_characteristic_holds_is_a_warning(case):
     assert not [w for w in ran.warning_lines if "-999" in w], ran.stderr
 
 
-@FAILS_TODAY
 def test_a_group_level_never_seen_is_a_warning(case):
     add_override(case, "housing: {groups: [[owner, mortgage], [renter], [family, other, castle]]}")
     ran = build(case)
@@ -83,7 +80,6 @@ def first_row(d, column: str, value: str) -> int:
     return column_values(d, column).index(value) + 1
 
 
-@FAILS_TODAY
 def test_a_level_in_no_group_names_the_file_and_its_first_row(case):
     add_override(case, "housing: {groups: [[owner, mortgage], [renter], [family]]}")
     row = first_row(case, "housing", "other")
@@ -92,14 +88,12 @@ def test_a_level_in_no_group_names_the_file_and_its_first_row(case):
                    case, before)
 
 
-@FAILS_TODAY
 def test_text_in_a_column_declared_numeric_names_the_file_and_its_first_row(case):
     add_override(case, "housing: {kind: numeric}")
     before = snapshot(case)
     assert_refused(build(case), ["{d}/applications.csv", "row 1", "column housing"], case, before)
 
 
-@FAILS_TODAY
 def test_a_weight_error_names_the_file(case):
     edit_config(case, "weight: null", "weight: bike_price")
     lines = (case / DATA).read_text().splitlines(keepends=True)

@@ -30,6 +30,7 @@ from scorecard.card.scorecard import (
     Scorecard,
 )
 from scorecard.config.loading import SCALE_LIMIT
+from scorecard.data.coding import categorical_codes
 from scorecard.data.outcome import BAD, GOOD, code_outcome
 from scorecard.data.read import column_kind, decimal_comma_column
 from scorecard.data.samples import (DEVELOPMENT, EXCLUDED, HOLDOUT, OUT_OF_TIME, SAMPLE_NAMES,
@@ -335,8 +336,20 @@ def _binned_report(draft: Characteristic, table: np.ndarray, limits, config,
 def build_scorecard(config, engine, progress: Callable[[str], None] | None = None) -> BuildResult:
     """Build a scorecard from a validated config on an engine holding the data.
 
-    Use :func:`scorecard.build.pipeline` to start from a config file.
+    Use :func:`scorecard.api.build` to start from a config file.
     """
+    try:
+        return _build(config, engine, progress)
+    except InputError as exc:
+        # A data error found while checking values names the column (and row); the message
+        # gains the file it is in.
+        text = str(exc)
+        if text.startswith("column "):
+            raise InputError(f"{config.data.source}: {text}") from None
+        raise
+
+
+def _build(config, engine, progress) -> BuildResult:
     reports: dict = {}
     head = engine.sample_rows()
     kinds = _candidate_kinds(config, head, reports)
@@ -359,6 +372,7 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
     layouts = _layouts(config, kinds, summary, reports)
     counts = engine.reduce(fine_counts, merge_fine, rows, layouts, columns=list(layouts))
     extreme = _extreme_values(config, counts)
+    _check_settings(config, engine, layouts, counts)
     _say(progress, f"fine classes counted for {len(layouts)} characteristics")
 
     b = config.binning
@@ -428,6 +442,50 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
     return BuildResult(config, card, ordered, selection, facts, histograms, perf, gains,
                        gains_sample, starts, patterns, fairness=fairness, unmeasured=unmeasured,
                        extreme_values=extreme)
+
+
+def _check_settings(config, engine, layouts: dict, counts: dict) -> None:
+    """Special values and group levels the development sample never holds are warnings;
+    a level the data hold but no group lists is an error naming its first row."""
+    unheld = {}                 # global special value -> held by some characteristic
+    for name, layout in layouts.items():
+        override = config.characteristics.get(name)
+        fc = counts[name]
+        held = fc.goods + fc.bads
+        if isinstance(layout, NumericLayout):
+            own = override is not None and override.special_values is not None
+            for i, value in enumerate(layout.special_values):
+                there = held[layout.missing_code + 1 + i] > 0
+                if own and not there:
+                    warnings.warn(f"characteristics.{name}.special_values: {value:g} never occurs "
+                                  f"in {name} in the development sample")
+                elif not own:
+                    unheld[value] = unheld.get(value, False) or there
+            continue
+        groups = override.groups if override is not None else None
+        if groups is None:
+            continue
+        present = {lv for lv, c in zip(layout, held) if c > 0}
+        listed = [lv for g in groups for lv in g]
+        lost = next((lv for lv in layout if lv in present and lv not in listed), None)
+        if lost is not None:
+            row = _first_row_holding(engine, name, lost)
+            raise InputError(f"{config.data.source}: row {row}: column {name}: level {lost!r} "
+                             f"is in no group of characteristics.{name}.groups")
+        for level in listed:
+            if level not in present:
+                warnings.warn(f"characteristics.{name}.groups: level {level!r} of {name} never "
+                              "occurs in the development sample")
+    for value, there in unheld.items():
+        if not there:
+            warnings.warn(f"binning.special_values: {value:g} occurs in no characteristic in the "
+                          "development sample")
+
+
+def _first_row_holding(engine, name: str, level: str) -> int:
+    found = engine.collect(lambda chunk: (categorical_codes(chunk[name], (level,)) == 0,),
+                           columns=[name])[0]
+    return int(np.flatnonzero(found)[0]) + 1
 
 
 def _extreme_values(config, counts: dict) -> dict:

@@ -7,7 +7,7 @@ from typing import NamedTuple
 import numpy as np
 import pandas as pd
 
-from scorecard.data.coding import level_labels
+from scorecard.data.coding import level_labels, row_number
 from scorecard.errors import InputError
 
 GOOD, BAD, OTHER = 0, 1, -1
@@ -59,16 +59,6 @@ def code_outcome(series: pd.Series, bad, good, weight: pd.Series | None = None,
     w = np.where(label == OTHER, 0.0, w)
     return Outcome(label, w, float(w[label == GOOD].sum()), float(w[label == BAD].sum()),
                    int((label == OTHER).sum()))
-
-
-def row_number(series: pd.Series, position: int) -> int:
-    """Data row (from 1) of a position in ``series``.
-
-    A chunk of a frame read by :func:`read_frame` keeps the frame's integer index, so the label
-    says where the row is in the whole file, not just in the chunk.
-    """
-    label = series.index[position]
-    return int(label) + 1 if isinstance(label, (int, np.integer)) else position + 1
 
 
 def _weights(series: pd.Series, name: str) -> np.ndarray:
