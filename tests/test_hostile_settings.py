@@ -13,7 +13,7 @@ import re
 
 import pytest
 
-from cli_harness import (CONFIG, DATA, FAILS_TODAY, add_override, assert_done, assert_refused, case,
+from cli_harness import (CONFIG, DATA, add_override, assert_done, assert_refused, case,
                          column_values, demo_folder, edit_config, edit_rows, run, sentinel_key,
                          snapshot)
 
@@ -111,7 +111,6 @@ def left_out(ran) -> int:
     return int(re.search(r"(\d+) left out", ran.stderr).group(1))
 
 
-@FAILS_TODAY
 def test_outcome_labels_match_exactly_as_written(case):
     # 'Yes' is bad and 'No' good; the rows holding yes, true or on are neither, so left out.
     swaps = {"defaulted": "Yes", "repaid": "No"}

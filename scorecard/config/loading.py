@@ -117,7 +117,8 @@ class DataConfig:
         The outcome column.
     bad, good : tuple
         Outcome values, as written in the config, that count as bad and as good. Rows with any
-        other outcome are left out and counted.
+        other outcome are left out and counted. Text matches exactly (quote ``'Yes'`` to match
+        only Yes); an unquoted yes/no word matches every spelling of yes or of no.
     weight : str or None
         Optional sample-weight column.
     ignore : tuple of str
