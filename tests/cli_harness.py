@@ -231,14 +231,3 @@ def read_only_folder(where: Path):
     with mounted_tmpfs(where, "ro,size=1m") as place:
         yield place
 
-
-# ---- what fails before the fix --------------------------------------------------------------------
-
-FAILS_TODAY = pytest.mark.xfail(strict=True, reason="issue 14: fails before the fix")
-
-
-def fails_today(params: list, passing=()) -> list:
-    """``params`` with every case but those ``passing`` marked as failing today."""
-    return [p if p.id in passing else pytest.param(*p.values, id=p.id,
-                                                   marks=(*p.marks, FAILS_TODAY))
-            for p in params]

@@ -14,8 +14,8 @@ from pathlib import Path
 
 import pytest
 
-from cli_harness import (CONFIG, DATA, FAILS_TODAY, MODEL, RECENT, WORKBOOK, assert_done,
-                         assert_refused, case, demo_folder, edit_config, fails_today, mounted_tmpfs,
+from cli_harness import (CONFIG, DATA, MODEL, RECENT, WORKBOOK, assert_done, assert_refused,
+                         case, demo_folder, edit_config, mounted_tmpfs,
                          read_only_folder, run, run_process, snapshot)
 
 __all__ = ["case", "demo_folder"]   # fixtures used by the tests below
@@ -83,7 +83,8 @@ OVERLAPS = [
     pytest.param(lambda d: ["compare", d / MODEL, d / DATA, d / RECENT, "--json", d / DATA],
                  ["{d}/applications.csv", "overwrite"], id="compare-json-is-baseline"),
     pytest.param(lambda d: ["compare", d / MODEL, d / DATA, d / RECENT, "--json", d / RECENT],
-                 ["{d}/applications_recent_drifted.csv", "overwrite"], id="compare-json-is-current"),
+                 ["{d}/applications_recent_drifted.csv", "overwrite"],
+                 id="compare-json-is-current"),
     pytest.param(lambda d: ["compare", d / MODEL, d / DATA, d / RECENT, "--json", d / MODEL],
                  ["{d}/out/scorecard.json", "overwrite"], id="compare-json-is-model"),
     pytest.param(lambda d: ["compare", d / MODEL, d / DATA, d / RECENT, "--workbook", d / DATA],

@@ -76,8 +76,8 @@ HUGE = st.one_of(
 @settings(max_examples=6, deadline=None, derandomize=True, phases=(Phase.generate,),
           suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
 @given(data=st.data())
-def test_random_extreme_values_never_remove_a_characteristic(demo_folder, demo_card, tmp_path_factory,
-                                                             data):
+def test_random_extreme_values_never_remove_a_characteristic(demo_folder, demo_card,
+                                                             tmp_path_factory, data):
     import shutil
     before = [c["name"] for c in demo_card["characteristics"]]
     numeric = [c["name"] for c in demo_card["characteristics"] if c["kind"] == "numeric"]
