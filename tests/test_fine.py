@@ -12,6 +12,7 @@ from hypothesis import strategies as st
 
 from scorecard.binning.fine import (
     EXTREME_GAP,
+    ZERO_BUCKET,
     NumericLayout,
     bulk_of,
     candidate_cuts,
@@ -177,3 +178,18 @@ def test_values_only_a_thousand_times_beyond_are_ordinary():
     # A high earner among modest incomes is data, not an error: nothing is set apart.
     x = np.concatenate([np.linspace(1000, 5000, 500), [4e6]])
     assert bulk_of(magnitude_counts(x), x.min(), x.max()).above == math.inf
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.lists(st.one_of(finite, st.just(0.0), st.just(-0.0), st.just(math.nan),
+                          st.just(math.inf), st.just(-math.inf)), min_size=1, max_size=300))
+def test_magnitude_buckets_agree_with_frexp(values):
+    # Reference library: numpy's frexp gives each value's binary exponent another way.
+    x = np.array(values)
+    finite_x = x[np.isfinite(x)]
+    _, exponent = np.frexp(np.abs(finite_x))
+    normal = np.abs(finite_x) >= np.finfo(float).tiny
+    signed = np.sign(finite_x).astype(int) * (exponent + 1022)
+    key = np.where(normal, ZERO_BUCKET + signed, ZERO_BUCKET)
+    np.testing.assert_array_equal(magnitude_counts(x), np.bincount(key, minlength=len(
+        magnitude_counts(x))))

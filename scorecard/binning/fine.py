@@ -73,10 +73,9 @@ def _even_values(minimum: float, maximum: float) -> np.ndarray:
 # Each regular value falls in one bucket of its sign and binary exponent; counts per bucket merge
 # exactly across chunks, like the minimum and maximum, so every engine finds the same bulk.
 _EXPONENTS = 2048                   # biased exponents of a double (finite: 0 to 2046)
-_ZERO = _EXPONENTS                  # the bucket of both zeros; negative values sit below it
+ZERO_BUCKET = _EXPONENTS                  # the bucket of the zeros; negative values sit below it
 N_MAGNITUDES = 2 * _EXPONENTS + 1
 _EXPONENT_SHIFT = 52
-_MAGNITUDE = np.int64(0x7FFF_FFFF_FFFF_FFFF)
 # A few values at least this many binary orders (about six decades) beyond the largest
 # magnitude of the rest are extreme: they would otherwise squeeze the grid of candidate cuts.
 EXTREME_GAP = 20
@@ -85,29 +84,36 @@ EXTREME_AT_LEAST = 2                # ... or this many values, in a small table
 
 
 def magnitude_counts(x: np.ndarray) -> np.ndarray:
-    """Values per bucket of sign and binary exponent, in value order (regular values only).
+    """Values per bucket of sign and binary exponent, in value order (finite values only).
+
+    Zeros and the subnormal numbers share the middle bucket.
 
     Examples
     --------
-    >>> c = magnitude_counts(np.array([-3.0, 0.0, 0.5, 0.75, 1e308]))
-    >>> int(c.sum()), int(c[_ZERO]), int(np.count_nonzero(c))
+    >>> c = magnitude_counts(np.array([-3.0, 0.0, 0.5, 0.75, 1e308, np.nan, np.inf]))
+    >>> int(c.sum()), int(c[ZERO_BUCKET]), int(np.count_nonzero(c))
     (5, 1, 4)
     """
-    bits = np.ascontiguousarray(x, dtype=np.float64).view(np.int64)
-    exponent = (bits >> _EXPONENT_SHIFT) & 0x7FF
-    sign = np.where(bits < 0, -1, 1)
-    key = np.where(bits & _MAGNITUDE != 0, _ZERO + sign * (exponent + 1), _ZERO)
-    return np.bincount(key, minlength=N_MAGNITUDES)
+    # The top twelve bits of a double are its sign and biased exponent: one shift gives the
+    # bucket, in the order positive 0..2047, then negative 0..2047 (2047: NaN and infinities).
+    bits = np.ascontiguousarray(x, dtype=np.float64).view(np.uint64)
+    raw = np.bincount((bits >> np.uint64(_EXPONENT_SHIFT)).astype(np.intp),
+                      minlength=2 * _EXPONENTS)
+    positive, negative = raw[:_EXPONENTS - 1], raw[_EXPONENTS:2 * _EXPONENTS - 1]
+    counts = np.zeros(N_MAGNITUDES, dtype=np.int64)
+    counts[ZERO_BUCKET:ZERO_BUCKET + _EXPONENTS - 1] = positive
+    counts[ZERO_BUCKET - _EXPONENTS + 2:ZERO_BUCKET + 1] += negative[::-1]
+    return counts
 
 
 def _value_edges(key: int) -> tuple[float, float]:
     """Lowest and highest value a bucket can hold (edges included)."""
-    if key == _ZERO:
-        return 0.0, 0.0
-    exponent = abs(key - _ZERO) - 1
+    exponent = abs(key - ZERO_BUCKET)
     low = 0.0 if exponent == 0 else math.ldexp(1.0, exponent - 1023)
     high = math.ldexp(1.0, exponent - 1022) if exponent < 2046 else math.inf
-    return (low, high) if key > _ZERO else (-high, -low)
+    if key == ZERO_BUCKET:
+        return -high, high
+    return (low, high) if key > ZERO_BUCKET else (-high, -low)
 
 
 class Bulk(NamedTuple):
@@ -131,7 +137,7 @@ def _core_magnitude(occupied: np.ndarray, counts: np.ndarray, limit: int) -> int
     last = int(np.searchsorted(cum, total - limit, side="left"))
     first, last = min(first, len(occupied) - 1), max(last, 0)
     ends = occupied[[first, last]] if first <= last else occupied[[last, first]]
-    return max(abs(int(k) - _ZERO) for k in ends)
+    return max(abs(int(k) - ZERO_BUCKET) for k in ends)
 
 
 def _tail(keys, counts: np.ndarray, limit: int, past: int, sign: int) -> int:
@@ -140,7 +146,7 @@ def _tail(keys, counts: np.ndarray, limit: int, past: int, sign: int) -> int:
     for key in keys:
         key = int(key)
         taken += int(counts[key])
-        if (key - _ZERO) * sign <= 0 or abs(key - _ZERO) < past or taken > limit:
+        if (key - ZERO_BUCKET) * sign <= 0 or abs(key - ZERO_BUCKET) < past or taken > limit:
             break
         size += 1
     return size
@@ -157,10 +163,10 @@ def bulk_of(counts: np.ndarray, minimum: float, maximum: float) -> Bulk:
 
     Examples
     --------
-    >>> x = np.concatenate([np.linspace(0, 1, 200), [1e308, -1e308]])
+    >>> x = np.concatenate([np.linspace(0.5, 1, 200), [1e308, -1e308]])
     >>> bulk = bulk_of(magnitude_counts(x), x.min(), x.max())
     >>> (bulk.low, bulk.high), bulk.above < 1e308, bulk.below > -1e308
-    ((0.0, 2.0), True, True)
+    ((0.5, 2.0), True, True)
     >>> bulk_of(magnitude_counts(np.arange(10.0)), 0.0, 9.0)
     Bulk(low=0.0, high=9.0, below=-inf, above=inf)
     """
@@ -172,7 +178,7 @@ def bulk_of(counts: np.ndarray, minimum: float, maximum: float) -> Bulk:
     core = _core_magnitude(occupied, counts, limit)
     if core == 0:
         # Nearly all zeros: the scale is that of the smallest value that is not zero.
-        nonzero = [abs(int(k) - _ZERO) for k in occupied if k != _ZERO]
+        nonzero = [abs(int(k) - ZERO_BUCKET) for k in occupied if k != ZERO_BUCKET]
         if not nonzero:
             return Bulk(minimum, maximum)
         core = min(nonzero)
@@ -216,10 +222,11 @@ def numeric_summary(x: np.ndarray, special_values) -> NumericSummary:
     (3.0, 7.0, 2)
     """
     low, high = regular_range(x, special_values)
-    regular = np.isfinite(x)
+    counts = magnitude_counts(x)
     for value in special_values:
-        regular &= x != value
-    return NumericSummary(low, high, magnitude_counts(x[regular]))
+        # Special values stand for facts, not magnitudes: taken out of their bucket again.
+        counts -= magnitude_counts(np.array([value])) * int(np.count_nonzero(x == value))
+    return NumericSummary(low, high, counts)
 
 
 class NumericLayout(NamedTuple):
