@@ -15,32 +15,31 @@ from scorecard.config.loading import check_columns, load_config
 from scorecard.data.read import read_frame
 from scorecard.engines.local import LocalEngine
 from scorecard.errors import InputError
-from scorecard.outputs.atomic import atomic_path, write_text
+from scorecard.outputs.atomic import Output, check_outputs, staged
 
 
 def open_engine(config, progress=None):
     """The engine named by the config, holding the development data; use it in ``with``."""
     d = config.data
     if config.engine.dask is None:
-        return LocalEngine(read_frame(d.source, encoding=d.encoding, delimiter=d.delimiter),
+        return LocalEngine(read_frame(d.source, encoding=d.encoding, delimiter=d.delimiter,
+                                      decimal=d.decimal),
                            progress=progress)
     from scorecard.engines.dask_engine import DaskEngine
     return DaskEngine(d.source, config.engine.dask, progress=progress)
 
 
-def _output_paths(config, workbook, model) -> tuple[Path, Path]:
-    """Where the outputs go; InputError when one would overwrite an input or the other."""
-    model_path = Path(model) if model else config.output.model
-    workbook_path = Path(workbook) if workbook else config.output.workbook
-    inputs = {Path(config.data.source).resolve(): "the data", Path(config.config_file).resolve(): "the config"}
-    for option, path in (("--workbook", workbook_path), ("--model", model_path)):
-        if path.resolve() in inputs:
-            raise InputError(f"{option} {path}: would overwrite {inputs[path.resolve()]}")
-        if path.is_dir():
-            raise InputError(f"{option} {path}: is a folder")
-    if model_path.resolve() == workbook_path.resolve():
-        raise InputError(f"--model {model_path}: the same path as the workbook")
-    return workbook_path, model_path
+WORKBOOK, MODEL_FILE = (".xlsx",), (".json",)
+EXPORT_SUFFIXES = {"pmml": (".pmml", ".xml"), "sql": (".sql",)}
+CONFIG_SUFFIXES = (".yaml", ".yml")
+
+
+def _build_outputs(config, workbook, model) -> tuple[Output, Output]:
+    """The workbook and model file of a build: from the options, else from the config."""
+    return (Output("--workbook", Path(workbook), WORKBOOK) if workbook
+            else Output("output.workbook", config.output.workbook, WORKBOOK),
+            Output("--model", Path(model), MODEL_FILE) if model
+            else Output("output.model", config.output.model, MODEL_FILE))
 
 
 def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResult:
@@ -62,20 +61,22 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
     """
     from scorecard.outputs.workbook import write_workbook
     config = load_config(config_path)
-    workbook_path, model_path = _output_paths(config, workbook, model)
+    outputs = check_outputs(_build_outputs(config, workbook, model),
+                            {"the config": config.config_file, "the data": config.data.source})
     with open_engine(config, progress) as engine:
         check_columns(config, engine.columns)
         if progress:
             progress(f"read {engine.n_rows} rows from {config.data.source}")
         result = build_scorecard(config, engine, progress)
-    # The workbook is finished in its temporary file before the model moves into place, and
-    # moves in right after: a failure anywhere leaves the previous pair of outputs as it was.
-    with atomic_path(workbook_path) as pending_workbook:
-        write_workbook(result, pending_workbook)
-        write_text(model_path, result.card.to_json())
+    # Both files are finished before either moves into place: a failure anywhere leaves the
+    # previous pair of outputs as it was.
+    book, card = outputs
+    with staged(outputs) as out:
+        out.write(book.name, lambda tmp: write_workbook(result, tmp))
+        out.write_text(card.name, result.card.to_json())
     if progress:
-        progress(f"wrote {workbook_path} and {model_path}")
-    result.outputs = {"workbook": workbook_path, "model": model_path}
+        progress(f"wrote {book.path} and {card.path}")
+    result.outputs = {"workbook": book.path, "model": card.path}
     return result
 
 
@@ -85,12 +86,8 @@ def score(model, data, out, *, keep=(), reasons=None, reason_text=False):
     Returns the :class:`~scorecard.outputs.scored_file.ScoringSummary` of the run;
     ``reasons`` defaults to the model's own number of reason codes.
     """
-    from scorecard.card.scorecard import load_scorecard
     from scorecard.outputs.scored_file import score_file
-    card = load_scorecard(model)
-    return score_file(card, data, out, keep=keep,
-                      reasons=card.reasons if reasons is None else reasons,
-                      reason_text=reason_text)
+    return score_file(model, data, out, keep=keep, reasons=reasons, reason_text=reason_text)
 
 
 def compare(model, baseline, current, *, bands=None, json_path=None, workbook=None):
@@ -100,38 +97,50 @@ def compare(model, baseline, current, *, bands=None, json_path=None, workbook=No
     :class:`~scorecard.evaluation.comparison.Comparison`.
     """
     from scorecard.evaluation.comparison import compare as compare_files
-    result = compare_files(model, baseline, current, bands=bands)
-    if json_path is not None:
-        write_text(json_path, result.to_json())
+    from scorecard.outputs.comparison_workbook import write_compare_workbook
+    wanted = [Output("--json", Path(json_path), (".json",))] if json_path is not None else []
     if workbook is not None:
-        from scorecard.outputs.comparison_workbook import write_compare_workbook
-        write_compare_workbook(result, workbook)
+        wanted.append(Output("--workbook", Path(workbook), WORKBOOK))
+    outputs = check_outputs(wanted, {"the model file": model, "the baseline": baseline,
+                                     "the current file": current})
+    result = compare_files(model, baseline, current, bands=bands)
+    with staged(outputs) as out:
+        if json_path is not None:
+            out.write_text("--json", result.to_json())
+        if workbook is not None:
+            out.write("--workbook", lambda tmp: write_compare_workbook(result, tmp))
     return result
 
 
 def export(model, form, out, *, table="applications", keep=(), reasons=None) -> None:
     """Write the model file ``model`` as a PMML document (``form="pmml"``) or a SQL query."""
     from scorecard.card.scorecard import load_scorecard
+    from scorecard.outputs.pmml import write_pmml
+    from scorecard.outputs.sql import write_sql
+    if form not in EXPORT_SUFFIXES:
+        raise InputError(f"--format {form}: must be pmml or sql")
+    if form == "pmml" and keep:
+        raise InputError("--keep: applies to --format sql only")
+    target = check_outputs([Output("--out", Path(out), EXPORT_SUFFIXES[form])],
+                           {"the model file": model})
     card = load_scorecard(model)
     reasons = card.reasons if reasons is None else reasons
-    if form == "pmml":
-        if keep:
-            raise InputError("--keep: applies to --format sql only")
-        from scorecard.outputs.pmml import write_pmml
-        write_pmml(card, out, reasons)
-    elif form == "sql":
-        from scorecard.outputs.sql import write_sql
-        write_sql(card, out, table, keep, reasons)
-    else:
-        raise InputError(f"--format {form}: must be pmml or sql")
+    with staged(target) as pending:
+        if form == "pmml":
+            pending.write("--out", lambda tmp: write_pmml(card, tmp, reasons))
+        else:
+            pending.write("--out", lambda tmp: write_sql(card, tmp, table, keep, reasons))
 
 
 def init(data, target, out=None) -> str:
     """A starter config for ``data`` with outcome column ``target``; written to ``out`` if given."""
     from scorecard.outputs.starter_config import starter_config
+    outputs = () if out is None else check_outputs([Output("--out", Path(out), CONFIG_SUFFIXES)],
+                                                   {"the data": data})
     text = starter_config(data, target, out)
-    if out is not None:
-        write_text(out, text)
+    with staged(outputs) as pending:
+        for config in outputs:
+            pending.write_text(config.name, text)
     return text
 
 

@@ -8,11 +8,12 @@ from __future__ import annotations
 import os
 import signal
 import sys
+import warnings
 from pathlib import Path
 
 import click
 
-from scorecard.errors import InputError
+from scorecard.errors import InputError, ResultWarning
 from scorecard.progress import StageLog
 
 
@@ -24,13 +25,24 @@ def _raise_terminated(signum, frame):
     raise _Terminated()
 
 
+def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
+    """A warning as one plain line on stderr; under ``--quiet`` only one that changes the result."""
+    ctx = click.get_current_context(silent=True)
+    if ctx is not None and ctx.params.get("quiet") and not issubclass(category, ResultWarning):
+        return
+    click.echo(f"warning: {message}", err=True)
+
+
 class _Group(click.Group):
     """Turns bad input and usage mistakes into one ``error: ...`` line with exit status 2."""
 
     def invoke(self, ctx):
         previous = signal.signal(signal.SIGTERM, _raise_terminated)
         try:
-            return super().invoke(ctx)
+            with warnings.catch_warnings():
+                warnings.simplefilter("default")
+                warnings.showwarning = _show_warning
+                return super().invoke(ctx)
         except InputError as exc:
             click.echo(f"error: {exc}", err=True)
             ctx.exit(2)
@@ -54,9 +66,9 @@ def main():
 
 @main.command()
 @click.argument("config", type=click.Path(path_type=Path))
-@click.option("--workbook", type=click.Path(dir_okay=False, path_type=Path),
+@click.option("--workbook", type=click.Path(path_type=Path),
               help="Write the workbook here instead of output.workbook.")
-@click.option("--model", type=click.Path(dir_okay=False, path_type=Path),
+@click.option("--model", type=click.Path(path_type=Path),
               help="Write the model file here instead of output.model.")
 @click.option("--quiet", is_flag=True, help="Print nothing but errors.")
 def build(config, workbook, model, quiet):
@@ -73,6 +85,8 @@ def _print_summary(result) -> None:
                f"scores {card.min_score} to {card.max_score}")
     for name, perf in result.performance.items():
         click.echo(f"  {name:12s} AUC {perf.auc:.4f}  Gini {perf.gini:.4f}  KS {perf.ks:.4f}")
+    for name, why in result.unmeasured.items():
+        click.echo(f"  {name:12s} not available: {why}")
     for kind, path in result.outputs.items():
         click.echo(f"  {kind}: {path}")
 
@@ -95,7 +109,7 @@ def demo(directory, rows, seed, quiet):
 @main.command()
 @click.argument("data", type=click.Path(path_type=Path))
 @click.option("--target", required=True, help="The outcome column.")
-@click.option("--out", type=click.Path(dir_okay=False, path_type=Path),
+@click.option("--out", type=click.Path(path_type=Path),
               help="Write the config here (default: print it).")
 def init(data, target, out):
     """Write a starter config for DATA with every column classified."""
@@ -110,7 +124,7 @@ def init(data, target, out):
 @main.command()
 @click.argument("model", type=click.Path(dir_okay=False, path_type=Path))
 @click.argument("data", type=click.Path(path_type=Path))
-@click.option("--out", required=True, type=click.Path(dir_okay=False, path_type=Path),
+@click.option("--out", required=True, type=click.Path(path_type=Path),
               help="Scored file (.csv or .parquet).")
 @click.option("--keep", multiple=True, help="Input column to copy to the output (repeatable).")
 @click.option("--reasons", type=click.IntRange(min=0), default=None,
@@ -127,9 +141,9 @@ def score(model, data, out, keep, reasons, reason_text):
 @click.argument("model", type=click.Path(dir_okay=False, path_type=Path))
 @click.argument("baseline", type=click.Path(path_type=Path))
 @click.argument("current", type=click.Path(path_type=Path))
-@click.option("--workbook", type=click.Path(dir_okay=False, path_type=Path),
+@click.option("--workbook", type=click.Path(path_type=Path),
               help="Write the validator's workbook (.xlsx) here.")
-@click.option("--json", "json_path", type=click.Path(dir_okay=False, path_type=Path),
+@click.option("--json", "json_path", type=click.Path(path_type=Path),
               help="Write the indices as JSON here.")
 @click.option("--fail-on", type=click.Choice(["watch", "shift"]),
               help="Exit with status 1 when any index reaches this status.")
@@ -149,7 +163,7 @@ def compare(model, baseline, current, workbook, json_path, fail_on, bands):
 @click.argument("model", type=click.Path(dir_okay=False, path_type=Path))
 @click.option("--format", "form", required=True, type=click.Choice(["pmml", "sql"]),
               help="pmml: a PMML 4.4 Scorecard document; sql: one standard SQL query.")
-@click.option("--out", required=True, type=click.Path(dir_okay=False, path_type=Path),
+@click.option("--out", required=True, type=click.Path(path_type=Path),
               help="File to write.")
 @click.option("--table", default="applications", show_default=True,
               help="sql: the table of applications to score.")

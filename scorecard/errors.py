@@ -33,3 +33,11 @@ def first_line(exc: BaseException) -> str:
     'disk full'
     """
     return (str(exc).strip().splitlines() or [exc.__class__.__name__])[0]
+
+
+class ResultWarning(UserWarning):
+    """A warning that the result differs from what the config asked for.
+
+    Examples: a sample without both goods and bads has no AUC, Gini or KS; extreme values were
+    set apart. The command line shows these even under ``--quiet``; other warnings it silences.
+    """

@@ -10,6 +10,7 @@ from __future__ import annotations
 import io
 import json
 import math
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -294,3 +295,33 @@ def test_pass_labels_name_the_pass_even_inside_a_lambda():
     p = PassProgress(None, "x", 10)
     p.advance(5)
     assert p.done == 5 and not p.live
+
+
+def test_extreme_values_are_found_alike_on_every_engine(parquet_demo, cluster, tmp_path):
+    # The bulk of a column and the rows of its extreme values come from count tables merged in
+    # row order, so a Dask build and a chunked build report the same rows as one chunk.
+    config, folder = parquet_demo
+    frame = read_frame(folder)
+    frame["credit_utilisation"] = frame["credit_utilisation"].astype(float)
+    rows = [3, 7500, 19990]                        # in the first, second and last part
+    frame.loc[rows, "credit_utilisation"] = [1e308, -1e300, 1e300]
+    parts = tmp_path / "parts"
+    parts.mkdir()
+    bounds = np.cumsum((0,) + PART_ROWS + (len(frame) - sum(PART_ROWS),))
+    for i, (a, b) in enumerate(zip(bounds[:-1], bounds[1:])):
+        pq.write_table(pa.Table.from_pandas(frame.iloc[a:b], preserve_index=False),
+                       parts / f"part_{i:02d}.parquet")
+    path = tmp_path / "extreme.yaml"
+    path.write_text(Path(config.config_file).read_text().replace(str(folder), str(parts)))
+    extreme = load_config(path)
+    with pytest.warns(UserWarning, match="credit_utilisation"):
+        whole = build_scorecard(extreme, LocalEngine(read_frame(parts)))
+        chunked = build_scorecard(extreme, LocalEngine(read_frame(parts), chunk_rows=997))
+        with DaskEngine(parts, cluster.scheduler_address) as engine:
+            spread = build_scorecard(extreme, engine)
+    expected = "3 values far beyond the rest (rows 4, 7501, 19991)"
+    assert whole.extreme_values["credit_utilisation"].startswith(expected)
+    for other in (chunked, spread):
+        assert other.extreme_values == whole.extreme_values
+        assert _bins(other.card) == _bins(whole.card)
+    assert "credit_utilisation" in whole.card.names

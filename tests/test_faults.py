@@ -28,7 +28,8 @@ from scorecard.card.scorecard import load_scorecard
 from scorecard.cli import main
 from scorecard.config.loading import load_config
 from scorecard.demo.files import write_demo
-from scorecard.outputs.atomic import atomic_path
+from scorecard.errors import InputError
+from scorecard.outputs.atomic import StagedOutputs
 from scorecard.outputs.workbook import SHEETS
 
 PREVIOUS_WORKBOOK = b"PK\x03\x04 the workbook of an earlier build"
@@ -67,48 +68,52 @@ def leftovers(folder: Path) -> list[str]:
 def half_save_then(exc: BaseException):
     """A stand-in for openpyxl's save that writes the start of a workbook, then fails."""
     def save(self, filename):
-        Path(filename).write_bytes(b"PK\x03\x04 half a workbook")
+        filename.write(b"PK\x03\x04 half a workbook")
         raise exc
     return save
 
 
-@pytest.mark.parametrize("exc", [OSError(28, "No space left on device"), KeyboardInterrupt()],
+# A write that fails is bad input of the place written (one error line naming it); an
+# interruption stays an interruption.
+@pytest.mark.parametrize(("exc", "raised"), [(OSError(28, "No space left on device"), InputError),
+                                             (KeyboardInterrupt(), KeyboardInterrupt)],
                          ids=["disk-full", "interrupted"])
-def test_a_build_failing_while_writing_the_workbook_leaves_the_old_outputs(case, monkeypatch, exc):
+def test_a_build_failing_while_writing_the_workbook_leaves_the_old_outputs(case, monkeypatch, exc,
+                                                                          raised):
     monkeypatch.setattr(openpyxl.Workbook, "save", half_save_then(exc))
-    with pytest.raises(type(exc)):
+    with pytest.raises(raised):
         scorecard.api.build(case / "scorecard.yaml")
     assert previous_outputs_intact(case)
     assert leftovers(case) == []
 
 
 def test_a_build_failing_while_writing_the_model_leaves_the_old_workbook(case, monkeypatch):
-    def half_write(path, text):
-        with atomic_path(path) as tmp:
+    def half_write(self, key, text):
+        def fail(tmp):
             tmp.write_text(text[:100])
             raise OSError(28, "No space left on device")
-    monkeypatch.setattr(scorecard.api, "write_text", half_write)
-    with pytest.raises(OSError):
+        self.write(key, fail)
+    monkeypatch.setattr(StagedOutputs, "write_text", half_write)
+    with pytest.raises(InputError, match="scorecard.json: output.model: cannot write: no space"):
         scorecard.api.build(case / "scorecard.yaml")
     assert leftovers(case) == []
     assert previous_outputs_intact(case)
 
 
 KILLED_WHILE_SAVING = textwrap.dedent("""\
-    import os, signal, sys
-    import openpyxl
+    import os, pathlib, signal, sys
     from scorecard.cli import main
 
-    real_save = openpyxl.Workbook.save
+    real_write = pathlib.Path.write_bytes
 
-    def save(self, filename):
-        real_save(self, filename)
-        with open(filename, "r+b") as file:   # the process dies with half a file written
-            file.truncate(os.path.getsize(filename) // 2)
+    def write_bytes(self, data):
+        if not self.name.endswith(".partial"):
+            return real_write(self, data)
+        real_write(self, bytes(data[:len(data) // 2]))   # the process dies with half a file
         os.kill(os.getpid(), getattr(signal, sys.argv[1]))
         signal.pause()
 
-    openpyxl.Workbook.save = save
+    pathlib.Path.write_bytes = write_bytes
     sys.exit(main(sys.argv[2:]))
 """)
 

@@ -11,8 +11,12 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
 from scorecard.binning.fine import (
+    EXTREME_GAP,
+    ZERO_BUCKET,
     NumericLayout,
+    bulk_of,
     candidate_cuts,
+    magnitude_counts,
     numeric_codes,
     quantile_starts,
     regular_range,
@@ -135,7 +139,57 @@ def test_summaries_merged_over_chunks_give_the_whole_grid(seed, chunk_rows):
     merged = parts[0]
     for part in parts[1:]:
         merged = merge_summaries(merged, part)
-    assert merged == whole
-    np.testing.assert_array_equal(candidate_cuts(*merged["x"]), candidate_cuts(*whole["x"]))
-    assert whole["x"] == (np.nanmin(np.where(x == -999.0, np.nan, x)),
-                          np.nanmax(np.where(x == -999.0, np.nan, x)))
+    assert merged["g"] == whole["g"]
+    assert (merged["x"].low, merged["x"].high) == (whole["x"].low, whole["x"].high)
+    np.testing.assert_array_equal(merged["x"].magnitudes, whole["x"].magnitudes)
+    assert merged["x"].bulk() == whole["x"].bulk()
+    regular = np.where(x == -999.0, np.nan, x)
+    assert (whole["x"].low, whole["x"].high) == (np.nanmin(regular), np.nanmax(regular))
+    assert whole["x"].magnitudes.sum() == np.isfinite(regular).sum()
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.integers(0, 2**32 - 1), st.integers(200, 3000), st.integers(1, 2),
+       st.sampled_from([-1.0, 1.0]), st.floats(0, 250), st.booleans())
+def test_a_few_extreme_values_are_set_apart_and_leave_the_bulk_grid(seed, n, k, sign, orders,
+                                                                   with_zeros):
+    # Common practice: a value millions of times beyond the rest is a typing or coding error,
+    # not a risk level; the grid of cuts must keep resolving the other values.
+    rng = np.random.default_rng(seed)
+    bulk = rng.lognormal(rng.uniform(-5, 10), rng.uniform(0.1, 2), n) * rng.choice([-1, 1], n)
+    if with_zeros:
+        bulk[rng.random(n) < 0.5] = 0.0
+    largest = np.abs(bulk).max()
+    far = sign * largest * 2.0 ** (EXTREME_GAP + 2 + orders)
+    x = np.concatenate([bulk, np.full(k, far)])
+    found = bulk_of(magnitude_counts(x), x.min(), x.max())
+    alone = bulk_of(magnitude_counts(bulk), bulk.min(), bulk.max())
+    # Exactly the added values lie beyond the bounds; the bulk has none to set apart.
+    assert ((x < found.below) | (x > found.above)).sum() == k
+    assert (alone.below, alone.above) == (-math.inf, math.inf)
+    # The grid spans the bulk, to within the power of two that holds its end values.
+    assert bulk.min() >= found.low >= min(bulk.min() * 2, bulk.min() / 2)
+    assert bulk.max() <= found.high <= max(bulk.max() * 2, bulk.max() / 2)
+    inside = candidate_cuts(found.low, found.high)
+    assert len(inside) >= len(candidate_cuts(alone.low, alone.high)) // 2
+
+
+def test_values_only_a_thousand_times_beyond_are_ordinary():
+    # A high earner among modest incomes is data, not an error: nothing is set apart.
+    x = np.concatenate([np.linspace(1000, 5000, 500), [4e6]])
+    assert bulk_of(magnitude_counts(x), x.min(), x.max()).above == math.inf
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.lists(st.one_of(finite, st.just(0.0), st.just(-0.0), st.just(math.nan),
+                          st.just(math.inf), st.just(-math.inf)), min_size=1, max_size=300))
+def test_magnitude_buckets_agree_with_frexp(values):
+    # Reference library: numpy's frexp gives each value's binary exponent another way.
+    x = np.array(values)
+    finite_x = x[np.isfinite(x)]
+    _, exponent = np.frexp(np.abs(finite_x))
+    normal = np.abs(finite_x) >= np.finfo(float).tiny
+    signed = np.sign(finite_x).astype(int) * (exponent + 1022)
+    key = np.where(normal, ZERO_BUCKET + signed, ZERO_BUCKET)
+    np.testing.assert_array_equal(magnitude_counts(x), np.bincount(key, minlength=len(
+        magnitude_counts(x))))

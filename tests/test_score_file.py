@@ -321,7 +321,7 @@ def test_keep_and_output_mistakes_are_input_errors(demo, tmp_path):
     with pytest.raises(InputError, match="--keep score: listed twice or clashes"):
         pd.DataFrame({"score": [1], **{n: [None] for n in card.names}}).to_csv(tmp_path / "s.csv")
         score_file(card, tmp_path / "s.csv", tmp_path / "a.csv", keep=["score"])
-    with pytest.raises(InputError, match="would overwrite or sit inside the data"):
+    with pytest.raises(InputError, match="would overwrite the data"):
         score_file(card, source, source)
     empty = tmp_path / "empty.csv"
     empty.write_text("")

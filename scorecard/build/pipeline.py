@@ -9,6 +9,7 @@ rows works on count tables only.
 from __future__ import annotations
 
 import math
+import warnings
 from typing import Callable
 
 import numpy as np
@@ -28,9 +29,12 @@ from scorecard.card.scorecard import (
     Characteristic,
     Scorecard,
 )
+from scorecard.config.loading import SCALE_LIMIT
+from scorecard.data.coding import categorical_codes
 from scorecard.data.outcome import BAD, GOOD, code_outcome
-from scorecard.data.read import column_kind
-from scorecard.data.samples import DEVELOPMENT, EXCLUDED, SAMPLE_NAMES, assign_samples, parse_dates
+from scorecard.data.read import column_kind, decimal_comma_column
+from scorecard.data.samples import (DEVELOPMENT, EXCLUDED, HOLDOUT, OUT_OF_TIME, SAMPLE_NAMES,
+                                    assign_samples, parse_dates)
 from scorecard.engines.passes import (
     RowFacts,
     bin_counts,
@@ -43,7 +47,7 @@ from scorecard.engines.passes import (
     merge_summaries,
     pattern_radix,
 )
-from scorecard.errors import InputError
+from scorecard.errors import InputError, ResultWarning
 from scorecard.evaluation.fairness import compute_fairness
 from scorecard.evaluation.histograms import band_edges, gains_table, performance, score_histogram
 from scorecard.fit.design import CodedColumns
@@ -69,6 +73,8 @@ def _candidate_kinds(config, head: pd.DataFrame, reports: dict) -> dict:
         kind = column_kind(head[name])
         if override is not None and override.kind is not None:
             kind = override.kind
+        elif kind == "categorical":
+            _refuse_decimal_commas(config, name, head[name])
         if override is not None and override.use is False:
             reports[name] = CharacteristicReport(name, kind, "not used", "config",
                                                  "use: false in the config")
@@ -79,6 +85,15 @@ def _candidate_kinds(config, head: pd.DataFrame, reports: dict) -> dict:
             continue
         kinds[name] = kind
     return kinds
+
+
+def _refuse_decimal_commas(config, name: str, column: pd.Series) -> None:
+    # Numbers in another notation must not silently become a categorical characteristic.
+    example = decimal_comma_column(column)
+    if example is not None:
+        raise InputError(f"{config.data.source}: column {name}: values such as {example!r} are "
+                         "numbers with a decimal comma, so they read as text; give data.decimal: "
+                         f"',' (or kind: categorical under characteristics.{name} to keep text)")
 
 
 def _outcome_facts(config, engine):
@@ -117,8 +132,11 @@ def _layouts(config, kinds, summary, reports):
     layouts = {}
     for name, kind in kinds.items():
         if kind == "numeric":
-            lo, hi = summary[name]
-            layouts[name] = NumericLayout(candidate_cuts(lo, hi), _specials(config, name))
+            # The grid covers the bulk: a few values far beyond it fall in the end classes
+            # instead of flattening every other value into one class.
+            bulk = summary[name].bulk()
+            layouts[name] = NumericLayout(candidate_cuts(bulk.low, bulk.high),
+                                          _specials(config, name), (bulk.below, bulk.above))
         else:
             levels = tuple(sorted(summary[name]))
             if len(levels) > config.binning.max_levels:
@@ -240,6 +258,9 @@ def _scale(config, selection, chosen: list) -> Scorecard:
         beta = float(coef[char.name])
         char = _unseen_rules(char, config.scoring, beta)
         pts = attribute_points([b.woe for b in char.bins], beta, intercept, k, scale)
+        if not np.all(np.abs(pts.exact) < SCALE_LIMIT):
+            raise InputError(f"scaling: the points of {char.name} reach beyond "
+                             f"±{SCALE_LIMIT:,.0f}; lower scaling.pdo or scaling.base_score")
         override = config.characteristics.get(char.name)
         code = (override.reason_code if override is not None and override.reason_code else f"R{i:02d}")
         text = override.reason if override is not None and override.reason else _default_reason(char.name)
@@ -315,8 +336,20 @@ def _binned_report(draft: Characteristic, table: np.ndarray, limits, config,
 def build_scorecard(config, engine, progress: Callable[[str], None] | None = None) -> BuildResult:
     """Build a scorecard from a validated config on an engine holding the data.
 
-    Use :func:`scorecard.build.pipeline` to start from a config file.
+    Use :func:`scorecard.api.build` to start from a config file.
     """
+    try:
+        return _build(config, engine, progress)
+    except InputError as exc:
+        # A data error found while checking values names the column (and row); the message
+        # gains the file it is in.
+        text = str(exc)
+        if text.startswith("column "):
+            raise InputError(f"{config.data.source}: {text}") from None
+        raise
+
+
+def _build(config, engine, progress) -> BuildResult:
     reports: dict = {}
     head = engine.sample_rows()
     kinds = _candidate_kinds(config, head, reports)
@@ -338,6 +371,8 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
                             columns=list(kinds))
     layouts = _layouts(config, kinds, summary, reports)
     counts = engine.reduce(fine_counts, merge_fine, rows, layouts, columns=list(layouts))
+    extreme = _extreme_values(config, counts)
+    _check_settings(config, engine, layouts, counts)
     _say(progress, f"fine classes counted for {len(layouts)} characteristics")
 
     b = config.binning
@@ -394,8 +429,9 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
     for char in card.characteristics:
         reports[char.name].characteristic = char
     histograms = _histograms(card, patterns, [c.name for c in candidates])
-    perf = {name: performance(h) for name, h in histograms.items()}
-    gains_sample = "holdout" if "holdout" in histograms else "development"
+    unmeasured = _unmeasured(config, histograms)
+    perf = {name: performance(h) for name, h in histograms.items() if name not in unmeasured}
+    gains_sample = "holdout" if "holdout" in perf else "development"
     starts = band_edges(histograms[gains_sample], config.evaluation.score_bands)
     gains = gains_table(histograms[gains_sample], starts, card.scaling)
     ordered = [reports[n] for n in head.columns if n in reports]
@@ -404,4 +440,88 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
         _say(progress, f"fairness check on {', '.join(config.data.protected)}: "
                        f"{len(fairness.flags)} findings")
     return BuildResult(config, card, ordered, selection, facts, histograms, perf, gains,
-                       gains_sample, starts, patterns, fairness=fairness)
+                       gains_sample, starts, patterns, fairness=fairness, unmeasured=unmeasured,
+                       extreme_values=extreme)
+
+
+def _check_settings(config, engine, layouts: dict, counts: dict) -> None:
+    """Special values and group levels the development sample never holds are warnings;
+    a level the data hold but no group lists is an error naming its first row."""
+    unheld = {}                 # global special value -> held by some characteristic
+    for name, layout in layouts.items():
+        override = config.characteristics.get(name)
+        fc = counts[name]
+        held = fc.goods + fc.bads
+        if isinstance(layout, NumericLayout):
+            own = override is not None and override.special_values is not None
+            for i, value in enumerate(layout.special_values):
+                there = held[layout.missing_code + 1 + i] > 0
+                if own and not there:
+                    warnings.warn(f"characteristics.{name}.special_values: {value:g} never occurs "
+                                  f"in {name} in the development sample")
+                elif not own:
+                    unheld[value] = unheld.get(value, False) or there
+            continue
+        groups = override.groups if override is not None else None
+        if groups is None:
+            continue
+        present = {lv for lv, c in zip(layout, held) if c > 0}
+        listed = [lv for g in groups for lv in g]
+        lost = next((lv for lv in layout if lv in present and lv not in listed), None)
+        if lost is not None:
+            row = _first_row_holding(engine, name, lost)
+            raise InputError(f"{config.data.source}: row {row}: column {name}: level {lost!r} "
+                             f"is in no group of characteristics.{name}.groups")
+        for level in listed:
+            if level not in present:
+                warnings.warn(f"characteristics.{name}.groups: level {level!r} of {name} never "
+                              "occurs in the development sample")
+    for value, there in unheld.items():
+        if not there:
+            warnings.warn(f"binning.special_values: {value:g} occurs in no characteristic in the "
+                          "development sample")
+
+
+def _first_row_holding(engine, name: str, level: str) -> int:
+    found = engine.collect(lambda chunk: (categorical_codes(chunk[name], (level,)) == 0,),
+                           columns=[name])[0]
+    return int(np.flatnonzero(found)[0]) + 1
+
+
+def _extreme_values(config, counts: dict) -> dict:
+    """Per column holding values far beyond the rest: a line naming how many and their rows.
+
+    Each is also a warning that changes the result (the values sit in the end classes).
+    """
+    out = {}
+    for name, fc in counts.items():
+        if not fc.extremes:
+            continue
+        rows = ", ".join(str(i + 1) for i in fc.extreme_rows)
+        hidden = fc.extremes - len(fc.extreme_rows)
+        more = f" and {hidden} more" if hidden else ""
+        out[name] = (f"{fc.extremes} value{'s' * (fc.extremes > 1)} far beyond the rest "
+                     f"(row{'s' * (fc.extremes > 1)} {rows}{more}), classed with the "
+                     "nearest end of the range")
+        warnings.warn(f"{config.data.source}: column {name}: {out[name]}", ResultWarning)
+    return out
+
+
+def _unmeasured(config, histograms: dict) -> dict:
+    """Why each configured sample has no AUC, Gini or KS (it lacks goods or bads), by name.
+
+    Each is also a warning that changes the result, so it shows even under ``--quiet``.
+    """
+    wanted = [SAMPLE_NAMES[HOLDOUT]] * bool(config.samples.holdout) \
+        + [SAMPLE_NAMES[OUT_OF_TIME]] * (config.samples.out_of_time is not None)
+    out = {}
+    for name in wanted:
+        hist = histograms.get(name)
+        goods, bads = (0.0, 0.0) if hist is None else (hist.goods.sum(), hist.bads.sum())
+        if goods > 0 and bads > 0:
+            continue
+        out[name] = (f"holds {goods:,.0f} goods and {bads:,.0f} bads; AUC, Gini and KS need "
+                     "both")
+        warnings.warn(f"the {name} sample {out[name]}: its measures are not available",
+                      ResultWarning)
+    return out

@@ -56,6 +56,8 @@ class BuildResult:
     patterns: object = None
     fairness: object = None         # scorecard.evaluation.fairness.FairnessReport, or None without protected columns
     outputs: dict = field(default_factory=dict)
+    unmeasured: dict = field(default_factory=dict)   # sample name -> why it has no AUC, Gini, KS
+    extreme_values: dict = field(default_factory=dict)   # column -> its values far beyond the rest
 
     def tables(self) -> dict:
         """Every table the workbook shows, as DataFrames keyed by the sheet's name for them.

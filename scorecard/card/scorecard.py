@@ -14,6 +14,7 @@ from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
 from scorecard.card.points import Scaling
+from scorecard.config.loading import SCALE_LIMIT
 from scorecard.errors import InputError
 
 FORMAT_VERSION = 1
@@ -161,7 +162,8 @@ def load_scorecard(path) -> Scorecard:
     """Read a model file written by ``scorecard build``; InputError if it is not one."""
     path = Path(path)
     try:
-        text = path.read_text(encoding="utf-8")
+        # utf-8-sig: a byte-order mark, as some editors write, is read like none.
+        text = path.read_text(encoding="utf-8-sig")
     except (OSError, UnicodeDecodeError) as exc:
         raise InputError(f"{path}: cannot read the model file ({exc.__class__.__name__})") from None
     return Scorecard.from_json(text, str(path))
@@ -234,6 +236,14 @@ def _characteristic_from_dict(raw: dict) -> Characteristic:
 def _check_consistent(card: Scorecard, source: str) -> None:
     """Refuse a model file edited into a state that would score wrongly."""
     s = card.scaling
+    for key, value, low in (("base_score", s.base_score, -SCALE_LIMIT),
+                            ("base_odds", s.base_odds, 1 / SCALE_LIMIT),
+                            ("pdo", s.pdo, 1 / SCALE_LIMIT)):
+        if not low <= value < SCALE_LIMIT:
+            raise InputError(f"{source}: scaling.{key}: {value:g} is outside {low:g} to "
+                             f"{SCALE_LIMIT:g}")
+    if not math.isfinite(card.intercept):
+        raise InputError(f"{source}: intercept: must be a finite number")
     if not (s.pdo > 0 and s.base_odds > 0) or not math.isclose(s.factor, s.pdo / math.log(2)) \
             or not math.isclose(s.offset, s.base_score - s.factor * math.log(s.base_odds)):
         raise InputError(f"{source}: scaling: factor and offset do not match base_score, "
@@ -252,6 +262,12 @@ def _check_consistent(card: Scorecard, source: str) -> None:
             raise InputError(f"{where}: a bin has an unknown kind")
         if any(not isinstance(b.points, int) or isinstance(b.points, bool) for b in c.bins):
             raise InputError(f"{where}: points must be integers")
+        wild = next((b for b in c.bins if not abs(b.points) < SCALE_LIMIT), None)
+        if wild is not None:
+            raise InputError(f"{where}: points of {wild.label!r}: {wild.points} is beyond "
+                             f"±{SCALE_LIMIT:,.0f}")
+        if not math.isfinite(c.coefficient) or not all(math.isfinite(b.woe) for b in c.bins):
+            raise InputError(f"{where}: coefficient and weights of evidence must be finite")
         rng = c.development_range
         if rng is not None and not rng[0] <= rng[1]:
             raise InputError(f"{where}: development_range runs from {rng[0]:g} down to {rng[1]:g}")

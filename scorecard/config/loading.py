@@ -117,7 +117,8 @@ class DataConfig:
         The outcome column.
     bad, good : tuple
         Outcome values, as written in the config, that count as bad and as good. Rows with any
-        other outcome are left out and counted.
+        other outcome are left out and counted. Text matches exactly (quote ``'Yes'`` to match
+        only Yes); an unquoted yes/no word matches every spelling of yes or of no.
     weight : str or None
         Optional sample-weight column.
     ignore : tuple of str
@@ -128,6 +129,8 @@ class DataConfig:
         Text encoding of a CSV source.
     delimiter : str
         Field separator of a CSV source, one character.
+    decimal : str
+        Decimal mark of the numbers in a CSV source: ``.`` or ``,``.
     """
 
     source: Path
@@ -139,6 +142,7 @@ class DataConfig:
     protected: tuple[str, ...] = ()
     encoding: str = "utf-8"
     delimiter: str = ","
+    decimal: str = "."
 
 
 @dataclass(frozen=True, slots=True)
@@ -847,11 +851,14 @@ def _finite(source: _Source, path: tuple, node: yaml.Node) -> float:
 def _number(low: float | None = None, high: float | None = None, *,
             low_open: bool = False, high_open: bool = False) -> Reader:
     """A finite number within the given bounds (open bounds exclude the bound itself)."""
+    def shown(bound: float) -> str:
+        return str(int(bound)) if bound == int(bound) and abs(bound) < 1e15 else f"{bound:g}"
+
     limits = []
     if low is not None:
-        limits.append(f"above {low}" if low_open else f"at least {low}")
+        limits.append(f"above {shown(low)}" if low_open else f"at least {shown(low)}")
     if high is not None:
-        limits.append(f"below {high}" if high_open else f"at most {high}")
+        limits.append(f"below {shown(high)}" if high_open else f"at most {shown(high)}")
 
     def read(source: _Source, path: tuple, node: yaml.Node) -> float:
         value = _finite(source, path, node)
@@ -993,7 +1000,7 @@ _above_zero_to_one = _number(0, 1, low_open=True)
 _DATA_SCHEMA = {
     "source": _text, "target": _text, "bad": _outcomes, "good": _outcomes,
     "weight": _optional(_text), "ignore": _columns, "protected": _columns,
-    "encoding": _encoding, "delimiter": _delimiter,
+    "encoding": _encoding, "delimiter": _delimiter, "decimal": _choice((".", ",")),
 }
 _SAMPLES_SCHEMA = {
     "holdout": _optional(_number(0, 1, low_open=True, high_open=True)),
@@ -1021,9 +1028,13 @@ _SELECTION_SCHEMA = {
     "method": _choice(METHODS), "entry_p_value": _above_zero_to_one,
     "max_characteristics": _whole(1), "keep": _columns,
 }
+# Scores are integers summed in 64 bits: points, the base score, the points to double the odds
+# and the base odds (either way round) stay below this, so no sum can overflow or lose meaning.
+SCALE_LIMIT = 1e6
 _SCALING_SCHEMA = {
-    "base_score": _number(), "base_odds": _number(0, low_open=True),
-    "pdo": _number(0, low_open=True),
+    "base_score": _number(-SCALE_LIMIT, SCALE_LIMIT, low_open=True, high_open=True),
+    "base_odds": _number(1 / SCALE_LIMIT, SCALE_LIMIT, high_open=True),
+    "pdo": _number(1 / SCALE_LIMIT, SCALE_LIMIT, high_open=True),
 }
 _OUTPUT_SCHEMA = {"workbook": _text, "model": _text}
 _SCORING_SCHEMA = {

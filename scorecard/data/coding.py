@@ -26,11 +26,38 @@ def level_labels(values) -> list[str]:
 
 
 def numeric_values(series: pd.Series, name: str) -> np.ndarray:
-    """A column as float64 with NaN for missing; InputError if it is not numeric."""
+    """A column as float64 with NaN for missing; InputError naming the first row that holds
+    no number if it is not numeric."""
     if isinstance(series.dtype, pd.CategoricalDtype) or not (
             pd.api.types.is_numeric_dtype(series.dtype) or pd.api.types.is_bool_dtype(series.dtype)):
-        raise InputError(f"column {name}: expected numbers, found {series.dtype} values")
+        raise InputError(f"column {name}: {_first_non_number(series)}expected numbers, found "
+                         f"{series.dtype} values")
     return series.to_numpy(dtype=np.float64, na_value=np.nan)
+
+
+def _first_non_number(series: pd.Series) -> str:
+    """``'row N: 'value' is not a number; '`` for the first such row, or ''."""
+    cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
+    levels = pd.Series(cat.cat.categories.astype(str))
+    text = np.append(pd.to_numeric(levels, errors="coerce").isna().to_numpy(), False)
+    codes = cat.cat.codes.to_numpy()
+    found = np.flatnonzero(text[codes])          # code -1 (missing) maps to the False appended
+    if not len(found):
+        return ""
+    at = int(found[0])
+    return f"row {row_number(series, at)}: {levels[codes[at]]!r} is not a number; "
+
+
+def row_number(series: pd.Series, position: int) -> int:
+    """Data row (from 1) of a position in ``series``.
+
+    A chunk of a frame read by :func:`read_frame` keeps the frame's integer index, so the label
+    says where the row is in the whole file, not just in the chunk.
+    """
+    label = series.index[position]
+    return int(label) + 1 if isinstance(label, (int, np.integer)) else position + 1
+
+
 
 
 _NUMBER = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?")

@@ -7,7 +7,7 @@ from typing import NamedTuple
 import numpy as np
 import pandas as pd
 
-from scorecard.data.coding import level_labels
+from scorecard.data.coding import level_labels, row_number
 from scorecard.errors import InputError
 
 GOOD, BAD, OTHER = 0, 1, -1
@@ -26,18 +26,20 @@ class Outcome(NamedTuple):
 _YES_WORDS, _NO_WORDS = ("true", "yes", "on"), ("false", "no", "off")
 
 
-def _outcome_key(text: str) -> str:
-    """Outcome text as matched: the YAML words for yes and no stand for one value each."""
-    low = text.lower()
-    return "true" if low in _YES_WORDS else "false" if low in _NO_WORDS else text
-
-
 def _matches(labels: list[str], values) -> np.ndarray:
-    # The config reads ``yes`` as true and ``1.0`` as a float; a column holding the text "yes"
-    # or the integer 1 means the same outcome.
-    wanted = {_outcome_key(str(v).lower() if isinstance(v, bool) else level_labels([v])[0])
-              for v in values}
-    return np.array([_outcome_key(lv) in wanted for lv in labels], dtype=bool)
+    """Which levels ``labels`` an outcome list names.
+
+    Text matches exactly as written: ``'Yes'`` is not ``yes``, ``true`` or ``on``. A number
+    matches the level that reads as it (``1.0`` finds ``1``). An unquoted yes/no word, which
+    YAML reads as true or false, is the config's way of saying "any spelling": it matches
+    every yes word (true, yes, on) or no word (false, no, off) in any case.
+    """
+    exact = {level_labels([v])[0] for v in values if not isinstance(v, bool)}
+    words = set()
+    for v in values:
+        if isinstance(v, bool):
+            words.update(_YES_WORDS if v else _NO_WORDS)
+    return np.array([lv in exact or lv.lower() in words for lv in labels], dtype=bool)
 
 
 def code_outcome(series: pd.Series, bad, good, weight: pd.Series | None = None,
@@ -59,16 +61,6 @@ def code_outcome(series: pd.Series, bad, good, weight: pd.Series | None = None,
     w = np.where(label == OTHER, 0.0, w)
     return Outcome(label, w, float(w[label == GOOD].sum()), float(w[label == BAD].sum()),
                    int((label == OTHER).sum()))
-
-
-def row_number(series: pd.Series, position: int) -> int:
-    """Data row (from 1) of a position in ``series``.
-
-    A chunk of a frame read by :func:`read_frame` keeps the frame's integer index, so the label
-    says where the row is in the whole file, not just in the chunk.
-    """
-    label = series.index[position]
-    return int(label) + 1 if isinstance(label, (int, np.integer)) else position + 1
 
 
 def _weights(series: pd.Series, name: str) -> np.ndarray:

@@ -9,6 +9,7 @@ after the read works on numpy arrays.
 from __future__ import annotations
 
 import codecs
+import re
 from pathlib import Path
 
 import numpy as np
@@ -30,7 +31,8 @@ from scorecard.data.formats import (
 from scorecard.errors import InputError, first_line
 
 
-def read_table(path, columns=None, encoding="utf-8", delimiter=",", sheet=None) -> pa.Table:
+def read_table(path, columns=None, encoding="utf-8", delimiter=",", sheet=None,
+               decimal=".") -> pa.Table:
     """Read a data file (any kind :func:`scorecard.data.formats.data_format` knows) into Arrow.
 
     Files are only ever opened for reading. A CSV whose text does not decode, or whose rows do
@@ -57,7 +59,7 @@ def read_table(path, columns=None, encoding="utf-8", delimiter=",", sheet=None) 
         if kind == "parquet":
             return pq.read_table(path, columns=columns)
         if kind in ("csv", "zip"):
-            return _read_csv(path, columns, encoding, delimiter)
+            return _read_csv(path, columns, encoding, delimiter, decimal)
         if kind == "statistical":
             return read_statistical(path, columns, encoding)
         if kind == "spreadsheet":
@@ -86,7 +88,8 @@ def _csv_options(path: Path, encoding: str, delimiter: str, threads: bool = True
     return read, parse
 
 
-def _read_csv(path: Path, columns, encoding: str, delimiter: str) -> pa.Table:
+def _read_csv(path: Path, columns, encoding: str, delimiter: str, decimal: str = "."
+              ) -> pa.Table:
     if path.stat().st_size == 0:
         raise InputError(f"{path}: the file is empty")
     try:
@@ -97,7 +100,8 @@ def _read_csv(path: Path, columns, encoding: str, delimiter: str) -> pa.Table:
         _refuse_nul_bytes(path)
     read, parse = _csv_options(path, encoding, delimiter)
     convert = pacsv.ConvertOptions(strings_can_be_null=True, auto_dict_encode=True,
-                                   auto_dict_max_cardinality=1 << 16, include_columns=columns)
+                                   auto_dict_max_cardinality=1 << 16, include_columns=columns,
+                                   decimal_point=decimal)
     table = pacsv.read_csv(csv_source(path), read_options=read, parse_options=parse,
                            convert_options=convert)
     _check_text(path, table, encoding)
@@ -202,7 +206,8 @@ def _check_delimiter(path: Path, table: pa.Table, delimiter: str) -> None:
 
 
 
-def read_frame(path, columns=None, encoding="utf-8", delimiter=",", sheet=None) -> pd.DataFrame:
+def read_frame(path, columns=None, encoding="utf-8", delimiter=",", sheet=None,
+               decimal=".") -> pd.DataFrame:
     """Read a data file into pandas; text columns come back as categoricals.
 
     Parameters
@@ -219,6 +224,8 @@ def read_frame(path, columns=None, encoding="utf-8", delimiter=",", sheet=None) 
         Field separator of a CSV file (a .tsv file is always tab-separated).
     sheet : str or int, optional
         The sheet of an .xlsx workbook, by name or position (default: the first).
+    decimal : str, default "."
+        Decimal mark of the numbers in a CSV file ("." or ",").
 
     Returns
     -------
@@ -241,7 +248,7 @@ def read_frame(path, columns=None, encoding="utf-8", delimiter=",", sheet=None) 
     >>> frame["age"].tolist(), column_kind(frame["outcome"])
     ([31, 45], 'categorical')
     """
-    table = read_table(path, columns, encoding, delimiter, sheet)
+    table = read_table(path, columns, encoding, delimiter, sheet, decimal)
     names = table.column_names
     if len(set(names)) != len(names):
         dup = next(n for n in names if names.count(n) > 1)
@@ -272,3 +279,77 @@ def column_kind(series: pd.Series) -> str:
     if pd.api.types.is_bool_dtype(dtype) or pd.api.types.is_numeric_dtype(dtype):
         return "numeric"
     return "categorical"
+
+
+# A whole number, or one with a decimal comma (and no other mark): how numbers look in files
+# written where the comma is the decimal mark.
+_COMMA_NUMBER = re.compile(r"[+-]?\d+(,\d+)?")
+
+
+def decimal_comma_column(series: pd.Series) -> str | None:
+    """A value of a text column whose values are all numbers written with a decimal comma
+    (at least one of them with the comma), else None.
+
+    Examples
+    --------
+    >>> decimal_comma_column(pd.Series(["3060,5", "12", None], dtype="category"))
+    '3060,5'
+    >>> decimal_comma_column(pd.Series(["owner", "12,5"], dtype="category")) is None
+    True
+    """
+    if not isinstance(series.dtype, pd.CategoricalDtype):
+        return None
+    levels = [str(v) for v in series.cat.categories]
+    if not levels or not all(_COMMA_NUMBER.fullmatch(v) for v in levels):
+        return None
+    return next((v for v in levels if "," in v), None)
+
+
+_DELIMITERS = (",", ";", "\t", "|")
+_POINT_NUMBER = re.compile(r"[+-]?\d*\.\d+")
+_COMMA_DECIMAL = re.compile(r"[+-]?\d+,\d+")
+
+
+def sniff_csv(path, encoding: str = "utf-8") -> tuple[str, str]:
+    """The field separator and decimal mark a CSV file seems to use, from its first lines.
+
+    The separator is the one that splits every line into the same number of fields, the most;
+    the decimal mark is a comma when numbers with a comma are found and none with a point.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "rows.csv"
+    >>> _ = path.write_text("age;income;outcome\\n31;1520,5;repaid\\n45;980,0;defaulted\\n")
+    >>> sniff_csv(path)
+    (';', ',')
+    """
+    import csv
+    import io
+
+    path = Path(path)
+    if data_format(path) not in ("csv", "zip") or not path.is_file():
+        return ",", "."
+    source = csv_source(path)
+    try:
+        with (pa.input_stream(source, compression="detect") if isinstance(source, str)
+              else source) as file:
+            head = file.read(1 << 16)
+    except (OSError, pa.ArrowException):
+        return ",", "."
+    text = head.decode(encoding, errors="replace")
+    lines = text.splitlines()[:200]
+    if len(text) >= 1 << 16 and len(lines) > 1:
+        lines = lines[:-1]          # the last line may be cut short
+    if is_tab_separated(path):
+        delimiter = "\t"
+    else:
+        def fields(d):
+            counts = {len(row) for row in csv.reader(lines, delimiter=d)}
+            return max(counts) if len(counts) == 1 else 0
+        delimiter = max(_DELIMITERS, key=lambda d: (fields(d), -_DELIMITERS.index(d)))
+        delimiter = delimiter if fields(delimiter) > 1 else ","
+    values = [v.strip() for row in csv.reader(lines[1:], delimiter=delimiter) for v in row]
+    comma = any(_COMMA_DECIMAL.fullmatch(v) for v in values)
+    point = any(_POINT_NUMBER.fullmatch(v) for v in values)
+    return delimiter, "," if comma and not point else "."

@@ -5,11 +5,12 @@ from __future__ import annotations
 from pathlib import Path
 
 from scorecard.demo.applications import demo_config_text, make_applications
-from scorecard.outputs.atomic import atomic_path, write_text
+from scorecard.outputs.atomic import Output, check_outputs, staged
 
 DATA_FILE = "applications.csv"
 DRIFTED_FILE = "applications_recent_drifted.csv"
 CONFIG_FILE = "scorecard.yaml"
+OUTPUTS = ("out/scorecard.xlsx", "out/scorecard.json")   # output.workbook and output.model
 
 
 def write_demo(directory, rows: int = 20_000, seed: int = 2024) -> Path:
@@ -23,11 +24,12 @@ def write_demo(directory, rows: int = 20_000, seed: int = 2024) -> Path:
     'scorecard.yaml'
     """
     directory = Path(directory)
-    directory.mkdir(parents=True, exist_ok=True)
-    for name, drift, offset in ((DATA_FILE, False, 0), (DRIFTED_FILE, True, 1)):
-        frame = make_applications(rows=rows, seed=seed + offset, drift=drift)
-        with atomic_path(directory / name) as tmp:
-            frame.to_csv(tmp, index=False)
-    config = directory / CONFIG_FILE
-    write_text(config, demo_config_text(DATA_FILE))
-    return config
+    # The build's outputs are checked here too, so that a demo that cannot finish writes nothing.
+    names = (DATA_FILE, DRIFTED_FILE, CONFIG_FILE, OUTPUTS[0], OUTPUTS[1])
+    check_outputs([Output("--dir", directory / name) for name in names], {})
+    with staged([Output("--dir", directory / name) for name in names[:3]]) as out:
+        for name, drift, offset in ((DATA_FILE, False, 0), (DRIFTED_FILE, True, 1)):
+            frame = make_applications(rows=rows, seed=seed + offset, drift=drift)
+            out.write(directory / name, lambda tmp: frame.to_csv(tmp, index=False))
+        out.write_text(directory / CONFIG_FILE, demo_config_text(DATA_FILE))
+    return directory / CONFIG_FILE

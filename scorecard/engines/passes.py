@@ -17,7 +17,7 @@ from typing import NamedTuple
 import numpy as np
 import pandas as pd
 
-from scorecard.binning.fine import NumericLayout, numeric_codes, regular_range
+from scorecard.binning.fine import NumericLayout, numeric_codes, numeric_summary, regular_range
 from scorecard.card.scoring import bin_codes
 from scorecard.data.coding import categorical_codes, level_labels, numeric_values
 from scorecard.data.outcome import BAD, GOOD
@@ -26,6 +26,7 @@ from scorecard.engines.patterns import Patterns, distinct_patterns, merge_distin
 
 N_SAMPLES = 3  # development, holdout, out of time
 MAX_THREADS = 4
+REPORTED = 5     # extreme values reported by row number, per characteristic
 _THREAD_ROWS = 50_000   # below this a chunk is coded faster than threads start
 # Rows per block when laying per-characteristic codes side by side: a block of the code matrix
 # then stays in cache while every column is written into it.
@@ -57,12 +58,13 @@ def _each(fn, items: list, rows: int) -> list:
 
 
 def column_summary(frame: pd.DataFrame, kinds: dict, special_values: dict) -> dict:
-    """Per column: (min, max) of regular numeric values, or the set of categorical levels."""
+    """Per column: a :class:`NumericSummary` of the regular numeric values (range and counts
+    by magnitude), or the set of categorical levels."""
     def one(item):
         name, kind = item
         series = frame[name]
         if kind == "numeric":
-            return name, regular_range(numeric_values(series, name), special_values[name])
+            return name, numeric_summary(numeric_values(series, name), special_values[name])
         cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
         seen = np.bincount(cat.cat.codes.to_numpy() + 1, minlength=len(cat.cat.categories) + 1)
         return name, frozenset(level_labels(cat.cat.categories[seen[1:] > 0]))
@@ -77,8 +79,7 @@ def merge_summaries(a: dict, b: dict) -> dict:
         elif isinstance(value, frozenset):
             out[name] = out[name] | value
         else:
-            lo, hi = out[name]
-            out[name] = (float(np.fmin(lo, value[0])), float(np.fmax(hi, value[1])))
+            out[name] = out[name].merged(value)
     return out
 
 
@@ -103,10 +104,16 @@ class FineCounts(NamedTuple):
     ``table`` has shape (codes, 3, 2): samples as in :data:`scorecard.data.samples.SAMPLE_NAMES`,
     outcomes good then bad. The classing reads the development part; the other samples let a
     characteristic's bins be counted from its fine classes without another pass.
+    ``extremes`` counts the values beyond the layout's extreme bounds, ``extreme_rows`` holds
+    the positions of the first few (from the first row of the counted rows, of which there are
+    ``rows``), so that chunks merge into positions in the whole file.
     """
 
     table: np.ndarray
     development_range: tuple[float, float] | None
+    rows: int = 0
+    extremes: int = 0
+    extreme_rows: tuple[int, ...] = ()
 
     @property
     def goods(self) -> np.ndarray:
@@ -140,10 +147,13 @@ def fine_counts(frame: pd.DataFrame, rows: RowFacts, layouts: dict) -> dict:
         if isinstance(layout, NumericLayout):
             x = numeric_values(series, name)
             table = counted(numeric_codes(x, layout), layout.n_codes)
-            return name, FineCounts(table, regular_range(x, layout.special_values, dev))
+            below, above = layout.extreme
+            far = np.flatnonzero((x < below) | (x > above)) if len(x) else np.empty(0, int)
+            return name, FineCounts(table, regular_range(x, layout.special_values, dev),
+                                    len(x), len(far), tuple(int(i) for i in far[:REPORTED]))
         idx = categorical_codes(series, layout)
         return name, FineCounts(counted(np.where(idx < 0, len(layout), idx), len(layout) + 1),
-                                None)
+                                None, len(idx))
 
     return dict(_each(one, list(layouts.items()), len(frame)))
 
@@ -156,7 +166,9 @@ def merge_fine(a: dict, b: dict) -> dict:
         if fa.development_range is not None:
             rng = (float(np.fmin(fa.development_range[0], fb.development_range[0])),
                    float(np.fmax(fa.development_range[1], fb.development_range[1])))
-        out[name] = FineCounts(fa.table + fb.table, rng)
+        later = tuple(fa.rows + i for i in fb.extreme_rows)
+        out[name] = FineCounts(fa.table + fb.table, rng, fa.rows + fb.rows,
+                               fa.extremes + fb.extremes, (fa.extreme_rows + later)[:REPORTED])
     return out
 
 

@@ -13,7 +13,7 @@ from openpyxl.styles import Alignment
 from openpyxl.worksheet.worksheet import Worksheet
 
 from scorecard.evaluation.comparison import BASELINE, CURRENT, Comparison, SamplePerformance
-from scorecard.outputs.atomic import atomic_path
+from scorecard.outputs.atomic import save_book
 from scorecard.outputs.cautions import CAUTION
 from scorecard.outputs.workbook import style
 from scorecard.outputs.workbook.tables import (
@@ -68,8 +68,7 @@ def write_compare_workbook(comparison: Comparison, path) -> None:
     _write_score_sheet(book.create_sheet(SHEETS[1]), comparison)
     _write_characteristic_sheet(book.create_sheet(SHEETS[2]), comparison)
     _write_performance_sheet(book.create_sheet(SHEETS[3]), comparison)
-    with atomic_path(path) as tmp:
-        book.save(tmp)
+    save_book(book, path)
 
 
 def _write_summary(ws: Worksheet, comparison: Comparison) -> None:

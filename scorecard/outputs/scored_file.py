@@ -38,7 +38,7 @@ from scorecard.data.formats import (
 )
 from scorecard.data.read import csv_source
 from scorecard.errors import InputError, first_line
-from scorecard.outputs.atomic import atomic_path
+from scorecard.outputs.atomic import Output, check_outputs, staged
 
 CHUNK_ROWS = 1 << 18
 CSV_BLOCK_BYTES = 1 << 24
@@ -79,9 +79,9 @@ _CASE_WORDS = {"unseen_levels": "levels not seen in development",
                "out_of_range": "values outside the development range"}
 
 
-def score_file(model, data, out, keep=(), reasons: int = 4, *, reason_text: bool = False,
-               encoding: str = "utf-8", delimiter: str = ",", chunk_rows: int = CHUNK_ROWS,
-               csv_block_bytes: int = CSV_BLOCK_BYTES) -> ScoringSummary:
+def score_file(model, data, out, keep=(), reasons: int | None = None, *,
+               reason_text: bool = False, encoding: str = "utf-8", delimiter: str = ",",
+               chunk_rows: int = CHUNK_ROWS, csv_block_bytes: int = CSV_BLOCK_BYTES) -> ScoringSummary:
     """Score every row of ``data`` with a scorecard and write ``out`` (CSV or Parquet).
 
     Parameters
@@ -92,11 +92,12 @@ def score_file(model, data, out, keep=(), reasons: int = 4, *, reason_text: bool
         CSV file (``.csv``, ``.txt``; ``.tsv`` is tab-separated), Parquet file or folder of
         Parquet files.
     out : path
-        The scored file; ``.csv``/``.tsv`` or ``.parquet``/``.pq``. Written atomically.
+        The scored file; ``.csv``/``.tsv`` or ``.parquet``/``.pq``. Written atomically; it may
+        not be an input (:func:`scorecard.outputs.atomic.check_outputs`).
     keep : sequence of str
         Input columns copied to the front of the output.
-    reasons : int
-        Reason columns per row (0 for none).
+    reasons : int, optional
+        Reason columns per row (0 for none); the scorecard's own number when None.
     reason_text : bool
         Write each reason's text instead of its code.
     encoding, delimiter : str
@@ -130,23 +131,33 @@ def score_file(model, data, out, keep=(), reasons: int = 4, *, reason_text: bool
     3,600,0.019607843137254...,600,"R01"
     <BLANKLINE>
     """
-    card = model if isinstance(model, Scorecard) else load_scorecard(model)
     data, out = Path(data), Path(out)
+    inputs = {"the data": data}
+    if not isinstance(model, Scorecard):
+        inputs["the model file"] = model
+    target = check_outputs([Output("--out", out, OUTPUT_SUFFIXES)], inputs)
+    card = model if isinstance(model, Scorecard) else load_scorecard(model)
+    reasons = card.reasons if reasons is None else reasons
     keep = tuple(keep)
     if reasons < 0:
         raise InputError(f"--reasons {reasons}: must be at least 0")
     if chunk_rows < 1 or csv_block_bytes < 1:
         raise ValueError("chunk_rows and csv_block_bytes must be positive")
-    _check_output(out, data)
     counts = _Counts(card)
     with _open_source(card, data, keep, encoding, delimiter, chunk_rows,
                       csv_block_bytes) as (schema, batches):
         out_schema = scored_schema(card, schema, keep, reasons)
-        with atomic_path(out) as tmp, _open_writer(tmp, out, out_schema) as write:
-            for batch in batches:
-                scored, scores = scored_batch(card, batch, keep, reasons, reason_text, out_schema)
-                write(scored)
-                counts.add(scores)
+
+        def write_rows(tmp: Path) -> None:
+            with _open_writer(tmp, out, out_schema) as write:
+                for batch in batches:
+                    scored, scores = scored_batch(card, batch, keep, reasons, reason_text,
+                                                  out_schema)
+                    write(scored)
+                    counts.add(scores)
+
+        with staged(target) as pending:
+            pending.write("--out", write_rows)
     return counts.summary(out)
 
 
@@ -230,15 +241,6 @@ def _treatment(char, kind: str) -> str:
         return "end range bins" if kind == OUT_OF_RANGE else "no bin"
     b = char.bins[index]
     return "refused" if b.rejected else f"{b.points} points"
-
-
-def _check_output(out: Path, data: Path) -> None:
-    if out.suffix.lower() not in OUTPUT_SUFFIXES:
-        raise InputError(f"{out}: --out must end in .csv, .tsv, .parquet or .pq")
-    target, source = out.resolve(), data.resolve()
-    if target == source or source in target.parents:
-        raise InputError(f"{out}: --out would overwrite or sit inside the data {data}; "
-                         "inputs are never modified")
 
 
 @contextlib.contextmanager

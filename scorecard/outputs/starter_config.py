@@ -10,7 +10,7 @@ import numpy as np
 import pandas as pd
 import yaml
 
-from scorecard.data.read import column_kind, read_frame
+from scorecard.data.read import column_kind, read_frame, sniff_csv
 from scorecard.errors import InputError
 
 IDENTIFIER_SHARE = 0.5   # a text column with more distinct values than this share of rows
@@ -54,7 +54,7 @@ def _scalar(value) -> str:
 
 
 def starter_config(data, target: str, out=None, *, encoding: str = "utf-8",
-                   delimiter: str = ",") -> str:
+                   delimiter: str | None = None, decimal: str | None = None) -> str:
     """YAML text of a starter config for ``data`` with outcome column ``target``.
 
     The outcome's commonest value is proposed as good and the next as bad; every other column
@@ -69,8 +69,9 @@ def starter_config(data, target: str, out=None, *, encoding: str = "utf-8",
         The outcome column.
     out : path, optional
         Where the config will be written; ``data.source`` is made relative to its folder.
-    encoding, delimiter : str
-        How to read a CSV file; written into the config when not the defaults.
+    encoding, delimiter, decimal : str
+        How to read a CSV file; written into the config when not the defaults. The field
+        separator and the decimal mark are found from the file's first lines when not given.
 
     Raises
     ------
@@ -89,7 +90,10 @@ def starter_config(data, target: str, out=None, *, encoding: str = "utf-8",
     data = Path(data)
     if out is not None and data.exists() and Path(out).resolve() == data.resolve():
         raise InputError(f"{out}: --out would overwrite the data {data}; inputs are never modified")
-    frame = read_frame(data, encoding=encoding, delimiter=delimiter)
+    found = sniff_csv(data, encoding)
+    delimiter = found[0] if delimiter is None else delimiter
+    decimal = found[1] if decimal is None else decimal
+    frame = read_frame(data, encoding=encoding, delimiter=delimiter, decimal=decimal)
     if target not in frame.columns:
         hint = difflib.get_close_matches(target, [str(c) for c in frame.columns], n=1)
         raise InputError(f"{data}: column {target}: the target column is not in the data"
@@ -125,6 +129,7 @@ def starter_config(data, target: str, out=None, *, encoding: str = "utf-8",
              "  weight: null",
              *([f"  encoding: {_scalar(encoding)}"] if encoding != "utf-8" else []),
              *([f"  delimiter: {_scalar(delimiter)}"] if delimiter != "," else []),
+             *([f"  decimal: {_scalar(decimal)}"] if decimal != "." else []),
              "  ignore:" + ("" if ignore else " []")]
     lines += [f"    - {_scalar(n)}            # {why}" for n, why in ignore]
     lines += ["  protected: []                # columns never used, examined for fairness",

@@ -10,7 +10,7 @@ from pathlib import Path
 
 from openpyxl import Workbook
 
-from scorecard.outputs.atomic import atomic_path
+from scorecard.outputs.atomic import save_book
 from scorecard.outputs.workbook import calculator, overview, sheets, stability_sheet
 from scorecard.outputs.workbook.manifest import run_manifest
 
@@ -67,6 +67,5 @@ def write_workbook(result, path) -> Path:
     wb.calculation.fullCalcOnLoad = True
     wb.properties.creator = "scorecard"
     path = Path(path)
-    with atomic_path(path) as tmp:
-        wb.save(tmp)
+    save_book(wb, path)
     return path

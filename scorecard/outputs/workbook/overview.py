@@ -87,6 +87,8 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     page.table(frames.samples_frame(samples),
                {"Rows": style.COUNT, "Goods": style.COUNT, "Bads": style.COUNT,
                 "Bad rate": style.PERCENT})
+    for name, what in getattr(result, "extreme_values", {}).items():
+        page.paragraph(f"Warning: column {name}: {what}.", style.BOLD)
 
     page.heading("Scaling")
     s = card.scaling
@@ -101,6 +103,9 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     page.heading("How well the score separates goods from bads")
     page.table(frames.discrimination_frame(result.performance),
                {"AUC": style.MEASURE, "Gini": style.MEASURE, "KS": style.MEASURE})
+    for name, why in getattr(result, "unmeasured", {}).items():
+        page.paragraph(f"Warning: the {name} sample {why}, so its measures are not available.",
+                       style.BOLD)
 
     page.heading(f"Characteristics in the model ({len(card.characteristics)})")
     page.table(card_frames.model_frame(card), {"Information value": style.WOE, "Coefficient": style.WOE,
