@@ -12,8 +12,9 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from scorecard.config import loading as config_module
-from scorecard.config.loading import (
+from scorecard.config import reading as config_module
+from scorecard.config import safe_yaml
+from scorecard.config import (
     BinningConfig,
     CharacteristicOverride,
     Config,
@@ -435,7 +436,7 @@ def test_more_than_one_document():
 
 
 def test_oversized_text_is_refused_before_parsing():
-    message = error_of("#" * (config_module.MAX_CONFIG_CHARACTERS + 1))
+    message = error_of("#" * (safe_yaml.MAX_CONFIG_CHARACTERS + 1))
     assert "characters long" in message and "data file" in message
 
 
