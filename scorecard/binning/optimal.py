@@ -24,9 +24,8 @@ from typing import NamedTuple
 
 import numpy as np
 
+from scorecard.constraints import MAX_BINS, TREND, TRENDS
 from scorecard.errors import InputError
-
-TRENDS = ("auto", "ascending", "descending", "free")
 
 # IV values this close (relative) count as equal, so that rounding in the last bits never
 # decides between partitions that are equal in exact arithmetic.
@@ -83,8 +82,8 @@ def optimal_bins(
     *,
     total_goods=None,
     total_bads=None,
-    trend="auto",
-    max_bins=6,
+    trend=TREND.default,
+    max_bins=MAX_BINS.default,
     min_bin_count=0.0,
     min_bin_goods=0.0,
     min_bin_bads=0.0,
@@ -242,8 +241,8 @@ def _total(value, counts, name):
 
 
 def _max_bins(value):
-    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < 2:
-        raise InputError(f"max_bins: must be a whole number of at least 2; got {value!r}")
+    if not MAX_BINS.allows(value):
+        raise InputError(f"max_bins: must be {MAX_BINS.expected()}; got {value!r}")
     return int(value)
 
 

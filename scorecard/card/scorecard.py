@@ -14,6 +14,7 @@ from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
 from scorecard.card.points import Scaling
+from scorecard.constraints import REASONS
 from scorecard.errors import InputError
 
 FORMAT_VERSION = 1
@@ -107,7 +108,7 @@ class Scorecard:
     characteristics: tuple[Characteristic, ...]
     target: dict = field(default_factory=dict)
     rounding_change: float = 0.0
-    reasons: int = 4                 # reason codes per scored row unless the caller says otherwise
+    reasons: int = REASONS.default                 # reason codes per scored row unless the caller says otherwise
 
     @property
     def names(self) -> tuple[str, ...]:
@@ -186,7 +187,7 @@ def _scorecard_from_dict(raw, source: str) -> Scorecard:
         chars = tuple(_characteristic_from_dict(c) for c in raw["characteristics"])
         card = Scorecard(str(raw["name"]), scale, float(raw["intercept"]), chars,
                          dict(raw.get("target", {})), float(raw.get("rounding_change", 0.0)),
-                         _count(raw.get("reasons", 4), "reasons"))
+                         _count(raw.get("reasons", REASONS.default), "reasons"))
     except (KeyError, TypeError, ValueError) as exc:
         raise InputError(f"{source}: model file is incomplete or malformed ({exc})") from None
     _check_consistent(card, source)

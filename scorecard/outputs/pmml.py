@@ -39,6 +39,7 @@ from scorecard.card.scorecard import (
     Scorecard,
 )
 from scorecard.card.scoring import reason_groups
+from scorecard.constraints import REASONS
 from scorecard.errors import InputError
 from scorecard.outputs.atomic import atomic_path
 
@@ -50,7 +51,7 @@ _NOT_XML = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ud800-\udfff\ufffe\uffff]")
 _NOT_IN_ARRAY = re.compile(r'["\\]')
 
 
-def pmml_document(card: Scorecard, reasons: int = 4) -> ET.ElementTree:
+def pmml_document(card: Scorecard, reasons: int = REASONS.default) -> ET.ElementTree:
     """The PMML 4.4 document of ``card`` with ``reasons`` reason-code output fields.
 
     Examples
@@ -93,7 +94,7 @@ def pmml_document(card: Scorecard, reasons: int = 4) -> ET.ElementTree:
     return tree
 
 
-def write_pmml(card: Scorecard, path, reasons: int = 4) -> None:
+def write_pmml(card: Scorecard, path, reasons: int = REASONS.default) -> None:
     """Write the PMML document of ``card`` to ``path`` (UTF-8), atomically."""
     tree = pmml_document(card, reasons)
     with atomic_path(path) as tmp:

@@ -33,6 +33,7 @@ from scorecard.card.scorecard import (
     Scorecard,
 )
 from scorecard.card.scoring import REFUSED_PREFIX, reason_groups
+from scorecard.constraints import REASONS
 from scorecard.errors import InputError
 from scorecard.outputs.atomic import write_text
 
@@ -81,7 +82,7 @@ def _check_text(value: str, what: str) -> None:
         raise InputError(f"{what} {value!r}: holds a NUL character, which SQL text cannot carry")
 
 
-def scoring_query(card: Scorecard, table: str = "applications", keep=(), reasons: int = 4) -> str:
+def scoring_query(card: Scorecard, table: str = "applications", keep=(), reasons: int = REASONS.default) -> str:
     """The SQL query that scores every row of ``table``.
 
     Parameters
@@ -150,7 +151,7 @@ def scoring_query(card: Scorecard, table: str = "applications", keep=(), reasons
 
 
 def write_sql(card: Scorecard, path, table: str = "applications", keep=(),
-              reasons: int = 4) -> None:
+              reasons: int = REASONS.default) -> None:
     """Write :func:`scoring_query` to ``path`` (UTF-8), atomically."""
     write_text(path, scoring_query(card, table, keep, reasons))
 
