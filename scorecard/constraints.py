@@ -20,7 +20,7 @@ Examples
 >>> MAX_VIF.default, MAX_VIF.interval.describe()
 (5.0, 'above 1')
 >>> TRENDS
-('auto', 'ascending', 'descending', 'free')
+('detect', 'rises', 'falls', 'any')
 """
 
 from __future__ import annotations
@@ -96,6 +96,9 @@ class Setting:
         For a number: True when it must be a whole number.
     choices : tuple of str
         For a word: the words allowed; empty for a number.
+    renamed : tuple of (str, str)
+        For a word: former spellings, each with the word that replaced it, so that a config
+        written with the old word is refused with the new one named.
 
     Examples
     --------
@@ -109,6 +112,7 @@ class Setting:
     interval: Interval | None = None
     whole: bool = False
     choices: tuple[str, ...] = ()
+    renamed: tuple[tuple[str, str], ...] = ()
 
     def allows(self, value: Any) -> bool:
         """True when ``value`` is of the right kind and within the limits."""
@@ -145,7 +149,7 @@ def cutoffs_in_order(watch: float, shift: float) -> bool:
 
 # ---- words ---------------------------------------------------------------------------------
 # How the bad rate must move with the value: found from the data, rising, falling, or any order.
-TRENDS = ("auto", "ascending", "descending", "free")
+TRENDS = ("detect", "rises", "falls", "any")
 KINDS = ("numeric", "categorical")
 METHODS = ("stepwise", "all")
 UNSEEN_ACTIONS = ("neutral", "worst", "reject")
@@ -165,7 +169,8 @@ MAX_BINS = Setting(6, Interval(2), whole=True)
 MIN_BIN_SHARE = Setting(0.05, Interval(0, 0.5, high_open=True))
 MIN_BIN_GOODS = Setting(10, Interval(0), whole=True)
 MIN_BIN_BADS = Setting(10, Interval(0), whole=True)
-TREND = Setting("auto", choices=TRENDS)
+TREND = Setting("detect", choices=TRENDS, renamed=(
+    ("auto", "detect"), ("ascending", "rises"), ("descending", "falls"), ("free", "any")))
 RARE_LEVEL_SHARE = Setting(0.01, Interval(0, 0.5, high_open=True))
 MAX_LEVELS = Setting(50, Interval(2), whole=True)
 

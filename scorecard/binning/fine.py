@@ -69,10 +69,10 @@ def _even_values(minimum: float, maximum: float) -> np.ndarray:
 
 
 class NumericLayout(NamedTuple):
-    """Code layout of a numeric column: grid cells, then missing, then each special value."""
+    """Code layout of a numeric column: grid cells, then missing, then each sentinel."""
 
     cuts: np.ndarray
-    special_values: tuple[float, ...]
+    sentinels: tuple[float, ...]
 
     @property
     def n_cells(self) -> int:
@@ -84,21 +84,21 @@ class NumericLayout(NamedTuple):
 
     @property
     def n_codes(self) -> int:
-        return self.n_cells + 1 + len(self.special_values)
+        return self.n_cells + 1 + len(self.sentinels)
 
 
 def numeric_codes(x: np.ndarray, layout: NumericLayout) -> np.ndarray:
-    """Grid cell of every value; NaN to the missing code, special values to their own codes."""
+    """Grid cell of every value; NaN to the missing code, sentinels to their own codes."""
     codes = grid_cells(x, layout.cuts)
     codes[np.isnan(x)] = layout.missing_code
-    for i, value in enumerate(layout.special_values):
+    for i, value in enumerate(layout.sentinels):
         codes[x == value] = layout.missing_code + 1 + i
     return codes
 
 
-def regular_range(x: np.ndarray, special_values, among: np.ndarray | None = None,
+def regular_range(x: np.ndarray, sentinels, among: np.ndarray | None = None,
                   ) -> tuple[float, float]:
-    """Smallest and largest finite value that is neither missing nor special.
+    """Smallest and largest finite value that is neither missing nor a sentinel.
 
     ``among`` limits the search to the rows where it is true. NaN, NaN when there is none.
 
@@ -110,7 +110,7 @@ def regular_range(x: np.ndarray, special_values, among: np.ndarray | None = None
     (7.0, 7.0)
     """
     regular = np.isfinite(x)
-    for value in special_values:
+    for value in sentinels:
         regular &= x != value
     if among is not None:
         regular &= among

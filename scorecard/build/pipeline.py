@@ -118,7 +118,7 @@ def _layouts(config, kinds, summary, reports):
     for name, kind in kinds.items():
         if kind == "numeric":
             lo, hi = summary[name]
-            layouts[name] = NumericLayout(candidate_cuts(lo, hi), _specials(config, name))
+            layouts[name] = NumericLayout(candidate_cuts(lo, hi), _sentinels(config, name))
         else:
             levels = tuple(sorted(summary[name]))
             if len(levels) > config.binning.max_levels:
@@ -135,15 +135,15 @@ def _too_many_levels(levels, config) -> str:
         texts = [lv for lv, is_number in zip(levels, numeric) if not is_number][:3]
         return (f"numbers mixed with text: {numeric.sum()} of {len(levels)} distinct values are "
                 f"numbers, the others text such as {', '.join(map(repr, texts))}; recode the text "
-                "(to empty, or to a number declared in special_values) and rebuild")
+                "(to empty, or to a number listed in binning.sentinels) and rebuild")
     return (f"identifier-like: {len(levels)} distinct levels "
             f"(more than max_levels {config.binning.max_levels})")
 
 
-def _specials(config, name) -> tuple:
+def _sentinels(config, name) -> tuple:
     override = config.characteristics.get(name)
-    values = override.special_values if override is not None and override.special_values is not None \
-        else config.binning.special_values
+    values = override.sentinels if override is not None and override.sentinels is not None \
+        else config.binning.sentinels
     return tuple(float(v) for v in values)
 
 
@@ -333,8 +333,8 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
                          f"data.good must name values the column holds: {shown}")
     _say(progress, f"outcome coded: {facts.rows_read} rows, {facts.left_out} left out")
 
-    specials = {n: _specials(config, n) for n, k in kinds.items() if k == "numeric"}
-    summary = engine.reduce(lambda c: column_summary(c, kinds, specials), merge_summaries,
+    sentinels = {n: _sentinels(config, n) for n, k in kinds.items() if k == "numeric"}
+    summary = engine.reduce(lambda c: column_summary(c, kinds, sentinels), merge_summaries,
                             columns=list(kinds))
     layouts = _layouts(config, kinds, summary, reports)
     counts = engine.reduce(fine_counts, merge_fine, rows, layouts, columns=list(layouts))

@@ -7,6 +7,7 @@ its line, and it turns a node into a value only when the node's tag is one that 
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from typing import Any, NoReturn
 
 import yaml
@@ -135,11 +136,14 @@ class Source:
         return [(path + (index,), item) for index, item in enumerate(node.value)]
 
     def mapping(self, path: tuple, node: yaml.Node | None,
-                known: tuple[str, ...] | None = None) -> dict[str, yaml.Node]:
+                known: tuple[str, ...] | None = None,
+                renamed: Mapping[str, str] | None = None) -> dict[str, yaml.Node]:
         """Keys of a mapping (merge keys applied) with their value nodes; null is empty.
 
-        Keys outside ``known`` are refused with a suggestion; None accepts any key.
+        Keys outside ``known`` are refused with a suggestion; None accepts any key. A key in
+        ``renamed`` (a former name, mapped to its new one) is refused with the new name.
         """
+        renamed = renamed or {}
         if node is None or is_null(node):
             return {}
         if not isinstance(node, yaml.MappingNode):
@@ -147,14 +151,14 @@ class Source:
         found: dict[str, yaml.Node] = {}
         explicit, merged = self._pairs(path, node)
         for key_node, value_node in explicit:
-            key = self._key(path, key_node, known)
+            key = self._key(path, key_node, known, renamed)
             if key in found:
                 self.fail_at(line_of(key_node), path + (key,),
                              f"is given twice (first at line {self.lines[path + (key,)]})")
             self.record(path + (key,), key_node)
             found[key] = value_node
         for key_node, value_node in merged:
-            key = self._key(path, key_node, known)
+            key = self._key(path, key_node, known, renamed)
             if key not in found:
                 self.record(path + (key,), key_node)
                 found[key] = value_node
@@ -177,10 +181,13 @@ class Source:
                 merged.extend(inner_explicit + inner_merged)
         return explicit, merged
 
-    def _key(self, path: tuple, node: yaml.Node, known: tuple[str, ...] | None) -> str:
+    def _key(self, path: tuple, node: yaml.Node, known: tuple[str, ...] | None,
+             renamed: Mapping[str, str]) -> str:
         if not isinstance(node, yaml.ScalarNode) or is_null(node) or not node.value:
             self.fail_at(line_of(node), path, "has a key that is not plain text")
         key = node.value
+        if key in renamed:
+            self.fail_at(line_of(node), path + (key,), f"renamed; write {renamed[key]}")
         if known is not None and key not in known:
             hint = did_you_mean(key, known) or f"; known keys are {', '.join(known)}"
             self.fail_at(line_of(node), path + (key,), "unknown key" + hint)

@@ -57,7 +57,11 @@ def _out_of_time(source: Source, path: tuple, node: yaml.Node) -> OutOfTime:
 
 _columns = v.list_of(v.text, unique=True)
 _outcomes = v.list_of(v.outcome_value, unique=True, nonempty=True)
-_special_values = v.list_of(v.special_value, unique=True)
+_sentinels = v.list_of(v.sentinel, unique=True)
+
+# Keys of the binning section and of the overrides that were renamed: a config that still uses
+# the old name is refused with the new one, rather than told the key is unknown.
+_RENAMED_KEYS = {"special_values": "sentinels"}
 
 _DATA_SCHEMA = {
     "source": v.text, "target": v.text, "bad": _outcomes, "good": _outcomes,
@@ -73,7 +77,7 @@ _BINNING_SCHEMA = {
     "fine_bins": v.setting(c.FINE_BINS), "max_bins": v.setting(c.MAX_BINS),
     "min_bin_share": v.setting(c.MIN_BIN_SHARE),
     "min_bin_goods": v.setting(c.MIN_BIN_GOODS), "min_bin_bads": v.setting(c.MIN_BIN_BADS),
-    "trend": v.setting(c.TREND), "special_values": _special_values,
+    "trend": v.setting(c.TREND), "sentinels": _sentinels,
     "rare_level_share": v.setting(c.RARE_LEVEL_SHARE),
     "max_levels": v.setting(c.MAX_LEVELS),
 }
@@ -81,7 +85,7 @@ _OVERRIDE_SCHEMA = {
     "kind": v.optional(v.choice(c.KINDS)), "trend": v.optional(v.setting(c.TREND)),
     "cuts": v.optional(v.list_of(v.finite, increasing=True, nonempty=True)),
     "groups": v.optional(v.list_of(v.list_of(v.text, nonempty=True), nonempty=True)),
-    "special_values": v.optional(_special_values), "use": v.flag,
+    "sentinels": v.optional(_sentinels), "use": v.flag,
     "reason": v.optional(v.text), "reason_code": v.optional(v.text),
 }
 _SELECTION_SCHEMA = {
@@ -215,7 +219,7 @@ def _read_samples(source: Source, node: yaml.Node | None) -> SamplesConfig:
 
 
 def _read_binning(source: Source, node: yaml.Node | None) -> BinningConfig:
-    values = v.section(source, ("binning",), node, _BINNING_SCHEMA)
+    values = v.section(source, ("binning",), node, _BINNING_SCHEMA, _RENAMED_KEYS)
     binning = BinningConfig(**values)
     if binning.fine_bins < binning.max_bins:
         key = "fine_bins" if "fine_bins" in values else "max_bins"
@@ -234,7 +238,7 @@ def _read_characteristics(source: Source, node: yaml.Node | None
 
 
 def _read_override(source: Source, path: tuple, node: yaml.Node) -> CharacteristicOverride:
-    values = v.section(source, path, node, _OVERRIDE_SCHEMA)
+    values = v.section(source, path, node, _OVERRIDE_SCHEMA, _RENAMED_KEYS)
     cuts, groups, kind = values.get("cuts"), values.get("groups"), values.get("kind")
     if cuts is not None and groups is not None:
         source.fail(path + ("groups",), "cannot be given with cuts: cuts class a numeric "

@@ -35,7 +35,7 @@ __all__ = [
 ]
 
 OutcomeValue = Union[str, int, float, bool]
-SpecialValue = Union[str, int, float]
+SentinelValue = Union[str, int, float]
 
 K = TypeVar("K")
 V = TypeVar("V")
@@ -154,16 +154,18 @@ class BinningConfig:
     fine_bins : int
         Quantile classes before merging.
     max_bins : int
-        Most classes a numeric characteristic keeps after merging (missing and special values
-        have their own bins on top).
+        Most classes a numeric characteristic keeps after merging (missing values and
+        sentinels have their own bins on top).
     min_bin_share : float
         Smallest share of rows in a merged class.
     min_bin_goods, min_bin_bads : int
         Fewest goods and bads in a merged class.
     trend : str
-        Bad rate against value: ``auto``, ``ascending``, ``descending`` or ``free``.
-    special_values : tuple
-        Values that get a bin of their own, never merged into the numeric range.
+        How the bad rate moves with the value: ``detect`` (found from the data), ``rises``,
+        ``falls`` or ``any`` (no order).
+    sentinels : tuple
+        Values that stand for a fact rather than a quantity (such as -999 for "no credit
+        file"); each gets a bin of its own, never merged into the numeric range.
     rare_level_share : float
         Categorical levels below this share of rows are pooled into one 'other levels' class.
     max_levels : int
@@ -177,7 +179,7 @@ class BinningConfig:
     min_bin_goods: int = c.MIN_BIN_GOODS.default
     min_bin_bads: int = c.MIN_BIN_BADS.default
     trend: str = c.TREND.default
-    special_values: tuple[SpecialValue, ...] = ()
+    sentinels: tuple[SentinelValue, ...] = ()
     rare_level_share: float = c.RARE_LEVEL_SHARE.default
     max_levels: int = c.MAX_LEVELS.default
 
@@ -196,8 +198,8 @@ class CharacteristicOverride:
         Strictly increasing cut points that fix the numeric classes.
     groups : tuple of tuple of str or None
         Levels grouped into classes; no level is in two groups.
-    special_values : tuple or None
-        Replaces ``binning.special_values`` for this characteristic.
+    sentinels : tuple or None
+        Replaces ``binning.sentinels`` for this characteristic.
     use : bool
         False keeps the characteristic out of selection.
     reason : str or None
@@ -210,7 +212,7 @@ class CharacteristicOverride:
     trend: str | None = None
     cuts: tuple[float, ...] | None = None
     groups: tuple[tuple[str, ...], ...] | None = None
-    special_values: tuple[SpecialValue, ...] | None = None
+    sentinels: tuple[SentinelValue, ...] | None = None
     use: bool = True
     reason: str | None = None
     reason_code: str | None = None

@@ -23,20 +23,20 @@ import codecs
 import datetime
 import math
 import re
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from typing import Any
 
 import yaml
 
 from scorecard.config.messages import did_you_mean, display, shorten
 from scorecard.config.nodes import YAML_TAG, Source, describe, is_null, short_tag
-from scorecard.config.schema import OutcomeValue, SpecialValue
+from scorecard.config.schema import OutcomeValue, SentinelValue
 from scorecard.constraints import Interval, Setting
 
 __all__ = [
     "Reader", "choice", "dask_address", "date", "delimiter", "encoding", "finite", "flag",
     "list_of", "number", "optional", "outcome_value", "require", "section", "setting",
-    "special_value", "text", "whole",
+    "sentinel", "text", "whole",
 ]
 
 Reader = Callable[[Source, tuple, yaml.Node], Any]
@@ -150,8 +150,10 @@ def number(interval: Interval) -> Reader:
     return read
 
 
-def choice(options: tuple[str, ...]) -> Reader:
+def choice(options: tuple[str, ...], renamed: tuple[tuple[str, str], ...] = ()) -> Reader:
     """One of the words ``options``, with a suggestion when it is close to one.
+
+    A word in ``renamed`` (old, new) is refused with its new spelling named.
 
     Examples
     --------
@@ -159,10 +161,17 @@ def choice(options: tuple[str, ...]) -> Reader:
     Traceback (most recent call last):
     ...
     scorecard.errors.InputError: lease.yaml: key: must be one of stepwise, all, got 'stepwse'; did you mean 'stepwise'?
+    >>> _example(choice(("rises", "falls"), (("ascending", "rises"),)), "ascending")
+    Traceback (most recent call last):
+    ...
+    scorecard.errors.InputError: lease.yaml: key: 'ascending' is now written 'rises'
     """
+    new_words = dict(renamed)
 
     def read(source: Source, path: tuple, node: yaml.Node) -> str:
         value = source.text(path, node)
+        if value in new_words:
+            source.fail(path, f"'{value}' is now written '{new_words[value]}'")
         if value not in options:
             source.fail(path, f"must be one of {', '.join(options)}, got '{shorten(value)}'"
                               + did_you_mean(value, options))
@@ -181,7 +190,7 @@ def setting(declared: Setting) -> Reader:
     0.05
     """
     if declared.choices:
-        return choice(declared.choices)
+        return choice(declared.choices, declared.renamed)
     interval = declared.interval or Interval()
     return whole(interval) if declared.whole else number(interval)
 
@@ -241,12 +250,14 @@ def outcome_value(source: Source, path: tuple, node: yaml.Node) -> OutcomeValue:
     return value
 
 
-def special_value(source: Source, path: tuple, node: yaml.Node) -> SpecialValue:
-    """A value binned apart: a whole or finite number, or text.
+def sentinel(source: Source, path: tuple, node: yaml.Node) -> SentinelValue:
+    """A sentinel: a value that stands for a fact rather than a quantity, binned apart.
+
+    Such as -999 for "no credit file"; a whole or finite number, or text.
 
     Examples
     --------
-    >>> _example(special_value, "-999"), _example(special_value, "none")
+    >>> _example(sentinel, "-999"), _example(sentinel, "none")
     (-999, 'none')
     """
     tag = short_tag(node)
@@ -326,8 +337,10 @@ def dask_address(source: Source, path: tuple, node: yaml.Node) -> str:
 
 
 def section(source: Source, path: tuple, node: yaml.Node | None,
-            schema: dict[str, Reader]) -> dict[str, Any]:
+            schema: dict[str, Reader], renamed: Mapping[str, str] | None = None) -> dict[str, Any]:
     """The keys present in a mapping, each read by its reader in ``schema``.
+
+    A key in ``renamed`` (old key to new key) is refused with the new key named.
 
     Examples
     --------
@@ -335,7 +348,7 @@ def section(source: Source, path: tuple, node: yaml.Node | None,
     >>> section(source, ("output",), yaml.compose("{model: m.json}"), {"model": text})
     {'model': 'm.json'}
     """
-    found = source.mapping(path, node, tuple(schema))
+    found = source.mapping(path, node, tuple(schema), renamed)
     return {key: schema[key](source, path + (key,), value) for key, value in found.items()}
 
 

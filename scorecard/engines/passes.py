@@ -56,13 +56,13 @@ def _each(fn, items: list, rows: int) -> list:
         return list(pool.map(fn, items))
 
 
-def column_summary(frame: pd.DataFrame, kinds: dict, special_values: dict) -> dict:
+def column_summary(frame: pd.DataFrame, kinds: dict, sentinels: dict) -> dict:
     """Per column: (min, max) of regular numeric values, or the set of categorical levels."""
     def one(item):
         name, kind = item
         series = frame[name]
         if kind == "numeric":
-            return name, regular_range(numeric_values(series, name), special_values[name])
+            return name, regular_range(numeric_values(series, name), sentinels[name])
         cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
         seen = np.bincount(cat.cat.codes.to_numpy() + 1, minlength=len(cat.cat.categories) + 1)
         return name, frozenset(level_labels(cat.cat.categories[seen[1:] > 0]))
@@ -140,7 +140,7 @@ def fine_counts(frame: pd.DataFrame, rows: RowFacts, layouts: dict) -> dict:
         if isinstance(layout, NumericLayout):
             x = numeric_values(series, name)
             table = counted(numeric_codes(x, layout), layout.n_codes)
-            return name, FineCounts(table, regular_range(x, layout.special_values, dev))
+            return name, FineCounts(table, regular_range(x, layout.sentinels, dev))
         idx = categorical_codes(series, layout)
         return name, FineCounts(counted(np.where(idx < 0, len(layout), idx), len(layout) + 1),
                                 None)

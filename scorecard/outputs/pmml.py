@@ -3,7 +3,7 @@
 Every characteristic becomes a ``Characteristic`` whose ``Attribute`` elements hold the points
 (``partialScore``) and a predicate for the bin's rule. PMML takes the first attribute whose
 predicate is true, so the attributes follow the precedence of
-:func:`scorecard.card.scoring.bin_codes`: missing first, then special values, then values outside the
+:func:`scorecard.card.scoring.bin_codes`: missing first, then sentinels, then values outside the
 development range, then the value ranges (or the groups of levels, then unseen levels).
 
 Reason codes use ``reasonCodeAlgorithm="pointsBelow"``: an evaluator pools the points each
@@ -33,7 +33,7 @@ from scorecard.card.scorecard import (
     MISSING,
     OUT_OF_RANGE,
     RANGE,
-    SPECIAL,
+    SENTINEL,
     UNSEEN,
     Characteristic,
     Scorecard,
@@ -143,7 +143,7 @@ def _data_field(parent: ET.Element, char: Characteristic) -> None:
     if _refuses(char, OUT_OF_RANGE) and char.development_range is not None:
         low, high = char.development_range
         where = f"characteristics.{name}.development_range"
-        bounds = [(low, high)] + [(v, v) for v in char.special_values]
+        bounds = [(low, high)] + [(v, v) for v in char.sentinels]
         for lo, hi in bounds:
             ET.SubElement(field, "Interval", {"closure": "closedClosed",
                                               "leftMargin": _number(lo, where),
@@ -248,7 +248,7 @@ def _characteristic(parent: ET.Element, char: Characteristic, baseline: float) -
 
 
 def _in_precedence(char: Characteristic):
-    order = ((MISSING, SPECIAL, OUT_OF_RANGE, RANGE) if char.kind == "numeric"
+    order = ((MISSING, SENTINEL, OUT_OF_RANGE, RANGE) if char.kind == "numeric"
              else (MISSING, LEVELS, UNSEEN))
     return [b for kind in order for b in char.bins if b.kind == kind]
 
@@ -260,7 +260,7 @@ def _predicate(char: Characteristic, b) -> ET.Element:
         return _simple(name, "isMissing")
     if b.kind == UNSEEN or (b.kind == RANGE and b.lower is None and b.upper is None):
         return _simple(name, "isNotMissing")
-    if b.kind == SPECIAL:
+    if b.kind == SENTINEL:
         return _simple(name, "equal", _number(b.value, where))
     if b.kind == OUT_OF_RANGE:
         if char.development_range is None:
