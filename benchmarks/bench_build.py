@@ -136,7 +136,7 @@ def prepare(folder: Path, rows: int, dask_rows: int | None) -> dict:
     return paths
 
 
-def reference_pipeline(frame: pd.DataFrame, special_value=synthetic.SPECIAL_VALUE) -> dict:
+def reference_pipeline(frame: pd.DataFrame, sentinel=synthetic.SENTINEL) -> dict:
     """The plain way: decile bins, crosstab WoE, one Logit on every WoE column, points."""
     import statsmodels.api as sm
 
@@ -149,9 +149,9 @@ def reference_pipeline(frame: pd.DataFrame, special_value=synthetic.SPECIAL_VALU
         if isinstance(column.dtype, pd.CategoricalDtype):
             labels = column.cat.add_categories(["missing"]).fillna("missing")
         else:
-            special = column == special_value
-            deciles = pd.qcut(column.where(~special), 10, duplicates="drop").astype(str)
-            labels = deciles.where(column.notna(), "missing").where(~special, "special")
+            is_sentinel = column == sentinel
+            deciles = pd.qcut(column.where(~is_sentinel), 10, duplicates="drop").astype(str)
+            labels = deciles.where(column.notna(), "missing").where(~is_sentinel, "sentinel")
         table = pd.crosstab(labels, is_bad) + 0.5
         woe = np.log((table[False] / table[False].sum()) / (table[True] / table[True].sum()))
         woe_columns[name] = labels.map(woe).astype(float)

@@ -1,6 +1,6 @@
 """Invented application rows for the benchmarks: many characteristics, many rows, fixed seed.
 
-Twenty numeric characteristics (some with missing values and the special value -999) and ten
+Twenty numeric characteristics (some with missing values and the sentinel -999) and ten
 categorical ones with 3 to 12 levels (some with missing values) drive a logistic risk; the
 outcome is ``bad`` for about 9% of the rows. Rows are made in blocks, each from its own seed,
 so a file of any length is the same whether it is written at once or block by block.
@@ -18,13 +18,13 @@ import pyarrow.parquet as pq
 N_NUMERIC = 20
 N_CATEGORICAL = 10
 BLOCK_ROWS = 250_000
-SPECIAL_VALUE = -999.0
+SENTINEL = -999.0
 # Chosen by trial so that about 9% of the rows are bad.
 BASE_LOG_ODDS = -2.22
 
 
 def _numeric(rng, n, j):
-    """Column j: a value, its effect on the log-odds of bad, missing and special shares."""
+    """Column j: a value, its effect on the log-odds of bad, missing and sentinel shares."""
     shape = j % 4
     if shape == 0:
         x = rng.lognormal(7.5 + 0.05 * j, 0.6, n).round(0)
@@ -40,8 +40,8 @@ def _numeric(rng, n, j):
         effect = 0.02 * (x - 50)
     effect *= 0.15 + 0.05 * (j % 5)
     missing_share = 0.02 + 0.01 * (j % 6)
-    special_share = 0.015 if j % 3 == 0 else 0.0
-    return x, effect, missing_share, special_share
+    sentinel_share = 0.015 if j % 3 == 0 else 0.0
+    return x, effect, missing_share, sentinel_share
 
 
 def block(rows: int, seed: int) -> pd.DataFrame:
@@ -49,13 +49,13 @@ def block(rows: int, seed: int) -> pd.DataFrame:
     rng = np.random.default_rng(seed)
     columns, log_odds = {}, np.full(rows, BASE_LOG_ODDS)
     for j in range(N_NUMERIC):
-        x, effect, missing_share, special_share = _numeric(rng, rows, j)
+        x, effect, missing_share, sentinel_share = _numeric(rng, rows, j)
         draw = rng.random(rows)
         missing = draw < missing_share
-        special = ~missing & (draw < missing_share + special_share)
-        log_odds += np.where(missing, 0.3, np.where(special, 0.6, effect))
+        sentinel = ~missing & (draw < missing_share + sentinel_share)
+        log_odds += np.where(missing, 0.3, np.where(sentinel, 0.6, effect))
         x[missing] = np.nan
-        x[special] = SPECIAL_VALUE
+        x[sentinel] = SENTINEL
         columns[f"number_{j + 1:02d}"] = x
     for j in range(N_CATEGORICAL):
         n_levels = 3 + j % 10
@@ -120,7 +120,7 @@ samples:
   holdout: 0.3
   seed: 2024
 binning:
-  special_values: [-999]
+  sentinels: [-999]
 output:
   workbook: {out}/scorecard.xlsx
   model: {out}/scorecard.json

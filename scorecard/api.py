@@ -11,7 +11,7 @@ from pathlib import Path
 
 from scorecard.build.pipeline import build_scorecard
 from scorecard.build.result import BuildResult
-from scorecard.config.loading import check_columns, load_config
+from scorecard.config import check_columns, load_config
 from scorecard.data.read import read_frame
 from scorecard.engines.local import LocalEngine
 from scorecard.errors import InputError

@@ -238,13 +238,19 @@ CASES = [
                  ["scaling.pdo", "must be a number", "twenty"], id="wrong-type-number"),
     pytest.param(append_config("binning: {max_bins: 2.5}\n"), build, ["binning", "is given twice"],
                  id="section-given-twice"),
-    pytest.param(edit_config("special_values: [-999]", "special_values: [-999]\n  max_bins: 2.5"),
+    pytest.param(edit_config("sentinels: [-999]", "sentinels: [-999]\n  max_bins: 2.5"),
                  build, ["binning.max_bins", "whole number"], id="wrong-type-whole"),
     pytest.param(edit_config("holdout: 0.3", "holdout: 1.5"), build,
                  ["samples.holdout", "below 1"], id="out-of-range-share"),
     pytest.param(edit_config("bad: [defaulted]", "bad: defaulted"), build,
                  ["data.bad", "must be a list"], id="wrong-type-list"),
-    pytest.param(edit_config("{trend: descending}", "{trend: downwards}"), build,
+    pytest.param(edit_config("sentinels: [-999]", "special_values: [-999]"), build,
+                 ["binning.special_values", "renamed; write sentinels", "(line "],
+                 id="renamed-key-special-values"),
+    pytest.param(edit_config("{trend: falls}", "{trend: descending}"), build,
+                 ["characteristics.months_at_address.trend", "'descending' is now written 'falls'",
+                  "(line "], id="renamed-trend-word"),
+    pytest.param(edit_config("{trend: falls}", "{trend: downwards}"), build,
                  ["characteristics.months_at_address.trend", "must be one of"], id="bad-choice"),
     pytest.param(edit_config("  source: applications.csv\n", ""), build,
                  ["data.source", "is required but missing"], id="required-key-missing"),
@@ -316,23 +322,23 @@ CASES = [
                  build, ["column bike_price", "row 7", "inf"], id="weight-infinite"),
     pytest.param(edit_config("weight: null", "weight: housing"), build,
                  ["column housing", "weights must be numbers"], id="weight-text"),
-    pytest.param(edit_config("months_at_address: {trend: descending}",
-                             "months_at_adress: {trend: descending}"), build,
+    pytest.param(edit_config("months_at_address: {trend: falls}",
+                             "months_at_adress: {trend: falls}"), build,
                  ["characteristics.months_at_adress", "did you mean 'months_at_address'"],
                  id="override-absent-column"),
-    pytest.param(edit_config("{trend: descending}", "{cuts: [24, 12]}"), build,
+    pytest.param(edit_config("{trend: falls}", "{cuts: [24, 12]}"), build,
                  ["characteristics.months_at_address.cuts[1]", "larger than the value before"],
                  id="cuts-unsorted"),
-    pytest.param(edit_config("{trend: descending}", "{cuts: [12, 100000]}"), build,
+    pytest.param(edit_config("{trend: falls}", "{cuts: [12, 100000]}"), build,
                  ["characteristics.months_at_address.cuts", "development range"], id="cuts-outside-data"),
-    pytest.param(edit_config("weekly_delivery_hours: {trend: free}",
+    pytest.param(edit_config("weekly_delivery_hours: {trend: any}",
                              "housing: {groups: [[owner, renter], [renter, family, other, mortgage]]}"),
                  build, ["characteristics.housing.groups[1][0]", "'renter' is already listed"],
                  id="groups-overlap"),
-    pytest.param(edit_config("weekly_delivery_hours: {trend: free}",
+    pytest.param(edit_config("weekly_delivery_hours: {trend: any}",
                              "housing: {groups: [[owner, mortgage], [renter]]}"),
                  build, ["characteristics.housing.groups", "in no group"], id="groups-miss-levels"),
-    pytest.param(edit_config("weekly_delivery_hours: {trend: free}", "housing: {kind: numeric}"),
+    pytest.param(edit_config("weekly_delivery_hours: {trend: any}", "housing: {kind: numeric}"),
                  build, ["column housing", "expected numbers"], id="text-column-declared-numeric"),
     pytest.param(set_cell("decided_on", 5, "yesterday"), build,
                  ["column decided_on", "row 5", "'yesterday' is not a date"], id="date-does-not-parse"),
@@ -477,3 +483,12 @@ def test_a_parquet_folder_with_rows_builds(case, tmp_path):
                                        "--model", str(model), "--workbook", str(tmp_path / "w.xlsx")])
     assert result.exit_code == 0, result.stderr
     assert model.exists()
+
+
+def test_an_old_setting_name_names_the_new_one_and_its_line(case):
+    edit_config("sentinels: [-999]", "special_values: [-999]")(case)
+    line = yaml_line(case, "special_values: [-999]")
+    result = CliRunner().invoke(main, build(case))
+    assert result.exit_code == 2
+    assert result.stderr.splitlines() == [
+        f"error: {case / CONFIG}: binning.special_values: renamed; write sentinels (line {line})"]

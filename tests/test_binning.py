@@ -11,7 +11,7 @@ from scorecard.binning.coarse import (
     class_numeric,
 )
 from scorecard.binning.fine import NumericLayout
-from scorecard.card.scorecard import LEVELS, MISSING, RANGE, SPECIAL
+from scorecard.card.scorecard import LEVELS, MISSING, RANGE, SENTINEL
 from scorecard.errors import InputError
 
 LIMITS = Limits(max_bins=4, min_count=50, min_goods=5, min_bads=5)
@@ -34,24 +34,24 @@ def _numeric_counts(seed=0):
     return layout, goods, bads
 
 
-def test_numeric_bins_are_monotone_and_missing_and_specials_stay_apart():
+def test_numeric_bins_are_monotone_and_missing_and_sentinels_stay_apart():
     layout, goods, bads = _numeric_counts()
-    out = class_numeric("x", layout, goods, bads, fine_bins=20, trend="auto", limits=LIMITS,
+    out = class_numeric("x", layout, goods, bads, fine_bins=20, trend="detect", limits=LIMITS,
                         development_range=(0.0, 100.0))
-    assert out.trend == "ascending" and out.reason == ""
+    assert out.trend == "rises" and out.reason == ""
     kinds = [b.kind for b in out.draft.bins]
     ranges = kinds.count(RANGE)
     assert 2 <= ranges <= LIMITS.max_bins
-    # Special values the development rows never take get no bin (-1 here).
-    assert kinds[ranges:] == [MISSING, SPECIAL]
-    assert out.draft.special_values == (-999.0,)
+    # Sentinels the development rows never take get no bin (-1 here).
+    assert kinds[ranges:] == [MISSING, SENTINEL]
+    assert out.draft.sentinels == (-999.0,)
     assert list(out.draft.cuts) == sorted(out.draft.cuts)
     assert set(out.draft.cuts) <= set(layout.cuts)
 
 
 def test_manual_cuts_override_the_optimiser():
     layout, goods, bads = _numeric_counts()
-    out = class_numeric("x", layout, goods, bads, fine_bins=20, trend="auto", limits=LIMITS,
+    out = class_numeric("x", layout, goods, bads, fine_bins=20, trend="detect", limits=LIMITS,
                         development_range=(0.0, 100.0), manual_cuts=(25.5, 60.0))
     assert out.trend == "manual"
     assert out.draft.cuts == (25.5, 60.0)
@@ -62,7 +62,7 @@ def test_a_single_value_cannot_form_two_bins_and_says_so():
     layout = NumericLayout(np.array([1.0, 2.0]), ())
     goods = np.array([0, 500, 0, 0], dtype=float)
     bads = np.array([0, 50, 0, 0], dtype=float)
-    out = class_numeric("x", layout, goods, bads, fine_bins=10, trend="auto", limits=LIMITS,
+    out = class_numeric("x", layout, goods, bads, fine_bins=10, trend="detect", limits=LIMITS,
                         development_range=(1.0, 1.0))
     assert out.draft is None and "cannot form two bins" in out.reason
 

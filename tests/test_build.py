@@ -70,9 +70,9 @@ def test_bins_meet_the_limits_and_follow_the_trend(demo_build):
             assert x.goods >= b.min_bin_goods and x.bads >= b.min_bin_bads
         rates = np.array([x.bads / x.count for x in ordered])
         woe = np.array([x.woe for x in ordered])
-        if rep.trend == "ascending":
+        if rep.trend == "rises":
             assert np.all(np.diff(rates) > 0) and np.all(np.diff(woe) < 0)
-        elif rep.trend == "descending":
+        elif rep.trend == "falls":
             assert np.all(np.diff(rates) < 0) and np.all(np.diff(woe) > 0)
 
 

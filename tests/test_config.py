@@ -12,8 +12,9 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from scorecard.config import loading as config_module
-from scorecard.config.loading import (
+from scorecard.config import reading as config_module
+from scorecard.config import safe_yaml
+from scorecard.config import (
     BinningConfig,
     CharacteristicOverride,
     Config,
@@ -70,10 +71,10 @@ DESIGN_EXAMPLE = dedent(
       min_bin_share: 0.05
       min_bin_goods: 10
       min_bin_bads: 10
-      trend: auto                                 # auto | ascending | descending | free (bad rate vs value)
-      special_values: [-999]
+      trend: detect                               # detect | rises | falls | any (bad rate vs value)
+      sentinels: [-999]
     characteristics:                              # per-characteristic overrides
-      months_at_address: {trend: descending}
+      months_at_address: {trend: falls}
       utilisation: {cuts: [0.25, 0.5, 0.9]}
       housing: {kind: categorical, groups: [[owner, mortgage], [renter], [family, other]]}
       phone_contract: {use: false}
@@ -149,9 +150,9 @@ def test_design_example_parses_to_the_values_it_states():
         ),
         samples=SamplesConfig(holdout=0.3, seed=2024, out_of_time=None),
         binning=BinningConfig(fine_bins=40, max_bins=6, min_bin_share=0.05, min_bin_goods=10,
-                              min_bin_bads=10, trend="auto", special_values=(-999,)),
+                              min_bin_bads=10, trend="detect", sentinels=(-999,)),
         characteristics=FrozenMapping({
-            "months_at_address": CharacteristicOverride(trend="descending"),
+            "months_at_address": CharacteristicOverride(trend="falls"),
             "utilisation": CharacteristicOverride(kind="numeric", cuts=(0.25, 0.5, 0.9)),
             "housing": CharacteristicOverride(
                 kind="categorical",
@@ -187,7 +188,7 @@ def test_minimal_config_takes_every_default():
     assert config.samples == SamplesConfig(holdout=0.3, seed=2024, out_of_time=None)
     assert config.binning == BinningConfig(
         fine_bins=40, max_bins=6, min_bin_share=0.05, min_bin_goods=10, min_bin_bads=10,
-        trend="auto", special_values=(), rare_level_share=0.01, max_levels=50)
+        trend="detect", sentinels=(), rare_level_share=0.01, max_levels=50)
     assert dict(config.characteristics) == {}
     assert config.selection == SelectionConfig(
         min_iv=0.02, max_correlation=0.6, max_vif=5.0, method="stepwise", entry_p_value=0.05,
@@ -208,7 +209,7 @@ def test_minimal_config_takes_every_default():
 def test_override_defaults_mean_use_the_binning_settings():
     config = parse(MINIMAL + "characteristics:\n  age:\n  income: {}\n")
     assert config.characteristics["age"] == CharacteristicOverride(
-        kind=None, trend=None, cuts=None, groups=None, special_values=None, use=True,
+        kind=None, trend=None, cuts=None, groups=None, sentinels=None, use=True,
         reason=None, reason_code=None)
     assert config.characteristics["income"] == config.characteristics["age"]
 
@@ -304,7 +305,7 @@ def test_engine_forms():
 
 def test_kind_is_implied_by_cuts_or_groups():
     text = MINIMAL + ("characteristics:\n  a: {cuts: [1, 2]}\n  b: {groups: [[x]]}\n"
-                      "  c: {trend: free}\n")
+                      "  c: {trend: any}\n")
     kinds = {name: item.kind for name, item in parse(text).characteristics.items()}
     assert kinds == {"a": "numeric", "b": "categorical", "c": None}
 
@@ -319,16 +320,16 @@ def test_aliases_and_merge_keys_are_followed():
     text = MINIMAL + dedent(
         """\
         characteristics:
-          age: &numeric {trend: ascending, special_values: [-1, -2]}
-          income: {<<: *numeric, cuts: [1000, 2000], trend: free}
+          age: &numeric {trend: rises, sentinels: [-1, -2]}
+          income: {<<: *numeric, cuts: [1000, 2000], trend: any}
           tenure: *numeric
         """
     )
     overrides = parse(text).characteristics
     assert overrides["income"] == CharacteristicOverride(
-        kind="numeric", trend="free", cuts=(1000.0, 2000.0), special_values=(-1, -2))
+        kind="numeric", trend="any", cuts=(1000.0, 2000.0), sentinels=(-1, -2))
     assert overrides["tenure"] == overrides["age"] == CharacteristicOverride(
-        trend="ascending", special_values=(-1, -2))
+        trend="rises", sentinels=(-1, -2))
 
 
 def test_config_objects_are_immutable_hashable_and_picklable():
@@ -435,7 +436,7 @@ def test_more_than_one_document():
 
 
 def test_oversized_text_is_refused_before_parsing():
-    message = error_of("#" * (config_module.MAX_CONFIG_CHARACTERS + 1))
+    message = error_of("#" * (safe_yaml.MAX_CONFIG_CHARACTERS + 1))
     assert "characters long" in message and "data file" in message
 
 
@@ -568,10 +569,10 @@ def test_missing_required_key_points_at_its_section():
         ("selection: {min_iv: .nan}", "selection.min_iv", "min_iv", "must be a finite number"),
         ("selection: {max_vif: .inf}", "selection.max_vif", "max_vif", "must be a finite number"),
         ("selection: {keep: age}", "selection.keep", "keep", "must be a list, got 'age'"),
-        ("binning: {trend: [auto]}", "binning.trend", "trend", "must be text, got a list"),
-        ("binning: {special_values: -999}", "binning.special_values", "special_values",
+        ("binning: {trend: [detect]}", "binning.trend", "trend", "must be text, got a list"),
+        ("binning: {sentinels: -999}", "binning.sentinels", "sentinels",
          "must be a list"),
-        ("binning: {special_values: [true]}", "binning.special_values[0]", "special_values",
+        ("binning: {sentinels: [true]}", "binning.sentinels[0]", "sentinels",
          "must be a number or text, got the yes/no value true"),
         ("characteristics:\n  age: {use: 'no'}", "characteristics.age.use", "use",
          "must be yes/no (true or false), got 'no'"),
@@ -641,10 +642,10 @@ def test_wrong_data_values(key, value, fragment):
         ("binning: {max_levels: 1}", "binning.max_levels", "max_levels", "at least 2"),
         ("binning: {min_bin_bads: -1}", "binning.min_bin_bads", "min_bin_bads", "at least 0"),
         ("binning: {trend: upward}", "binning.trend", "trend",
-         "must be one of auto, ascending, descending, free, got 'upward'"),
-        ("binning: {trend: ascnding}", "binning.trend", "trend", "did you mean 'ascending'?"),
-        ("binning: {special_values: [-999, -998, -999]}", "binning.special_values[2]",
-         "special_values", "'-999' is already listed at binning.special_values[0]"),
+         "must be one of detect, rises, falls, any, got 'upward'"),
+        ("binning: {trend: rses}", "binning.trend", "trend", "did you mean 'rises'?"),
+        ("binning: {sentinels: [-999, -998, -999]}", "binning.sentinels[2]",
+         "sentinels", "'-999' is already listed at binning.sentinels[0]"),
         ("samples: {holdout: 0}", "samples.holdout", "holdout", "must be above 0 and below 1"),
         ("samples: {holdout: 1}", "samples.holdout", "holdout", "got 1"),
         ("samples: {holdout: 1.5}", "samples.holdout", "holdout", "got 1.5"),
@@ -768,7 +769,7 @@ def test_impossible_data(replaced, key, marker, fragment):
     ],
 )
 def test_reserved_column_listed_under_characteristics(data_line, reserved_by):
-    text = MINIMAL + (f"  {data_line}\ncharacteristics:\n  age: {{trend: free}}\n"
+    text = MINIMAL + (f"  {data_line}\ncharacteristics:\n  age: {{trend: any}}\n"
                       "  sex: {use: false}\n")
     assert_error(text, "characteristics.sex", line_of(text, "sex: {"),
                  f"'sex' is named in {reserved_by}, so it is never a characteristic")
@@ -803,7 +804,7 @@ COLUMN_CONFIG = dedent(
     samples:
       out_of_time: {column: decided_on, from: 2025-07-01}
     characteristics:
-      age: {trend: descending}
+      age: {trend: falls}
     selection:
       keep:
         - income
@@ -888,3 +889,43 @@ def test_bin_counts_are_accepted_exactly_when_possible(fine_bins, max_bins):
     else:
         with pytest.raises(InputError, match=r"binning\.(fine|max)_bins"):
             parse(text)
+
+
+# ---- renamed settings: the old spelling is refused with the new one ---------------------------
+
+
+@pytest.mark.parametrize("old, new", [
+    ("auto", "detect"), ("ascending", "rises"), ("descending", "falls"), ("free", "any"),
+])
+def test_an_old_trend_word_is_refused_with_its_new_spelling(old, new):
+    text = MINIMAL + f"binning:\n  max_bins: 5\n  trend: {old}\n"
+    assert error_of(text) == (f"{FILE}: binning.trend: '{old}' is now written '{new}' "
+                              f"(line {line_of(text, 'trend:')})")
+    text = MINIMAL + f"characteristics:\n  age:\n    trend: {old}\n"
+    assert error_of(text) == (f"{FILE}: characteristics.age.trend: '{old}' is now written "
+                              f"'{new}' (line {line_of(text, 'trend:')})")
+
+
+def test_special_values_is_refused_with_its_new_name():
+    text = MINIMAL + "binning:\n  max_bins: 5\n  special_values: [-999]\n"
+    assert error_of(text) == (f"{FILE}: binning.special_values: renamed; write sentinels "
+                              f"(line {line_of(text, 'special_values')})")
+    text = MINIMAL + "characteristics:\n  age: {cuts: [1, 2], special_values: [-1]}\n"
+    assert error_of(text) == (f"{FILE}: characteristics.age.special_values: renamed; write "
+                              f"sentinels (line {line_of(text, 'special_values')})")
+
+
+def test_the_new_names_are_read():
+    text = MINIMAL + dedent(
+        """\
+        binning: {trend: rises, sentinels: [-999, none]}
+        characteristics:
+          age: {trend: any, sentinels: [-1]}
+          tenure: {trend: falls}
+        """
+    )
+    config = parse(text)
+    assert config.binning.trend == "rises" and config.binning.sentinels == (-999, "none")
+    assert config.characteristics["age"] == CharacteristicOverride(trend="any", sentinels=(-1,))
+    assert config.characteristics["tenure"].trend == "falls"
+    assert parse(MINIMAL).binning.trend == "detect"

@@ -80,7 +80,7 @@ def classes(base, other=None):
 
     Numeric columns with many values are cut at the deciles of ``base``; other columns keep
     their levels, with levels under 1% of ``base`` (or absent from it) folded into one class
-    so that no class is empty of goods or bads. Missing values and the special value are classes of their own.
+    so that no class is empty of goods or bads. Missing values and the sentinel are classes of their own.
     """
     plain = base.where(base != NO_CREDIT_FILE) if pd.api.types.is_numeric_dtype(base) else base
     if pd.api.types.is_numeric_dtype(base) and base.nunique() > 12:
@@ -97,7 +97,7 @@ def classes(base, other=None):
             return series.astype(str).where(series.isin(frequent), "rare")
 
     def with_own_classes(series):
-        return label(series).where(series.notna(), "missing").where(series != NO_CREDIT_FILE, "special")
+        return label(series).where(series.notna(), "missing").where(series != NO_CREDIT_FILE, "sentinel")
 
     if other is None:
         return with_own_classes(base)
@@ -186,7 +186,7 @@ def test_every_sample_stays_within_the_designed_ranges(rows, seed, drift):
         assert (frame[column] != NO_CREDIT_FILE).all(), column
 
 
-# Outcome, missing values and special values
+# Outcome, missing values and sentinels
 
 
 def test_bad_rate_and_indeterminate_share(development):
@@ -392,10 +392,10 @@ def test_config_samples_binning_and_overrides(config):
         "seed": 2024,
         "out_of_time": {"column": "decided_on", "from": datetime.date(2025, 7, 1)},
     }
-    assert config["binning"] == {"special_values": [NO_CREDIT_FILE]}
+    assert config["binning"] == {"sentinels": [NO_CREDIT_FILE]}
     assert config["characteristics"] == {
-        "months_at_address": {"trend": "descending"},
-        "weekly_delivery_hours": {"trend": "free"},
+        "months_at_address": {"trend": "falls"},
+        "weekly_delivery_hours": {"trend": "any"},
     }
 
 

@@ -24,7 +24,7 @@ from scorecard.card.scorecard import (
     MISSING,
     OUT_OF_RANGE,
     RANGE,
-    SPECIAL,
+    SENTINEL,
     UNSEEN,
     Bin,
     Characteristic,
@@ -58,7 +58,7 @@ def scored_demo(demo_config_path, demo_build, tmp_path_factory):
 
 
 def _card_with_every_rule() -> Scorecard:
-    """A hand-built card: specials, out-of-range and refused bins, shared and tied reason codes,
+    """A hand-built card: sentinels, out-of-range and refused bins, shared and tied reason codes,
     hostile names and levels."""
     s = scaling(600, 50, 20)
     odd = 'x"; DROP TABLE applications; --'
@@ -66,9 +66,9 @@ def _card_with_every_rule() -> Scorecard:
         Bin("< 0.30000000000000004", RANGE, 30, 10, -0.2, 10, upper=0.1 + 0.2),
         Bin(">= 0.30000000000000004", RANGE, 40, 5, 0.3, 40, lower=0.1 + 0.2),
         Bin("missing", MISSING, 10, 5, 0.0, 25),
-        Bin("special value -999", SPECIAL, 10, 5, 0.0, 5, value=-999.0),
+        Bin("sentinel -999", SENTINEL, 10, 5, 0.0, 5, value=-999.0),
         Bin("outside", OUT_OF_RANGE, 0, 0, 0.0, 0, rejected=True)),
-        1.0, "R_SHARED", "first", cuts=(0.1 + 0.2,), special_values=(-999.0,),
+        1.0, "R_SHARED", "first", cuts=(0.1 + 0.2,), sentinels=(-999.0,),
         development_range=(0.0, 10.0))
     levels = Characteristic("home <&> 'type'", "categorical", (
         Bin("a", LEVELS, 30, 5, 0.4, 30, levels=("owner's", 'say "hi"', "back\\slash")),

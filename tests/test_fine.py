@@ -95,14 +95,14 @@ def test_grid_for_a_unit_range_has_even_steps_and_two_figure_values():
     assert 0.0013 in cuts and 0.00131 not in cuts
 
 
-def test_numeric_codes_put_missing_and_special_values_in_their_own_codes():
+def test_numeric_codes_put_missing_and_sentinels_in_their_own_codes():
     layout = NumericLayout(np.array([0.0, 10.0, 20.0]), (-999.0, -1.0))
     x = np.array([-5.0, 0.0, 15.0, 20.0, 99.0, np.nan, -999.0, -1.0])
     assert numeric_codes(x, layout).tolist() == [0, 1, 2, 3, 3, 4, 5, 6]
     assert layout.n_codes == 7
 
 
-def test_regular_range_skips_missing_special_and_infinite_values():
+def test_regular_range_skips_missing_sentinel_and_infinite_values():
     x = np.array([np.nan, -999.0, 4.0, -np.inf, 2.5, 9.0, np.inf])
     assert regular_range(x, (-999.0,)) == (2.5, 9.0)
     assert regular_range(x, (-999.0,), among=np.array([1, 1, 1, 1, 0, 0, 1], bool)) == (4.0, 4.0)
@@ -132,9 +132,9 @@ def test_summaries_merged_over_chunks_give_the_whole_grid(seed, chunk_rows):
     x[rng.random(n) < 0.05] = -999.0
     levels = np.array(["a", "b", "c", "d"])[rng.integers(0, 4, n)]
     frame = pd.DataFrame({"x": x, "g": pd.Categorical(levels)})
-    kinds, specials = {"x": "numeric", "g": "categorical"}, {"x": (-999.0,)}
-    whole = column_summary(frame, kinds, specials)
-    parts = [column_summary(frame.iloc[a:a + chunk_rows], kinds, specials)
+    kinds, sentinels = {"x": "numeric", "g": "categorical"}, {"x": (-999.0,)}
+    whole = column_summary(frame, kinds, sentinels)
+    parts = [column_summary(frame.iloc[a:a + chunk_rows], kinds, sentinels)
              for a in range(0, n, chunk_rows)]
     merged = parts[0]
     for part in parts[1:]:

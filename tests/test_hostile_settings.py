@@ -11,7 +11,6 @@ from __future__ import annotations
 
 import re
 
-import pytest
 
 from cli_harness import (CONFIG, DATA, add_override, assert_done, assert_refused, case,
                          column_values, demo_folder, edit_config, edit_rows, run, sentinel_key,

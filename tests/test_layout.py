@@ -18,7 +18,7 @@ PACKAGE = Path(scorecard.__file__).parent
 
 # Each top-level module or sub-package of scorecard, by stage; equal numbers may import each other.
 STAGES = {
-    "__init__": 0, "errors": 0, "progress": 0, "measures": 0,
+    "__init__": 0, "errors": 0, "progress": 0, "constraints": 0, "measures": 0,
     "config": 1,
     "data": 2,
     "card": 3,

@@ -43,3 +43,18 @@ def test_unreadable_model_file(tmp_path):
         load_scorecard(bad)
     with pytest.raises(InputError, match="cannot read"):
         load_scorecard(tmp_path / "absent.json")
+
+
+def test_a_model_file_written_before_sentinels_were_so_named_still_loads(demo_build):
+    card = demo_build.card
+    with_sentinel = [c for c in card.characteristics if c.sentinels]
+    assert with_sentinel, "the demo card should keep -999 in late_payments_12m apart"
+    raw = json.loads(card.to_json())
+    assert all("special_values" not in c for c in raw["characteristics"])
+    for char in raw["characteristics"]:
+        # The earlier spelling: the key special_values and bins of kind "special".
+        char["special_values"] = char.pop("sentinels")
+        for bin_ in char["bins"]:
+            if bin_["kind"] == "sentinel":
+                bin_["kind"] = "special"
+    assert Scorecard.from_json(json.dumps(raw), "old.json") == card

@@ -256,13 +256,13 @@ def test_whole_number_outcomes_match_a_decimal_in_the_config(tmp_path):
         (frame["y"] == 1).sum()
 
 
-def test_a_column_of_only_special_values_and_gaps_is_not_binned(tmp_path):
+def test_a_column_of_only_sentinels_and_gaps_is_not_binned(tmp_path):
     frame = make_frame()
     frame["bureau"] = np.where(np.arange(len(frame)) % 3 == 0, np.nan, -999.0)
-    result = build(via_csv(frame, tmp_path), tmp_path, "binning: {special_values: [-999]}\n")
+    result = build(via_csv(frame, tmp_path), tmp_path, "binning: {sentinels: [-999]}\n")
     rep = report(result, "bureau")
     assert rep.status == "not binned"
-    assert rep.reason == "no values besides missing and special values"
+    assert rep.reason == "no values besides missing values and sentinels"
 
 
 def test_a_yes_no_column_is_a_two_bin_characteristic(tmp_path):

@@ -12,7 +12,7 @@ from scipy.optimize import isotonic_regression
 from scorecard.binning.optimal import Coarsening, bin_of_fine_class, optimal_bins
 from scorecard.errors import InputError
 
-MONOTONE = ("ascending", "descending")
+MONOTONE = ("rises", "falls")
 
 
 # --- an independent, exhaustive reference ---------------------------------------------------
@@ -31,9 +31,9 @@ def meets(bins, trend, max_bins, min_count=0.0, min_goods=0.0, min_bads=0.0):
             return False
     rates = [b / (g + b) for g, b in bins]
     pairs = list(zip(rates, rates[1:]))
-    if trend == "ascending":
+    if trend == "rises":
         return all(left < right for left, right in pairs)
-    if trend == "descending":
+    if trend == "falls":
         return all(left > right for left, right in pairs)
     return True
 
@@ -88,7 +88,7 @@ def check_against_brute_force(case, trend):
         "min_bads": case["min_bin_bads"],
     }
     common = (case["max_bins"], case["total_goods"], case["total_bads"])
-    directions = MONOTONE if trend == "auto" else (trend,)
+    directions = MONOTONE if trend == "detect" else (trend,)
     bests = {
         d: brute_best(case["goods"], case["bads"], d, *common, **limits) for d in directions
     }
@@ -108,13 +108,13 @@ def check_against_brute_force(case, trend):
     assert iv_of(bins, case["total_goods"], case["total_bads"]) == pytest.approx(
         result.iv, rel=1e-12, abs=1e-15
     )
-    if trend == "auto":
+    if trend == "detect":
         assert bests[result.trend] == pytest.approx(max(found), rel=1e-9, abs=1e-12)
     else:
         assert result.trend == trend
 
 
-@pytest.mark.parametrize("trend", ["ascending", "descending", "free", "auto"])
+@pytest.mark.parametrize("trend", ["rises", "falls", "any", "detect"])
 @settings(max_examples=80, deadline=None)
 @given(case=small_cases())
 def test_matches_exhaustive_search(case, trend):
@@ -122,7 +122,7 @@ def test_matches_exhaustive_search(case, trend):
 
 
 @pytest.mark.parametrize("seed", range(6))
-@pytest.mark.parametrize("trend", ["ascending", "descending", "free", "auto"])
+@pytest.mark.parametrize("trend", ["rises", "falls", "any", "detect"])
 def test_matches_exhaustive_search_seeded(seed, trend):
     rng = np.random.default_rng(seed)
     goods = rng.integers(1, 60, size=9).astype(float).tolist()
@@ -160,7 +160,7 @@ def larger_cases(draw):
 
 
 @settings(max_examples=60, deadline=None)
-@given(case=larger_cases(), trend=st.sampled_from(["ascending", "descending", "free", "auto"]))
+@given(case=larger_cases(), trend=st.sampled_from(["rises", "falls", "any", "detect"]))
 def test_invariants(case, trend):
     result = optimal_bins(**case, trend=trend)
     assert isinstance(result, Coarsening)
@@ -180,12 +180,12 @@ def test_invariants(case, trend):
     assert np.all(g >= case["min_bin_goods"]) and np.all(b >= case["min_bin_bads"])
     woe = np.log((g / g.sum()) / (b / b.sum()))
     rate = b / (g + b)
-    if result.trend == "ascending":
+    if result.trend == "rises":
         assert np.all(np.diff(rate) > 0) and np.all(np.diff(woe) < 0)
-    elif result.trend == "descending":
+    elif result.trend == "falls":
         assert np.all(np.diff(rate) < 0) and np.all(np.diff(woe) > 0)
     else:
-        assert trend == "free"
+        assert trend == "any"
     shares = g / g.sum() - b / b.sum()
     assert result.iv == pytest.approx(float(np.sum(shares * woe)), rel=1e-12)
 
@@ -193,9 +193,9 @@ def test_invariants(case, trend):
 @settings(max_examples=40, deadline=None)
 @given(case=larger_cases())
 def test_reversal_swaps_the_directions(case):
-    forward = optimal_bins(**case, trend="ascending")
+    forward = optimal_bins(**case, trend="rises")
     mirrored = {**case, "goods": case["goods"][::-1], "bads": case["bads"][::-1]}
-    backward = optimal_bins(**mirrored, trend="descending")
+    backward = optimal_bins(**mirrored, trend="falls")
     assert forward.feasible == backward.feasible
     assume(forward.feasible)
     assert forward.iv == pytest.approx(backward.iv, rel=1e-9)
@@ -204,11 +204,11 @@ def test_reversal_swaps_the_directions(case):
 @settings(max_examples=40, deadline=None)
 @given(case=larger_cases())
 def test_looser_constraints_never_lose_information_value(case):
-    ascending = optimal_bins(**case, trend="ascending")
-    descending = optimal_bins(**case, trend="descending")
-    auto = optimal_bins(**case, trend="auto")
-    free = optimal_bins(**case, trend="free")
-    wider = optimal_bins(**{**case, "max_bins": case["max_bins"] + 1}, trend="ascending")
+    ascending = optimal_bins(**case, trend="rises")
+    descending = optimal_bins(**case, trend="falls")
+    auto = optimal_bins(**case, trend="detect")
+    free = optimal_bins(**case, trend="any")
+    wider = optimal_bins(**{**case, "max_bins": case["max_bins"] + 1}, trend="rises")
     assume(ascending.feasible and descending.feasible)
     slack = 1e-9 * free.iv
     assert auto.iv == pytest.approx(max(ascending.iv, descending.iv), rel=1e-12)
@@ -251,7 +251,7 @@ def isotonic_blocks(goods, bads, increasing):
 )
 def test_at_least_as_good_as_isotonic_pooling(case, trend, max_bins, min_bin_count):
     goods, bads = case
-    starts = isotonic_blocks(goods, bads, increasing=trend == "ascending")
+    starts = isotonic_blocks(goods, bads, increasing=trend == "rises")
     bins = bin_counts(goods.tolist(), bads.tolist(), starts)
     assume(len(bins) >= 2 and meets(bins, trend, max_bins, min_count=min_bin_count))
     result = optimal_bins(
@@ -271,13 +271,13 @@ def test_hand_computed_example():
     # IV written out term by term from the trade's formula (common practice).
     expected = sum((g / 100 - b / 18) * math.log((g / 100) / (b / 18)) for g, b in bins)
     assert result.starts == (0, 2, 3)
-    assert result.trend == "ascending"
+    assert result.trend == "rises"
     assert result.iv == pytest.approx(expected, rel=1e-12)
     assert result.feasible and result.reason == ""
 
 
 def test_totals_beyond_the_fine_classes_enter_the_shares():
-    result = optimal_bins([40, 60], [10, 5], total_goods=150, total_bads=30, trend="free")
+    result = optimal_bins([40, 60], [10, 5], total_goods=150, total_bads=30, trend="any")
     bins = [(40, 10), (60, 5)]
     # IV written out from the trade's formula with the caller's totals (common practice).
     expected = sum((g / 150 - b / 30) * math.log((g / 150) / (b / 30)) for g, b in bins)
@@ -286,9 +286,9 @@ def test_totals_beyond_the_fine_classes_enter_the_shares():
 
 
 def test_single_fine_class_is_one_infeasible_bin():
-    result = optimal_bins([30], [10], trend="ascending")
+    result = optimal_bins([30], [10], trend="rises")
     assert result.starts == (0,)
-    assert result.trend == "ascending"
+    assert result.trend == "rises"
     assert result.iv == 0.0
     assert not result.feasible
     assert result.reason == "there is only one fine class, so there is nothing to split"
@@ -297,20 +297,20 @@ def test_single_fine_class_is_one_infeasible_bin():
 def test_too_few_bads_for_two_bins():
     result = optimal_bins([50, 50, 50], [5, 5, 5], min_bin_bads=10)
     assert result.starts == (0,) and not result.feasible
-    assert result.trend == "ascending"
+    assert result.trend == "rises"
     assert result.reason == "no split leaves 10 bads on each side"
 
 
 def test_each_limit_alone_can_be_met_but_not_all_at_once():
     result = optimal_bins(
-        [20, 1, 1], [1, 1, 20], trend="free", min_bin_goods=2, min_bin_bads=2
+        [20, 1, 1], [1, 1, 20], trend="any", min_bin_goods=2, min_bin_bads=2
     )
     assert not result.feasible
     assert result.reason == "no split meets all the size limits on both sides at once"
 
 
 def test_no_goods_anywhere():
-    result = optimal_bins([0, 0, 0], [1, 2, 3], trend="free")
+    result = optimal_bins([0, 0, 0], [1, 2, 3], trend="any")
     assert not result.feasible
     assert result.iv == math.inf
     assert result.reason == "no split leaves some goods and some bads on each side"
@@ -318,9 +318,9 @@ def test_no_goods_anywhere():
 
 def test_equal_bad_rates_allow_only_a_free_split():
     goods, bads = [10, 30], [5, 15]
-    rising = optimal_bins(goods, bads, trend="ascending")
-    auto = optimal_bins(goods, bads, trend="auto")
-    free = optimal_bins(goods, bads, trend="free")
+    rising = optimal_bins(goods, bads, trend="rises")
+    auto = optimal_bins(goods, bads, trend="detect")
+    free = optimal_bins(goods, bads, trend="any")
     assert not rising.feasible
     assert rising.reason == (
         "no split that meets the size limits has a higher bad rate on the right"
@@ -335,27 +335,27 @@ def test_equal_bad_rates_allow_only_a_free_split():
 
 
 def test_auto_picks_the_only_feasible_direction():
-    result = optimal_bins([10, 30], [10, 5], trend="auto")
+    result = optimal_bins([10, 30], [10, 5], trend="detect")
     assert result.starts == (0, 1)
-    assert result.trend == "descending"
-    rising = optimal_bins([10, 30], [10, 5], trend="ascending")
+    assert result.trend == "falls"
+    rising = optimal_bins([10, 30], [10, 5], trend="rises")
     assert rising.reason == (
         "no split that meets the size limits has a higher bad rate on the right"
     )
 
 
-def test_auto_tie_goes_to_ascending():
+def test_detect_tie_goes_to_rises():
     goods, bads = [10, 30, 10], [5, 5, 5]
-    auto = optimal_bins(goods, bads, trend="auto")
-    falling = optimal_bins(goods, bads, trend="descending")
-    assert auto.trend == "ascending" and auto.starts == (0, 2)
+    auto = optimal_bins(goods, bads, trend="detect")
+    falling = optimal_bins(goods, bads, trend="falls")
+    assert auto.trend == "rises" and auto.starts == (0, 2)
     assert falling.starts == (0, 1)
     assert auto.iv == pytest.approx(falling.iv, rel=1e-12)
 
 
 def test_tie_prefers_fewer_bins():
     # Classes 0 and 1 share a bad rate, so splitting them adds no IV.
-    result = optimal_bins([10, 10, 10], [5, 5, 20], trend="free", max_bins=3)
+    result = optimal_bins([10, 10, 10], [5, 5, 20], trend="any", max_bins=3)
     assert result.starts == (0, 2)
 
 
@@ -367,7 +367,7 @@ def test_tie_survives_rounding():
         [112, 91, 126, 40],
         total_goods=153,
         total_bads=372,
-        trend="free",
+        trend="any",
         max_bins=4,
     )
     assert result.starts == (0, 3)
@@ -375,12 +375,12 @@ def test_tie_survives_rounding():
 
 def test_tie_prefers_the_earliest_last_start():
     # The two splits mirror each other and have the same IV.
-    result = optimal_bins([10, 10, 10], [5, 20, 5], trend="free", max_bins=2)
+    result = optimal_bins([10, 10, 10], [5, 20, 5], trend="any", max_bins=2)
     assert result.starts == (0, 1)
 
 
 def test_max_bins_beyond_the_fine_classes():
-    result = optimal_bins([40, 30, 20], [2, 3, 5], trend="ascending", max_bins=10)
+    result = optimal_bins([40, 30, 20], [2, 3, 5], trend="rises", max_bins=10)
     assert result.starts == (0, 1, 2)
 
 

@@ -124,12 +124,12 @@ def random_builds(draw):
     strength = draw(st.floats(0.6, 2.0))
     base_bad = draw(st.floats(0.05, 0.4))
     missing = draw(st.floats(0.0, 0.2))
-    special = draw(st.floats(0.0, 0.1))
+    sentinel_share = draw(st.floats(0.0, 0.1))
     levels = draw(st.integers(2, 6))
     x = rng.normal(size=n)
     count = rng.poisson(3.0, size=n).astype(float)
     count[rng.random(n) < missing] = np.nan
-    count[rng.random(n) < special] = -999.0
+    count[rng.random(n) < sentinel_share] = -999.0
     group = rng.integers(0, levels, size=n)
     effect = rng.normal(scale=0.5, size=levels)
     log_odds_good = (math.log((1 - base_bad) / base_bad) + strength * x
@@ -151,8 +151,8 @@ def random_builds(draw):
         f"binning: {{fine_bins: {draw(st.integers(max_bins, 30))}, max_bins: {max_bins}, "
         f"min_bin_share: {draw(st.sampled_from(['0.02', '0.05', '0.1']))}, "
         f"min_bin_goods: {draw(st.integers(1, 15))}, min_bin_bads: {draw(st.integers(1, 15))}, "
-        f"trend: {draw(st.sampled_from(['auto', 'ascending', 'descending', 'free']))}, "
-        "special_values: [-999]}",
+        f"trend: {draw(st.sampled_from(['detect', 'rises', 'falls', 'any']))}, "
+        "sentinels: [-999]}",
         f"selection: {{min_iv: 0.0, method: {draw(st.sampled_from(['stepwise', 'all']))}}}",
         f"scaling: {{base_score: {draw(st.integers(200, 800))}, "
         f"base_odds: {draw(st.sampled_from([5, 20, 50]))}, pdo: {draw(st.integers(10, 60))}}}",
@@ -232,9 +232,9 @@ def test_bins_meet_the_limits_and_the_trend(case):
             assert x.goods >= max(b.min_bin_goods, 1) and x.bads >= max(b.min_bin_bads, 1)
             assert x.count >= b.min_bin_share * total - 1e-9
         rates = np.array([x.bads / x.count for x in regular])
-        if rep.kind == "categorical" or rep.trend == "ascending":
+        if rep.kind == "categorical" or rep.trend == "rises":
             assert np.all(np.diff(rates) > 0)
-        elif rep.trend == "descending":
+        elif rep.trend == "falls":
             assert np.all(np.diff(rates) < 0)
 
 

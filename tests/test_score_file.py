@@ -184,7 +184,7 @@ def _pick(card, kind, empty_missing=False, other_than=None):
     for c in card.characteristics:
         missing = c.bins[c.bin_index(MISSING)]
         if c.kind == kind and (not empty_missing or missing.count == 0) and c is not other_than \
-                and (kind == "categorical" or not c.special_values):
+                and (kind == "categorical" or not c.sentinels):
             return c
     raise AssertionError(f"the demo has no {kind} characteristic to test with")
 

@@ -32,7 +32,7 @@ from scorecard.card.scorecard import (
     MISSING,
     OUT_OF_RANGE,
     RANGE,
-    SPECIAL,
+    SENTINEL,
     UNSEEN,
     load_scorecard,
 )
@@ -365,7 +365,7 @@ def _row_value(char, b):
     """A raw value that falls in bin ``b`` of ``char``."""
     if b.kind == RANGE:
         return b.lower if b.lower is not None else float(np.nextafter(b.upper, -np.inf))
-    if b.kind == SPECIAL:
+    if b.kind == SENTINEL:
         return b.value
     if b.kind == LEVELS:
         return b.levels[0]

@@ -1,7 +1,7 @@
 """Coarse classing: from fine-class counts to the bins of one characteristic.
 
 Numeric fine classes are merged in value order, categorical levels in order of bad rate, by the
-exact optimiser of :mod:`scorecard.binning.optimal`. Missing values and each special value keep bins of
+exact optimiser of :mod:`scorecard.binning.optimal`. Missing values and each sentinel keep bins of
 their own. Manual ``cuts`` and ``groups`` from the config replace the optimiser. The result is a
 draft :class:`~scorecard.card.scorecard.Characteristic` whose bins carry rules only; counts, weights of
 evidence and points are filled in once the rows have been coded (see :mod:`scorecard.build.pipeline`).
@@ -22,7 +22,7 @@ from scorecard.card.scorecard import (
     MISSING,
     OUT_OF_RANGE,
     RANGE,
-    SPECIAL,
+    SENTINEL,
     UNSEEN,
     Bin,
     Characteristic,
@@ -71,19 +71,19 @@ def _empty_bin(label: str, kind: str, **rule) -> Bin:
     return Bin(label=label, kind=kind, goods=0.0, bads=0.0, woe=0.0, points=0, **rule)
 
 
-def numeric_draft(name: str, cuts, special_values, development_range,
+def numeric_draft(name: str, cuts, sentinels, development_range,
                   out_of_range_bin: bool) -> Characteristic:
-    """Draft numeric characteristic: range bins from ``cuts``, then missing and special bins."""
+    """Draft numeric characteristic: range bins from ``cuts``, then missing and sentinel bins."""
     cuts = tuple(float(c) for c in cuts)
     bounds = list(zip((None,) + cuts, cuts + (None,)))
     bins = [_empty_bin(range_label(lo, hi), RANGE, lower=lo, upper=hi) for lo, hi in bounds]
     bins.append(_empty_bin("missing", MISSING))
-    bins += [_empty_bin(f"special value {format_number(v)}", SPECIAL, value=float(v))
-             for v in special_values]
+    bins += [_empty_bin(f"sentinel {format_number(v)}", SENTINEL, value=float(v))
+             for v in sentinels]
     if out_of_range_bin:
         bins.append(_empty_bin("outside the development range", OUT_OF_RANGE))
     return Characteristic(name, "numeric", tuple(bins), 0.0, "", "", cuts=cuts,
-                          special_values=tuple(float(v) for v in special_values),
+                          sentinels=tuple(float(v) for v in sentinels),
                           development_range=development_range)
 
 
@@ -101,14 +101,14 @@ def class_numeric(name: str, layout: NumericLayout, goods: np.ndarray, bads: np.
     """Bins of a numeric characteristic from its grid-cell counts (development sample)."""
     cells = layout.n_cells
     regular = goods[:cells] + bads[:cells]
-    # A declared special value the development rows never take gets no bin of its own.
-    specials = tuple(v for i, v in enumerate(layout.special_values)
+    # A declared sentinel the development rows never take gets no bin of its own.
+    sentinels = tuple(v for i, v in enumerate(layout.sentinels)
                      if goods[cells + 1 + i] + bads[cells + 1 + i] > 0)
     if manual_cuts is not None:
-        draft = numeric_draft(name, manual_cuts, specials, development_range, out_of_range_bin)
+        draft = numeric_draft(name, manual_cuts, sentinels, development_range, out_of_range_bin)
         return BinningOutcome(draft, 0, "manual", "")
     if regular.sum() <= 0:
-        return BinningOutcome(None, 0, trend, "no values besides missing and special values")
+        return BinningOutcome(None, 0, trend, "no values besides missing values and sentinels")
     starts = quantile_starts(regular, fine_bins)
     fine_goods = np.add.reduceat(goods[:cells], starts)
     fine_bads = np.add.reduceat(bads[:cells], starts)
@@ -120,7 +120,7 @@ def class_numeric(name: str, layout: NumericLayout, goods: np.ndarray, bads: np.
         return BinningOutcome(None, len(starts), result.trend, f"cannot form two bins: {reason}")
     cut_cells = starts[list(result.starts[1:])]
     cuts = layout.cuts[cut_cells - 1]
-    draft = numeric_draft(name, cuts, specials, development_range, out_of_range_bin)
+    draft = numeric_draft(name, cuts, sentinels, development_range, out_of_range_bin)
     return BinningOutcome(draft, len(starts), result.trend, "")
 
 
@@ -142,7 +142,7 @@ def class_categorical(name: str, levels, goods: np.ndarray, bads: np.ndarray, *,
         return BinningOutcome(categorical_draft(name, groups), len(present), "manual", "")
     total = counts.sum()
     if total <= 0:
-        return BinningOutcome(None, 0, "ascending", "no values besides missing")
+        return BinningOutcome(None, 0, "rises", "no values besides missing")
     rare = (counts > 0) & (counts < rare_share * total)
     classes = [(lv, (lv,), g, b) for lv, g, b, c, r in zip(levels, lg, lb, counts, rare)
                if c > 0 and not r]
@@ -154,17 +154,17 @@ def class_categorical(name: str, levels, goods: np.ndarray, bads: np.ndarray, *,
     fine_goods = np.array([c[2] for c in classes], dtype=float)
     fine_bads = np.array([c[3] for c in classes], dtype=float)
     result = optimal_bins(fine_goods, fine_bads, total_goods=goods.sum(), total_bads=bads.sum(),
-                          trend="ascending", max_bins=limits.max_bins,
+                          trend="rises", max_bins=limits.max_bins,
                           min_bin_count=limits.min_count, min_bin_goods=limits.min_goods,
                           min_bin_bads=limits.min_bads)
     if not result.feasible:
         reason = "a single level" if len(classes) == 1 else result.reason
-        return BinningOutcome(None, len(classes), "ascending", f"cannot form two bins: {reason}")
+        return BinningOutcome(None, len(classes), "rises", f"cannot form two bins: {reason}")
     bounds = list(result.starts) + [len(classes)]
     groups = [(", ".join(c[0] for c in classes[lo:hi]),
                tuple(lv for c in classes[lo:hi] for lv in c[1]))
               for lo, hi in zip(bounds[:-1], bounds[1:])]
-    return BinningOutcome(categorical_draft(name, groups), len(classes), "ascending", "")
+    return BinningOutcome(categorical_draft(name, groups), len(classes), "rises", "")
 
 
 def bins_of_fine_classes(char: Characteristic, layout) -> np.ndarray | None:
@@ -191,11 +191,11 @@ def bins_of_fine_classes(char: Characteristic, layout) -> np.ndarray | None:
             return None
         # A cell's lower edge stands for the whole cell: no bin cut falls inside a cell.
         cells = grid_cells(np.concatenate([[-np.inf], layout.cuts]), cuts)
-        special = {b.value: i for i, b in enumerate(char.bins) if b.kind == SPECIAL}
-        # A declared special value with no bin of its own is scored by its value.
-        specials = [special.get(v, int(grid_cells(np.array([v]), cuts)[0]))
-                    for v in layout.special_values]
-        return np.concatenate([cells, [missing], specials]).astype(np.intp)
+        own_bin = {b.value: i for i, b in enumerate(char.bins) if b.kind == SENTINEL}
+        # A declared sentinel with no bin of its own is scored by its value.
+        sentinels = [own_bin.get(v, int(grid_cells(np.array([v]), cuts)[0]))
+                    for v in layout.sentinels]
+        return np.concatenate([cells, [missing], sentinels]).astype(np.intp)
     if char.bin_index(UNSEEN) is None:
         return None
     levels = pd.Series(list(layout) + [None], dtype=object)
@@ -212,7 +212,7 @@ def bin_weights_of_evidence(goods: np.ndarray, bads: np.ndarray, kinds, limits: 
     """WoE of each bin, with the documented fallbacks and a note per bin.
 
     A range or group bin with no goods or no bads (possible only with manual cuts or groups) gets
-    0.5 added to its goods and bads. A missing, special-value, unseen or out-of-range bin with
+    0.5 added to its goods and bads. A missing, sentinel, unseen or out-of-range bin with
     fewer goods or bads than the bin limits is too small to estimate and gets WoE 0, the average
     risk of the development sample.
     """

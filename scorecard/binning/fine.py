@@ -212,7 +212,7 @@ class NumericSummary(NamedTuple):
         return bulk_of(self.magnitudes, self.low, self.high)
 
 
-def numeric_summary(x: np.ndarray, special_values) -> NumericSummary:
+def numeric_summary(x: np.ndarray, sentinels) -> NumericSummary:
     """Range and :func:`magnitude_counts` of the regular values (neither missing nor special).
 
     Examples
@@ -221,22 +221,22 @@ def numeric_summary(x: np.ndarray, special_values) -> NumericSummary:
     >>> s.low, s.high, int(s.magnitudes.sum())
     (3.0, 7.0, 2)
     """
-    low, high = regular_range(x, special_values)
+    low, high = regular_range(x, sentinels)
     counts = magnitude_counts(x)
-    for value in special_values:
+    for value in sentinels:
         # Special values stand for facts, not magnitudes: taken out of their bucket again.
         counts -= magnitude_counts(np.array([value])) * int(np.count_nonzero(x == value))
     return NumericSummary(low, high, counts)
 
 
 class NumericLayout(NamedTuple):
-    """Code layout of a numeric column: grid cells, then missing, then each special value.
+    """Code layout of a numeric column: grid cells, then missing, then each sentinel.
 
     ``extreme`` holds the bounds beyond which values count as extreme (reported by row).
     """
 
     cuts: np.ndarray
-    special_values: tuple[float, ...]
+    sentinels: tuple[float, ...]
     extreme: tuple[float, float] = (-math.inf, math.inf)
 
     @property
@@ -249,21 +249,21 @@ class NumericLayout(NamedTuple):
 
     @property
     def n_codes(self) -> int:
-        return self.n_cells + 1 + len(self.special_values)
+        return self.n_cells + 1 + len(self.sentinels)
 
 
 def numeric_codes(x: np.ndarray, layout: NumericLayout) -> np.ndarray:
-    """Grid cell of every value; NaN to the missing code, special values to their own codes."""
+    """Grid cell of every value; NaN to the missing code, sentinels to their own codes."""
     codes = grid_cells(x, layout.cuts)
     codes[np.isnan(x)] = layout.missing_code
-    for i, value in enumerate(layout.special_values):
+    for i, value in enumerate(layout.sentinels):
         codes[x == value] = layout.missing_code + 1 + i
     return codes
 
 
-def regular_range(x: np.ndarray, special_values, among: np.ndarray | None = None,
+def regular_range(x: np.ndarray, sentinels, among: np.ndarray | None = None,
                   ) -> tuple[float, float]:
-    """Smallest and largest finite value that is neither missing nor special.
+    """Smallest and largest finite value that is neither missing nor a sentinel.
 
     ``among`` limits the search to the rows where it is true. NaN, NaN when there is none.
 
@@ -275,7 +275,7 @@ def regular_range(x: np.ndarray, special_values, among: np.ndarray | None = None
     (7.0, 7.0)
     """
     regular = np.isfinite(x)
-    for value in special_values:
+    for value in sentinels:
         regular &= x != value
     if among is not None:
         regular &= among

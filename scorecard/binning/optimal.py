@@ -10,7 +10,7 @@ Every candidate bin ``[i, j)`` (fine classes ``i`` to ``j - 1``) gets its counts
 sums, so the whole table of bins is a set of ``(n + 1, n + 1)`` arrays. For ``k`` bins the
 programme keeps, for each last bin ``[i, j)``, the best IV of a partition of ``[0, j)`` ending
 in that bin. Adding a bin ``[i, j)`` needs the best partition whose last bin ``[h, i)`` has a
-lower bad rate (ascending); with the bins ending at ``i`` sorted by bad rate once, that is a
+lower bad rate (trend ``'rises'``); with the bins ending at ``i`` sorted by bad rate once, that is a
 running maximum read at the right place, so each step costs ``O(n^2)``.
 
 Ties are broken the same way every time: among partitions whose IV agree to a relative
@@ -24,9 +24,8 @@ from typing import NamedTuple
 
 import numpy as np
 
+from scorecard.constraints import MAX_BINS, TREND, TRENDS
 from scorecard.errors import InputError
-
-TRENDS = ("auto", "ascending", "descending", "free")
 
 # IV values this close (relative) count as equal, so that rounding in the last bits never
 # decides between partitions that are equal in exact arithmetic.
@@ -44,8 +43,8 @@ class Coarsening(NamedTuple):
     starts : tuple of int
         Index of the first fine class of each coarse bin; ``starts[0] == 0``.
     trend : str
-        The bad-rate trend used: ``'ascending'``, ``'descending'`` or ``'free'``. For
-        ``trend='auto'`` it is the winning direction.
+        The bad-rate trend used: ``'rises'``, ``'falls'`` or ``'any'``. For
+        ``trend='detect'`` it is the winning direction.
     iv : float
         Information value of the coarse bins (nats), with shares taken of the given totals.
     feasible : bool
@@ -83,8 +82,8 @@ def optimal_bins(
     *,
     total_goods=None,
     total_bads=None,
-    trend="auto",
-    max_bins=6,
+    trend=TREND.default,
+    max_bins=MAX_BINS.default,
     min_bin_count=0.0,
     min_bin_goods=0.0,
     min_bin_bads=0.0,
@@ -103,13 +102,13 @@ def optimal_bins(
         Weighted counts of goods and bads in the ordered fine classes (numeric classes in value
         order, categorical levels already ordered by bad rate).
     total_goods, total_bads : float, optional
-        Totals over all bins of the characteristic, including any missing or special-value
+        Totals over all bins of the characteristic, including any missing or sentinel
         bins kept apart by the caller, so that IV adds up across them. Default: the sums of
         ``goods`` and ``bads``.
-    trend : {'auto', 'ascending', 'descending', 'free'}, default 'auto'
-        ``'ascending'``: the bad rate strictly increases from bin to bin; ``'descending'``:
-        strictly decreases; ``'free'``: any order; ``'auto'``: the better of ascending and
-        descending (ascending on a tie).
+    trend : {'detect', 'rises', 'falls', 'any'}, default 'detect'
+        ``'rises'``: the bad rate strictly increases from bin to bin; ``'falls'``: it strictly
+        decreases; ``'any'``: any order; ``'detect'``: the better of rises and falls (rises on
+        a tie).
     max_bins : int, default 6
         Largest number of bins, at least 2.
     min_bin_count, min_bin_goods, min_bin_bads : float, default 0.0
@@ -122,7 +121,7 @@ def optimal_bins(
         possible. When they are not (a single fine class, or no split meeting the
         constraints), the result is one bin with ``feasible=False`` and a ``reason``; its IV
         is infinite if the fine classes hold goods but no bads or bads but no goods, and
-        for ``trend='auto'`` its trend is ``'ascending'``.
+        for ``trend='detect'`` its trend is ``'rises'``.
 
     Raises
     ------
@@ -134,7 +133,7 @@ def optimal_bins(
     --------
     >>> result = optimal_bins([40, 30, 20, 10], [2, 3, 5, 8], max_bins=3)
     >>> result.starts, result.trend, round(result.iv, 4), result.feasible
-    ((0, 2, 3), 'ascending', 0.9296, True)
+    ((0, 2, 3), 'rises', 0.9296, True)
     """
     goods = _counts(goods, "goods")
     bads = _counts(bads, "bads")
@@ -142,7 +141,7 @@ def optimal_bins(
         raise InputError(f"bads: has {bads.size} fine classes but goods has {goods.size}")
     total_goods = _total(total_goods, goods, "total_goods")
     total_bads = _total(total_bads, bads, "total_bads")
-    if trend not in TRENDS:
+    if not TREND.allows(trend):
         raise InputError(f"trend: must be one of {', '.join(TRENDS)}; got {trend!r}")
     max_bins = _max_bins(max_bins)
     limits = _Limits(
@@ -151,10 +150,8 @@ def optimal_bins(
         _limit(min_bin_bads, "min_bin_bads"),
     )
     cand = _candidates(goods, bads, total_goods, total_bads, limits)
-    if trend == "auto":
-        found, used = _better(
-            _best(cand, max_bins, "ascending"), _best(cand, max_bins, "descending")
-        )
+    if trend == "detect":
+        found, used = _better(_best(cand, max_bins, "rises"), _best(cand, max_bins, "falls"))
     else:
         found, used = _best(cand, max_bins, trend), trend
     if found is None:
@@ -242,8 +239,8 @@ def _total(value, counts, name):
 
 
 def _max_bins(value):
-    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < 2:
-        raise InputError(f"max_bins: must be a whole number of at least 2; got {value!r}")
+    if not MAX_BINS.allows(value):
+        raise InputError(f"max_bins: must be {MAX_BINS.expected()}; got {value!r}")
     return int(value)
 
 
@@ -287,8 +284,8 @@ def _best(cand, max_bins, trend):
     """The best partition into 2 to ``max_bins`` bins as ``(starts, iv)``, or None."""
     # A key that must strictly increase from each bin to the next; None for no order.
     key = None
-    if trend != "free":
-        key = cand.rate if trend == "ascending" else -cand.rate
+    if trend != "any":
+        key = cand.rate if trend == "rises" else -cand.rate
     layers = _layers(cand.term, key, max_bins)
     ends = np.array([layer[:, -1].max() for layer in layers[1:]])
     if ends.size == 0 or ends.max() == -np.inf:
@@ -365,12 +362,12 @@ def _first_near_max(values):
 
 
 def _better(rising, falling):
-    """The better of the two directions and its name; ascending unless beaten beyond a tie."""
+    """The better of the two directions and its name; rises unless beaten beyond a tie."""
     if rising is None and falling is not None:
-        return falling, "descending"
+        return falling, "falls"
     if falling is not None and falling[1] > rising[1] + _IV_TIE * abs(rising[1]):
-        return falling, "descending"
-    return rising, "ascending"
+        return falling, "falls"
+    return rising, "rises"
 
 
 def _single_bin_iv(cand, total_goods, total_bads):
@@ -425,7 +422,7 @@ def _why_no_split(cand, trend, limits):
         if not met.any():
             return reason
     return {
-        "ascending": "no split that meets the size limits has a higher bad rate on the right",
-        "descending": "no split that meets the size limits has a lower bad rate on the right",
-        "auto": "every split that meets the size limits leaves the same bad rate on both sides",
+        "rises": "no split that meets the size limits has a higher bad rate on the right",
+        "falls": "no split that meets the size limits has a lower bad rate on the right",
+        "detect": "every split that meets the size limits leaves the same bad rate on both sides",
     }[trend]

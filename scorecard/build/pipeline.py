@@ -29,7 +29,6 @@ from scorecard.card.scorecard import (
     Characteristic,
     Scorecard,
 )
-from scorecard.config.loading import SCALE_LIMIT
 from scorecard.data.coding import categorical_codes
 from scorecard.data.outcome import BAD, GOOD, code_outcome
 from scorecard.data.read import column_kind, decimal_comma_column
@@ -47,6 +46,7 @@ from scorecard.engines.passes import (
     merge_summaries,
     pattern_radix,
 )
+from scorecard.constraints import SCALE_LIMIT
 from scorecard.errors import InputError, ResultWarning
 from scorecard.evaluation.fairness import compute_fairness
 from scorecard.evaluation.histograms import band_edges, gains_table, performance, score_histogram
@@ -136,7 +136,7 @@ def _layouts(config, kinds, summary, reports):
             # instead of flattening every other value into one class.
             bulk = summary[name].bulk()
             layouts[name] = NumericLayout(candidate_cuts(bulk.low, bulk.high),
-                                          _specials(config, name), (bulk.below, bulk.above))
+                                          _sentinels(config, name), (bulk.below, bulk.above))
         else:
             levels = tuple(sorted(summary[name]))
             if len(levels) > config.binning.max_levels:
@@ -153,15 +153,15 @@ def _too_many_levels(levels, config) -> str:
         texts = [lv for lv, is_number in zip(levels, numeric) if not is_number][:3]
         return (f"numbers mixed with text: {numeric.sum()} of {len(levels)} distinct values are "
                 f"numbers, the others text such as {', '.join(map(repr, texts))}; recode the text "
-                "(to empty, or to a number declared in special_values) and rebuild")
+                "(to empty, or to a number listed in binning.sentinels) and rebuild")
     return (f"identifier-like: {len(levels)} distinct levels "
             f"(more than max_levels {config.binning.max_levels})")
 
 
-def _specials(config, name) -> tuple:
+def _sentinels(config, name) -> tuple:
     override = config.characteristics.get(name)
-    values = override.special_values if override is not None and override.special_values is not None \
-        else config.binning.special_values
+    values = override.sentinels if override is not None and override.sentinels is not None \
+        else config.binning.sentinels
     return tuple(float(v) for v in values)
 
 
@@ -366,8 +366,8 @@ def _build(config, engine, progress) -> BuildResult:
                          f"data.good must name values the column holds: {shown}")
     _say(progress, f"outcome coded: {facts.rows_read} rows, {facts.left_out} left out")
 
-    specials = {n: _specials(config, n) for n, k in kinds.items() if k == "numeric"}
-    summary = engine.reduce(lambda c: column_summary(c, kinds, specials), merge_summaries,
+    sentinels = {n: _sentinels(config, n) for n, k in kinds.items() if k == "numeric"}
+    summary = engine.reduce(lambda c: column_summary(c, kinds, sentinels), merge_summaries,
                             columns=list(kinds))
     layouts = _layouts(config, kinds, summary, reports)
     counts = engine.reduce(fine_counts, merge_fine, rows, layouts, columns=list(layouts))
@@ -445,19 +445,19 @@ def _build(config, engine, progress) -> BuildResult:
 
 
 def _check_settings(config, engine, layouts: dict, counts: dict) -> None:
-    """Special values and group levels the development sample never holds are warnings;
+    """Sentinels and group levels the development sample never holds are warnings;
     a level the data hold but no group lists is an error naming its first row."""
-    unheld = {}                 # global special value -> held by some characteristic
+    unheld = {}                 # global sentinel -> held by some characteristic
     for name, layout in layouts.items():
         override = config.characteristics.get(name)
         fc = counts[name]
         held = fc.goods + fc.bads
         if isinstance(layout, NumericLayout):
-            own = override is not None and override.special_values is not None
-            for i, value in enumerate(layout.special_values):
+            own = override is not None and override.sentinels is not None
+            for i, value in enumerate(layout.sentinels):
                 there = held[layout.missing_code + 1 + i] > 0
                 if own and not there:
-                    warnings.warn(f"characteristics.{name}.special_values: {value:g} never occurs "
+                    warnings.warn(f"characteristics.{name}.sentinels: {value:g} never occurs "
                                   f"in {name} in the development sample")
                 elif not own:
                     unheld[value] = unheld.get(value, False) or there
@@ -478,7 +478,7 @@ def _check_settings(config, engine, layouts: dict, counts: dict) -> None:
                               "occurs in the development sample")
     for value, there in unheld.items():
         if not there:
-            warnings.warn(f"binning.special_values: {value:g} occurs in no characteristic in the "
+            warnings.warn(f"binning.sentinels: {value:g} occurs in no characteristic in the "
                           "development sample")
 
 

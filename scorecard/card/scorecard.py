@@ -14,16 +14,21 @@ from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
 from scorecard.card.points import Scaling
-from scorecard.config.loading import SCALE_LIMIT
+from scorecard.constraints import REASONS, SCALE_LIMIT
 from scorecard.errors import InputError
 
 FORMAT_VERSION = 1
 
 # Kinds of bin. A numeric characteristic has its value ranges first (in ascending order), then
-# missing and special values; a categorical one has its groups of levels first.
-RANGE, MISSING, SPECIAL, LEVELS, UNSEEN, OUT_OF_RANGE = (
-    "range", "missing", "special", "levels", "unseen", "out of range")
-BIN_KINDS = (RANGE, MISSING, SPECIAL, LEVELS, UNSEEN, OUT_OF_RANGE)
+# missing and its sentinels (values that stand for a fact, such as -999 for "no credit file");
+# a categorical one has its groups of levels first.
+RANGE, MISSING, SENTINEL, LEVELS, UNSEEN, OUT_OF_RANGE = (
+    "range", "missing", "sentinel", "levels", "unseen", "out of range")
+BIN_KINDS = (RANGE, MISSING, SENTINEL, LEVELS, UNSEEN, OUT_OF_RANGE)
+
+# Model files written before sentinels were so named still load.
+_OLD_BIN_KINDS = {"special": SENTINEL}
+_OLD_SENTINELS_KEY = "special_values"
 
 
 @dataclass(frozen=True)
@@ -31,7 +36,7 @@ class Bin:
     """One attribute of a characteristic: its rule, development counts, WoE and points.
 
     ``lower`` (inclusive) and ``upper`` (exclusive) bound a range bin (None is unbounded);
-    ``value`` is a special value; ``levels`` are the categorical levels of a group.
+    ``value`` is a sentinel; ``levels`` are the categorical levels of a group.
     ``rejected`` marks a bin whose rows the scorecard refuses to score (config choice).
     """
 
@@ -64,7 +69,7 @@ class Characteristic:
     reason_code: str
     reason: str
     cuts: tuple[float, ...] = ()
-    special_values: tuple[float, ...] = ()
+    sentinels: tuple[float, ...] = ()
     development_range: tuple[float, float] | None = None
     information_value: float = 0.0
 
@@ -108,7 +113,7 @@ class Scorecard:
     characteristics: tuple[Characteristic, ...]
     target: dict = field(default_factory=dict)
     rounding_change: float = 0.0
-    reasons: int = 4                 # reason codes per scored row unless the caller says otherwise
+    reasons: int = REASONS.default                 # reason codes per scored row unless the caller says otherwise
 
     @property
     def names(self) -> tuple[str, ...]:
@@ -188,7 +193,7 @@ def _scorecard_from_dict(raw, source: str) -> Scorecard:
         chars = tuple(_characteristic_from_dict(c) for c in raw["characteristics"])
         card = Scorecard(str(raw["name"]), scale, float(raw["intercept"]), chars,
                          dict(raw.get("target", {})), float(raw.get("rounding_change", 0.0)),
-                         _count(raw.get("reasons", 4), "reasons"))
+                         _count(raw.get("reasons", REASONS.default), "reasons"))
     except (KeyError, TypeError, ValueError) as exc:
         raise InputError(f"{source}: model file is incomplete or malformed ({exc})") from None
     _check_consistent(card, source)
@@ -217,7 +222,8 @@ def _bin_from_dict(raw: dict) -> Bin:
     numbers = {k: _number(raw[k], f"bin {k}") for k in ("goods", "bads", "woe") if k in raw}
     bounds = {k: None if raw.get(k) is None else _number(raw[k], f"bin {k}")
               for k in ("lower", "upper", "value") if k in raw}
-    return Bin(**{**raw, **numbers, **bounds, "levels": _levels(raw.get("levels", []))})
+    kind = {"kind": _OLD_BIN_KINDS[raw["kind"]]} if raw.get("kind") in _OLD_BIN_KINDS else {}
+    return Bin(**{**raw, **numbers, **bounds, **kind, "levels": _levels(raw.get("levels", []))})
 
 
 def _characteristic_from_dict(raw: dict) -> Characteristic:
@@ -227,7 +233,7 @@ def _characteristic_from_dict(raw: dict) -> Characteristic:
         name=str(raw["name"]), kind=str(raw["kind"]), bins=bins,
         coefficient=float(raw["coefficient"]), reason_code=str(raw["reason_code"]),
         reason=str(raw["reason"]), cuts=tuple(float(x) for x in raw.get("cuts", ())),
-        special_values=tuple(float(x) for x in raw.get("special_values", ())),
+        sentinels=tuple(float(x) for x in raw.get("sentinels", raw.get(_OLD_SENTINELS_KEY, ()))),
         development_range=None if rng is None else (_number(rng[0], "development_range"),
                                                      _number(rng[1], "development_range")),
         information_value=float(raw.get("information_value", 0.0)))
@@ -280,9 +286,9 @@ def _check_consistent(card: Scorecard, source: str) -> None:
             expected = list(zip((None,) + c.cuts, c.cuts + (None,)))
             if bounds != expected:
                 raise InputError(f"{where}: range bins do not match the cuts")
-            specials = [b.value for b in c.bins if b.kind == SPECIAL]
-            if specials != list(c.special_values):
-                raise InputError(f"{where}: special-value bins do not match special_values")
+            sentinel_bins = [b.value for b in c.bins if b.kind == SENTINEL]
+            if sentinel_bins != list(c.sentinels):
+                raise InputError(f"{where}: sentinel bins do not match sentinels")
         else:
             levels = [lv for b in c.bins for lv in b.levels]
             if len(levels) != len(set(levels)):

@@ -16,7 +16,7 @@ from scorecard.card.points import bad_probability_of_score
 from scorecard.card.scorecard import (
     MISSING,
     OUT_OF_RANGE,
-    SPECIAL,
+    SENTINEL,
     UNSEEN,
     Characteristic,
     Scorecard,
@@ -45,7 +45,7 @@ def _bin_or_refuse(char: Characteristic, kind: str, what: str) -> int:
 def bin_codes(char: Characteristic, series: pd.Series) -> tuple[np.ndarray, UnusualValues]:
     """Bin index of every row for one characteristic, and counts of unseen values.
 
-    Numeric: a special value goes to its own bin, a missing value to the missing bin, a value
+    Numeric: a sentinel goes to its own bin, a missing value to the missing bin, a value
     beyond the development range to the out-of-range bin when the scorecard has one (else to
     the end range bin), any other value to the range bin ``lower <= x < upper``. Categorical:
     a level goes to the bin of its group, matched by level text; a missing value to the missing
@@ -72,7 +72,7 @@ def _numeric_codes(char: Characteristic, series: pd.Series, empty_missing: bool)
         if oor is not None:
             codes[beyond] = oor
     for i, b in enumerate(char.bins):
-        if b.kind == SPECIAL:
+        if b.kind == SENTINEL:
             hit = x == b.value
             codes[hit] = i
             beyond &= ~hit

@@ -325,7 +325,6 @@ def sniff_csv(path, encoding: str = "utf-8") -> tuple[str, str]:
     (';', ',')
     """
     import csv
-    import io
 
     path = Path(path)
     if data_format(path) not in ("csv", "zip") or not path.is_file():

@@ -11,7 +11,7 @@ What the design builds in, so that each step of the build has something to find:
   ``age_band``; age band has no effect of its own, it reaches the outcome only through this
   proxy, which is what the fairness check should report.
 * ``weekly_delivery_hours`` is not monotone: risk is lowest in the middle of the range.
-* ``late_payments_12m`` holds the special value -999 ("no credit file") in about 4% of rows.
+* ``late_payments_12m`` holds the sentinel -999 ("no credit file") in about 4% of rows.
 * ``monthly_income``, ``credit_utilisation`` and ``employment`` are missing in a few rows.
 * ``phone_contract`` is independent of everything, outcome included; the demo config keeps it
   as a candidate so that it visibly falls below the information value floor.
@@ -379,16 +379,16 @@ samples:
 binning:
   # -999 in late_payments_12m means "no credit file": it is not a count of late payments, so
   # it gets its own bin instead of sitting below zero. The other binning settings keep their
-  # defaults (fine classes, bin count and minimum bin sizes, automatic trend).
-  special_values: [-999]
+  # defaults (fine classes, bin count and minimum bin sizes, trend detected).
+  sentinels: [-999]
 
 characteristics:
   # A longer stay at one address means lower risk; forcing the trend keeps sampling noise from
   # producing a bin that reverses it.
-  months_at_address: {{trend: descending}}
+  months_at_address: {{trend: falls}}
   # Risk is lowest for middling hours and higher at both ends, so a monotone trend would
   # throw that shape away.
-  weekly_delivery_hours: {{trend: free}}
+  weekly_delivery_hours: {{trend: any}}
   # phone_contract is deliberately left in as a candidate: it has no relation to the outcome
   # and falls below the information value floor in selection, which the workbook shows.
 

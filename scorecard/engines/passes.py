@@ -57,14 +57,14 @@ def _each(fn, items: list, rows: int) -> list:
         return list(pool.map(fn, items))
 
 
-def column_summary(frame: pd.DataFrame, kinds: dict, special_values: dict) -> dict:
+def column_summary(frame: pd.DataFrame, kinds: dict, sentinels: dict) -> dict:
     """Per column: a :class:`NumericSummary` of the regular numeric values (range and counts
     by magnitude), or the set of categorical levels."""
     def one(item):
         name, kind = item
         series = frame[name]
         if kind == "numeric":
-            return name, numeric_summary(numeric_values(series, name), special_values[name])
+            return name, numeric_summary(numeric_values(series, name), sentinels[name])
         cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
         seen = np.bincount(cat.cat.codes.to_numpy() + 1, minlength=len(cat.cat.categories) + 1)
         return name, frozenset(level_labels(cat.cat.categories[seen[1:] > 0]))
@@ -149,7 +149,7 @@ def fine_counts(frame: pd.DataFrame, rows: RowFacts, layouts: dict) -> dict:
             table = counted(numeric_codes(x, layout), layout.n_codes)
             below, above = layout.extreme
             far = np.flatnonzero((x < below) | (x > above)) if len(x) else np.empty(0, int)
-            return name, FineCounts(table, regular_range(x, layout.special_values, dev),
+            return name, FineCounts(table, regular_range(x, layout.sentinels, dev),
                                     len(x), len(far), tuple(int(i) for i in far[:REPORTED]))
         idx = categorical_codes(series, layout)
         return name, FineCounts(counted(np.where(idx < 0, len(layout), idx), len(layout) + 1),

@@ -39,6 +39,7 @@ from scipy import stats
 
 from scorecard.card.scorecard import RANGE, Scorecard, load_scorecard
 from scorecard.card.scoring import apply_scorecard, bad_probability
+from scorecard.constraints import SCORE_BANDS, SHIFT, WATCH, cutoffs_in_order
 from scorecard.data.outcome import BAD, GOOD, OTHER, code_outcome
 from scorecard.data.read import read_frame
 from scorecard.errors import InputError
@@ -53,8 +54,6 @@ from scorecard.evaluation.stability import (
 from scorecard.measures.calibration import HosmerLemeshow, hosmer_lemeshow
 from scorecard.measures.ranking import Discrimination, discrimination
 
-DEFAULT_BANDS = 10
-DEFAULT_WATCH, DEFAULT_SHIFT = 0.10, 0.25
 SIGNIFICANCE = 0.05
 _Z_TWO_SIDED = float(stats.norm.ppf(1 - SIGNIFICANCE / 2))
 _Z_ONE_SIDED = float(stats.norm.ppf(1 - SIGNIFICANCE))
@@ -437,11 +436,10 @@ def _unusual(card, files: dict) -> pd.DataFrame:
 
 
 def _check_options(bands, watch, shift):
-    if not (isinstance(bands, (int, np.integer)) and not isinstance(bands, bool) and bands >= 2):
-        raise InputError(f"--bands: must be a whole number of at least 2, got {bands!r}")
-    if not (isinstance(watch, (int, float)) and isinstance(shift, (int, float))
-            and 0 < watch <= shift < math.inf):
-        raise InputError(f"watch, shift: need 0 < watch <= shift, got {watch!r}, {shift!r}")
+    if not SCORE_BANDS.allows(bands):
+        raise InputError(f"--bands: must be {SCORE_BANDS.expected()}, got {bands!r}")
+    if not (WATCH.allows(watch) and SHIFT.allows(shift) and cutoffs_in_order(watch, shift)):
+        raise InputError(f"watch, shift: need 0 < watch < shift, got {watch!r}, {shift!r}")
 
 
 def compare(model_path, baseline_path, current_path, *, bands=None, watch=None,
@@ -486,9 +484,9 @@ def compare(model_path, baseline_path, current_path, *, bands=None, watch=None,
     >>> result.stability.score.index, result.shifted
     (0.0, False)
     """
-    bands = DEFAULT_BANDS if bands is None else bands
-    watch = DEFAULT_WATCH if watch is None else watch
-    shift = DEFAULT_SHIFT if shift is None else shift
+    bands = SCORE_BANDS.default if bands is None else bands
+    watch = WATCH.default if watch is None else watch
+    shift = SHIFT.default if shift is None else shift
     _check_options(bands, watch, shift)
     card = load_scorecard(model_path)
     base = _count_file(card, baseline_path, _read(baseline_path))

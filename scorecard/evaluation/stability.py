@@ -19,6 +19,7 @@ from typing import NamedTuple
 import numpy as np
 import pandas as pd
 
+from scorecard.constraints import SHIFT, WATCH
 from scorecard.data.samples import DEVELOPMENT, HOLDOUT, OUT_OF_TIME, SAMPLE_NAMES
 from scorecard.measures.stability import (
     stability_critical_value,
@@ -148,7 +149,7 @@ def _result(name, computed: _Index, table, watch, shift, points_shift=None) -> I
     )
 
 
-def score_stability(baseline_counts, current_counts, band_labels, *, watch=0.10, shift=0.25,
+def score_stability(baseline_counts, current_counts, band_labels, *, watch=WATCH.default, shift=SHIFT.default,
                     sizes=None, unit="rows") -> IndexResult:
     """Population stability index of the score over score bands.
 
@@ -184,7 +185,7 @@ def score_stability(baseline_counts, current_counts, band_labels, *, watch=0.10,
     return _result(SCORE, _index(baseline, current, sizes, unit), table, watch, shift)
 
 
-def characteristic_stability(char, baseline_counts, current_counts, *, watch=0.10, shift=0.25,
+def characteristic_stability(char, baseline_counts, current_counts, *, watch=WATCH.default, shift=SHIFT.default,
                              sizes=None, unit="rows") -> IndexResult:
     """Characteristic stability index of one scorecard characteristic over its attributes.
 

@@ -24,6 +24,7 @@ from typing import NamedTuple
 import numpy as np
 from scipy import special
 
+from scorecard import constraints as c
 from scorecard.errors import InputError
 from scorecard.fit.design import CodedColumns, Groups, code_columns
 from scorecard.fit.logistic import (
@@ -36,8 +37,6 @@ from scorecard.fit.logistic import (
     newton_fit,
     score_statistics_from_sums,
 )
-
-METHODS = ("stepwise", "all")
 
 
 class Fate(NamedTuple):
@@ -182,12 +181,12 @@ def select_characteristics(
     names,
     information_values,
     *,
-    min_iv=0.02,
-    max_correlation=0.6,
-    max_vif=5.0,
-    method="stepwise",
-    entry_p_value=0.05,
-    max_characteristics=12,
+    min_iv=c.MIN_IV.default,
+    max_correlation=c.MAX_CORRELATION.default,
+    max_vif=c.MAX_VIF.default,
+    method=c.METHOD.default,
+    entry_p_value=c.ENTRY_P_VALUE.default,
+    max_characteristics=c.MAX_CHARACTERISTICS.default,
     keep=(),
 ) -> Selection:
     """Choose the characteristics of the scorecard and fit the final model.
@@ -209,7 +208,7 @@ def select_characteristics(
         A candidate whose absolute correlation with an already retained one exceeds this is
         dropped (stage 2).
     max_vif : float
-        Ceiling of the variance inflation factor (stage 5).
+        Ceiling of the variance inflation factor (stage 5); above 1, since a VIF is at least 1.
     method : {'stepwise', 'all'}
         Forward selection by score test, or every survivor of stage 2 (stage 3).
     entry_p_value : float
@@ -635,18 +634,17 @@ def _keep(keep, names, max_characteristics) -> tuple[str, ...]:
 
 
 def _check_settings(min_iv, max_correlation, max_vif, method, entry_p_value, cap) -> None:
+    # The limits are those the config reader applies (scorecard.constraints).
     checks = [
-        ("min_iv", min_iv, lambda v: v >= 0, "a number >= 0"),
-        ("max_correlation", max_correlation, lambda v: 0 < v <= 1, "a number in (0, 1]"),
-        ("max_vif", max_vif, lambda v: v >= 1, "a number >= 1"),
-        ("entry_p_value", entry_p_value, lambda v: 0 < v <= 1, "a number in (0, 1]"),
+        ("min_iv", min_iv, c.MIN_IV),
+        ("max_correlation", max_correlation, c.MAX_CORRELATION),
+        ("max_vif", max_vif, c.MAX_VIF),
+        ("entry_p_value", entry_p_value, c.ENTRY_P_VALUE),
+        ("max_characteristics", cap, c.MAX_CHARACTERISTICS),
     ]
-    for label, value, valid, expected in checks:
-        if isinstance(value, bool) or not isinstance(value, (int, float, np.number)):
-            raise InputError(f"{label}: expected {expected}, got {value!r}")
-        if not (np.isfinite(value) and valid(value)):
-            raise InputError(f"{label}: expected {expected}, got {value!r}")
-    if method not in METHODS:
-        raise InputError(f"method: expected one of {', '.join(map(repr, METHODS))}, got {method!r}")
-    if isinstance(cap, bool) or not isinstance(cap, (int, np.integer)) or cap < 1:
-        raise InputError(f"max_characteristics: expected a whole number >= 1, got {cap!r}")
+    for label, value, setting in checks:
+        if not setting.allows(value):
+            raise InputError(f"{label}: expected {setting.expected()}, got {value!r}")
+    if not c.METHOD.allows(method):
+        raise InputError(f"method: expected one of {', '.join(map(repr, c.METHODS))}, "
+                         f"got {method!r}")

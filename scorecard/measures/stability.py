@@ -8,6 +8,7 @@ from typing import NamedTuple
 import numpy as np
 from scipy import stats
 
+from scorecard.constraints import SHIFT, WATCH, cutoffs_in_order
 from scorecard.measures.checks import (
     as_counts,
     as_number,
@@ -122,7 +123,7 @@ def stability_critical_value(n_baseline, n_current, n_bins, level=0.95):
     return float((1 / n_baseline + 1 / n_current) * stats.chi2.ppf(level, n_bins - 1))
 
 
-def stability_status(index, watch=0.10, shift=0.25):
+def stability_status(index, watch=WATCH.default, shift=SHIFT.default):
     """Classify a stability index as 'stable', 'watch' or 'shift'.
 
     Parameters
@@ -130,7 +131,7 @@ def stability_status(index, watch=0.10, shift=0.25):
     index : float
         A non-negative stability index (``inf`` allowed).
     watch, shift : float, default 0.10 and 0.25
-        Cut-offs, ``0 < watch <= shift``; an index equal to a cut-off reaches that status.
+        Cut-offs, ``0 < watch < shift``; an index equal to a cut-off reaches that status.
 
     Returns
     -------
@@ -146,8 +147,8 @@ def stability_status(index, watch=0.10, shift=0.25):
     shift = as_number(shift, "shift")
     if not index >= 0:
         raise ValueError(f"index: must be a number >= 0, got {index!r}")
-    if not 0 < watch <= shift < math.inf:
-        raise ValueError(f"watch, shift: need 0 < watch <= shift, got {watch!r}, {shift!r}")
+    if not cutoffs_in_order(watch, shift):
+        raise ValueError(f"watch, shift: need 0 < watch < shift, got {watch!r}, {shift!r}")
     if index >= shift:
         return "shift"
     if index >= watch:

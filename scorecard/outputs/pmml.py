@@ -3,7 +3,7 @@
 Every characteristic becomes a ``Characteristic`` whose ``Attribute`` elements hold the points
 (``partialScore``) and a predicate for the bin's rule. PMML takes the first attribute whose
 predicate is true, so the attributes follow the precedence of
-:func:`scorecard.card.scoring.bin_codes`: missing first, then special values, then values outside the
+:func:`scorecard.card.scoring.bin_codes`: missing first, then sentinels, then values outside the
 development range, then the value ranges (or the groups of levels, then unseen levels).
 
 Reason codes use ``reasonCodeAlgorithm="pointsBelow"``: an evaluator pools the points each
@@ -33,12 +33,13 @@ from scorecard.card.scorecard import (
     MISSING,
     OUT_OF_RANGE,
     RANGE,
-    SPECIAL,
+    SENTINEL,
     UNSEEN,
     Characteristic,
     Scorecard,
 )
 from scorecard.card.scoring import reason_groups
+from scorecard.constraints import REASONS
 from scorecard.errors import InputError
 from scorecard.outputs.atomic import atomic_path
 
@@ -50,7 +51,7 @@ _NOT_XML = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ud800-\udfff\ufffe\uffff]")
 _NOT_IN_ARRAY = re.compile(r'["\\]')
 
 
-def pmml_document(card: Scorecard, reasons: int = 4) -> ET.ElementTree:
+def pmml_document(card: Scorecard, reasons: int = REASONS.default) -> ET.ElementTree:
     """The PMML 4.4 document of ``card`` with ``reasons`` reason-code output fields.
 
     Examples
@@ -93,7 +94,7 @@ def pmml_document(card: Scorecard, reasons: int = 4) -> ET.ElementTree:
     return tree
 
 
-def write_pmml(card: Scorecard, path, reasons: int = 4) -> None:
+def write_pmml(card: Scorecard, path, reasons: int = REASONS.default) -> None:
     """Write the PMML document of ``card`` to ``path`` (UTF-8), atomically."""
     tree = pmml_document(card, reasons)
     with atomic_path(path) as tmp:
@@ -142,7 +143,7 @@ def _data_field(parent: ET.Element, char: Characteristic) -> None:
     if _refuses(char, OUT_OF_RANGE) and char.development_range is not None:
         low, high = char.development_range
         where = f"characteristics.{name}.development_range"
-        bounds = [(low, high)] + [(v, v) for v in char.special_values]
+        bounds = [(low, high)] + [(v, v) for v in char.sentinels]
         for lo, hi in bounds:
             ET.SubElement(field, "Interval", {"closure": "closedClosed",
                                               "leftMargin": _number(lo, where),
@@ -247,7 +248,7 @@ def _characteristic(parent: ET.Element, char: Characteristic, baseline: float) -
 
 
 def _in_precedence(char: Characteristic):
-    order = ((MISSING, SPECIAL, OUT_OF_RANGE, RANGE) if char.kind == "numeric"
+    order = ((MISSING, SENTINEL, OUT_OF_RANGE, RANGE) if char.kind == "numeric"
              else (MISSING, LEVELS, UNSEEN))
     return [b for kind in order for b in char.bins if b.kind == kind]
 
@@ -259,7 +260,7 @@ def _predicate(char: Characteristic, b) -> ET.Element:
         return _simple(name, "isMissing")
     if b.kind == UNSEEN or (b.kind == RANGE and b.lower is None and b.upper is None):
         return _simple(name, "isNotMissing")
-    if b.kind == SPECIAL:
+    if b.kind == SENTINEL:
         return _simple(name, "equal", _number(b.value, where))
     if b.kind == OUT_OF_RANGE:
         if char.development_range is None:

@@ -29,6 +29,7 @@ import pyarrow.parquet as pq
 
 from scorecard.card.scorecard import MISSING, OUT_OF_RANGE, UNSEEN, Scorecard, load_scorecard
 from scorecard.card.scoring import UnusualValues, apply_scorecard, bad_probability, reason_codes
+from scorecard.constraints import REASONS
 from scorecard.data.formats import (
     PARQUET_SUFFIXES,
     data_format,
@@ -161,7 +162,7 @@ def score_file(model, data, out, keep=(), reasons: int | None = None, *,
     return counts.summary(out)
 
 
-def scored_schema(card: Scorecard, source: pa.Schema, keep=(), reasons: int = 4) -> pa.Schema:
+def scored_schema(card: Scorecard, source: pa.Schema, keep=(), reasons: int = REASONS.default) -> pa.Schema:
     """Schema of the scored file for input columns ``source``; InputError on a name clash."""
     fields = [source.field(k) for k in keep]
     fields += [pa.field("score", pa.int64()), pa.field("bad_probability", pa.float64())]
@@ -174,7 +175,7 @@ def scored_schema(card: Scorecard, source: pa.Schema, keep=(), reasons: int = 4)
     return pa.schema(fields)
 
 
-def scored_batch(card: Scorecard, batch: pa.RecordBatch, keep=(), reasons: int = 4,
+def scored_batch(card: Scorecard, batch: pa.RecordBatch, keep=(), reasons: int = REASONS.default,
                  reason_text: bool = False, schema: pa.Schema | None = None):
     """Score one batch of rows; return the output batch and the raw :class:`Scores`."""
     schema = schema or scored_schema(card, batch.schema, keep, reasons)

@@ -7,7 +7,7 @@ arithmetic, so it runs unchanged in SQLite and other engines. The bad probabilit
 exponential, which not every engine offers, so the query leaves it out.
 
 Each points column is one CASE whose branches follow the precedence of
-:func:`scorecard.card.scoring.bin_codes`: missing, special values, outside the development range,
+:func:`scorecard.card.scoring.bin_codes`: missing, sentinels, outside the development range,
 then the value ranges (or the groups of levels, then any other level). A bin whose rows the
 scorecard refuses has no branch, so its points are NULL, the score is NULL and the reasons read
 ``REJECTED:<name>``. Reason codes are ranked in standard SQL without window functions: a code's
@@ -27,12 +27,13 @@ from scorecard.card.scorecard import (
     MISSING,
     OUT_OF_RANGE,
     RANGE,
-    SPECIAL,
+    SENTINEL,
     UNSEEN,
     Characteristic,
     Scorecard,
 )
 from scorecard.card.scoring import REFUSED_PREFIX, reason_groups
+from scorecard.constraints import REASONS
 from scorecard.errors import InputError
 from scorecard.outputs.atomic import write_text
 
@@ -81,7 +82,7 @@ def _check_text(value: str, what: str) -> None:
         raise InputError(f"{what} {value!r}: holds a NUL character, which SQL text cannot carry")
 
 
-def scoring_query(card: Scorecard, table: str = "applications", keep=(), reasons: int = 4) -> str:
+def scoring_query(card: Scorecard, table: str = "applications", keep=(), reasons: int = REASONS.default) -> str:
     """The SQL query that scores every row of ``table``.
 
     Parameters
@@ -150,7 +151,7 @@ def scoring_query(card: Scorecard, table: str = "applications", keep=(), reasons
 
 
 def write_sql(card: Scorecard, path, table: str = "applications", keep=(),
-              reasons: int = 4) -> None:
+              reasons: int = REASONS.default) -> None:
     """Write :func:`scoring_query` to ``path`` (UTF-8), atomically."""
     write_text(path, scoring_query(card, table, keep, reasons))
 
@@ -175,7 +176,7 @@ def _points_case(char: Characteristic) -> str:
         if b.kind == MISSING and not b.rejected:
             branches.append((f"{name} IS NULL", b.points))
     for b in char.bins:
-        if b.kind == SPECIAL:
+        if b.kind == SENTINEL:
             branches.append((f"{name} = {number(b.value)}", b.points))
     if char.kind == "numeric":
         oor = char.bin_index(OUT_OF_RANGE)

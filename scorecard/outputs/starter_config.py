@@ -10,6 +10,7 @@ import numpy as np
 import pandas as pd
 import yaml
 
+from scorecard import constraints as defaults
 from scorecard.data.read import column_kind, read_frame, sniff_csv
 from scorecard.errors import InputError
 
@@ -132,19 +133,26 @@ def starter_config(data, target: str, out=None, *, encoding: str = "utf-8",
              *([f"  decimal: {_scalar(decimal)}"] if decimal != "." else []),
              "  ignore:" + ("" if ignore else " []")]
     lines += [f"    - {_scalar(n)}            # {why}" for n, why in ignore]
+    d = defaults
     lines += ["  protected: []                # columns never used, examined for fairness",
-              "samples:", "  holdout: 0.3", "  seed: 2024"]
+              "samples:", f"  holdout: {d.HOLDOUT.default}", f"  seed: {d.SEED.default}"]
     if dates:
         lines += [f"  out_of_time: null            # e.g. {{column: {dates[0][0]}, from: 2025-01-01}}"]
     else:
         lines += ["  out_of_time: null"]
-    lines += ["binning:", "  fine_bins: 40", "  max_bins: 6", "  min_bin_share: 0.05",
-              "  min_bin_goods: 10", "  min_bin_bads: 10", "  trend: auto",
-              "  special_values: []", "characteristics:" + ("" if chars else " {}")]
+    lines += ["binning:", f"  fine_bins: {d.FINE_BINS.default}",
+              f"  max_bins: {d.MAX_BINS.default}", f"  min_bin_share: {d.MIN_BIN_SHARE.default}",
+              f"  min_bin_goods: {d.MIN_BIN_GOODS.default}",
+              f"  min_bin_bads: {d.MIN_BIN_BADS.default}", f"  trend: {d.TREND.default}",
+              "  sentinels: []", "characteristics:" + ("" if chars else " {}")]
     lines += [f"  {_scalar(n)}: {{kind: {role}}}            # {why}" for n, role, why in chars]
-    lines += ["selection:", "  min_iv: 0.02", "  max_correlation: 0.6", "  max_vif: 5.0",
-              "  method: stepwise", "  entry_p_value: 0.05", "  max_characteristics: 12",
-              "  keep: []", "scaling:", "  base_score: 600", "  base_odds: 50", "  pdo: 20",
+    lines += ["selection:", f"  min_iv: {d.MIN_IV.default}",
+              f"  max_correlation: {d.MAX_CORRELATION.default}",
+              f"  max_vif: {d.MAX_VIF.default}", f"  method: {d.METHOD.default}",
+              f"  entry_p_value: {d.ENTRY_P_VALUE.default}",
+              f"  max_characteristics: {d.MAX_CHARACTERISTICS.default}", "  keep: []",
+              "scaling:", f"  base_score: {d.BASE_SCORE.default:g}",
+              f"  base_odds: {d.BASE_ODDS.default:g}", f"  pdo: {d.PDO.default:g}",
               "output:", "  workbook: out/scorecard.xlsx", "  model: out/scorecard.json",
               "engine: local"]
     return "\n".join(lines) + "\n"
