@@ -48,7 +48,7 @@ from scorecard.evaluation.fairness import compute_fairness
 from scorecard.evaluation.histograms import band_edges, gains_table, performance, score_histogram
 from scorecard.fit.design import CodedColumns
 from scorecard.fit.selection import floor_fates, select_characteristics
-from scorecard.measures.information import iv_strength, outcome_mutual_information
+from scorecard.measures.information import iv_strength, iv_terms, outcome_mutual_information
 
 
 def _say(progress, text):
@@ -303,7 +303,7 @@ def _binned_report(draft: Characteristic, table: np.ndarray, limits, config,
     woe = np.array([bn.woe for bn in char.bins])
     g, bd = table[:, DEVELOPMENT, GOOD], table[:, DEVELOPMENT, BAD]
     # IV of the bins as the model codes them (fallback WoE included).
-    iv = float(np.sum((g / g.sum() - bd / bd.sum()) * woe))
+    iv = float(np.sum(iv_terms(g / g.sum(), bd / bd.sum(), woe)))
     mi = outcome_mutual_information(g, bd)
     report.characteristic = Characteristic(**{**char.__dict__, "information_value": iv})
     report.sample_counts = table
