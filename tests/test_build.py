@@ -6,6 +6,7 @@ points) and reproducibility (the model file alone reproduces the scores behind t
 
 from __future__ import annotations
 
+import dataclasses
 import warnings
 
 import numpy as np
@@ -108,6 +109,16 @@ def test_reported_iv_is_the_measure_of_the_bins_where_no_fallback_applies(demo_b
         assert char.information_value == expected
         checked += 1
     assert checked >= 10
+
+
+def test_the_result_and_its_reports_cannot_change_after_the_build(demo_build):
+    # What an API caller holds is what the outputs show: nothing is filled in afterwards.
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        demo_build.outputs = {}
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        demo_build.reports[0].status = "in model"
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        demo_build.samples.rows = {}
 
 
 def test_points_are_integers_and_scores_are_sums_of_points(demo_build, demo_config_path):
