@@ -7,6 +7,7 @@ functions, so that a command loads only what it needs.
 
 from __future__ import annotations
 
+from dataclasses import replace
 from pathlib import Path
 
 from scorecard.build.pipeline import build_scorecard
@@ -57,7 +58,8 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
     Returns
     -------
     BuildResult
-        The scorecard (``.card``) and the facts behind it.
+        The scorecard (``.card``), the facts behind it (``.stability`` among them: what the
+        workbook's Stability sheet shows) and the paths written (``.outputs``).
     """
     from scorecard.outputs.workbook import write_workbook
     config = load_config(config_path)
@@ -76,8 +78,7 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
         out.write_text(card.name, result.card.to_json())
     if progress:
         progress(f"wrote {book.path} and {card.path}")
-    result.outputs = {"workbook": book.path, "model": card.path}
-    return result
+    return replace(result, outputs={"workbook": book.path, "model": card.path})
 
 
 def score(model, data, out, *, keep=(), reasons=None, reason_text=False):

@@ -2,6 +2,8 @@
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from scorecard.binning.coarse import (
     OTHER_LEVELS,
@@ -13,6 +15,7 @@ from scorecard.binning.coarse import (
 from scorecard.binning.fine import NumericLayout
 from scorecard.card.scorecard import LEVELS, MISSING, RANGE, SENTINEL
 from scorecard.errors import InputError
+from scorecard.measures.information import weight_of_evidence, woe_of_shares
 
 LIMITS = Limits(max_bins=4, min_count=50, min_goods=5, min_bads=5)
 
@@ -95,3 +98,33 @@ def test_small_missing_bin_falls_back_to_average_risk():
                                          [RANGE, RANGE, MISSING], LIMITS)
     assert woe[2] == 0.0 and "too few rows" in notes[2]
     assert woe[0] == pytest.approx(np.log((500 / 903) / (50 / 131)))
+
+
+@settings(deadline=None, max_examples=60)
+@given(st.lists(st.tuples(st.integers(1, 400), st.integers(1, 400),
+                          st.sampled_from((RANGE, LEVELS, MISSING, SENTINEL))),
+                min_size=2, max_size=8))
+def test_bin_woe_is_the_measure_wherever_no_fallback_applies(bins):
+    # One implementation: a bin with goods and bads that the fallbacks leave alone gets exactly
+    # measures.weight_of_evidence, ln((g_i / G) / (b_i / B)), the trade's definition (Siddiqi
+    # 2006, published, from memory). Missing and sentinel bins below the limits get WoE 0.
+    goods = np.array([b[0] for b in bins], dtype=float)
+    bads = np.array([b[1] for b in bins], dtype=float)
+    kinds = [b[2] for b in bins]
+    woe, notes = bin_weights_of_evidence(goods, bads, kinds, LIMITS)
+    estimated = np.array([k in (RANGE, LEVELS) or (g >= LIMITS.min_goods and b >= LIMITS.min_bads)
+                          for g, b, k in bins])
+    np.testing.assert_array_equal(woe[estimated], weight_of_evidence(goods, bads)[estimated])
+    assert [n for n, e in zip(notes, estimated) if e] == [""] * estimated.sum()
+    assert woe[~estimated].tolist() == [0.0] * (~estimated).sum()
+    assert all("too few rows" in n for n, e in zip(notes, estimated) if not e)
+
+
+def test_one_sided_range_bin_gets_half_added_to_its_own_counts_only():
+    # The documented fallback: 0.5 added to the bin's goods and bads, shares of the unchanged
+    # development totals (G = 600, B = 60).
+    woe, notes = bin_weights_of_evidence(np.array([500., 100.]), np.array([60., 0.]),
+                                         [RANGE, RANGE], LIMITS)
+    assert woe[1] == woe_of_shares(100.5 / 600, 0.5 / 60) == pytest.approx(np.log(20.1), rel=1e-14)
+    assert woe[0] == weight_of_evidence([500, 100], [60, 0])[0]
+    assert notes == ["", "no goods or no bads: 0.5 added to each before the weight of evidence"]

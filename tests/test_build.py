@@ -6,6 +6,9 @@ points) and reproducibility (the model file alone reproduces the scores behind t
 
 from __future__ import annotations
 
+import dataclasses
+import warnings
+
 import numpy as np
 import pandas as pd
 import pytest
@@ -20,6 +23,7 @@ from scorecard.data.read import read_frame
 from scorecard.data.samples import EXCLUDED, assign_samples, parse_dates
 from scorecard.evaluation.histograms import score_histogram
 from scorecard.fit.selection import select_characteristics
+from scorecard.measures.information import information_value
 
 
 def _samples(config, frame):
@@ -85,6 +89,36 @@ def test_woe_matches_its_definition(demo_build):
     for b in char.bins:
         if b.kind == RANGE:
             assert b.woe == pytest.approx(np.log((b.goods / g.sum()) / (b.bads / bd.sum())))
+
+
+def test_reported_iv_is_the_measure_of_the_bins_where_no_fallback_applies(demo_build):
+    # One implementation: IV = sum((g_i / G - b_i / B) * WoE_i) (Siddiqi 2006, published, from
+    # memory), exactly as measures.information_value gives it. A bin without cases adds 0 whatever
+    # its WoE, so only a fallback on a bin with cases (0.5 added, too few rows) sets them apart.
+    checked = 0
+    for rep in demo_build.reports:
+        char = rep.characteristic
+        if char is None or any(b.note for b in char.bins if b.count > 0):
+            continue
+        g = np.array([b.goods for b in char.bins])
+        bd = np.array([b.bads for b in char.bins])
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", UserWarning)  # bins without cases: WoE nan, term 0
+            expected = information_value(g, bd).total
+        assert rep.information_value == expected
+        assert char.information_value == expected
+        checked += 1
+    assert checked >= 10
+
+
+def test_the_result_and_its_reports_cannot_change_after_the_build(demo_build):
+    # What an API caller holds is what the outputs show: nothing is filled in afterwards.
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        demo_build.outputs = {}
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        demo_build.reports[0].status = "in model"
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        demo_build.samples.rows = {}
 
 
 def test_points_are_integers_and_scores_are_sums_of_points(demo_build, demo_config_path):

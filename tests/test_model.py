@@ -1,6 +1,7 @@
 """The model file: round trip, and refusal of files edited into inconsistency."""
 
 import json
+from dataclasses import replace
 
 import pytest
 
@@ -31,7 +32,7 @@ def _edited(card, change):
 ])
 def test_hand_edited_model_is_refused(demo_build, change, message):
     numeric_first = sorted(demo_build.card.characteristics, key=lambda c: c.kind != "numeric")
-    card = Scorecard(**{**demo_build.card.__dict__, "characteristics": tuple(numeric_first)})
+    card = replace(demo_build.card, characteristics=tuple(numeric_first))
     with pytest.raises(InputError, match=message):
         Scorecard.from_json(_edited(card, change), "m.json")
 

@@ -169,7 +169,15 @@ def test_band_labels_and_counts():
 
 
 def test_build_stability_compares_holdout_and_out_of_time_with_development(demo_build):
-    comparisons = build_stability(demo_build)
+    comparisons = demo_build.stability
+    reports = {r.name: r for r in demo_build.reports}
+    again = build_stability(demo_build.card, demo_build.histograms, demo_build.band_starts,
+                            {name: reports[name].sample_counts for name in demo_build.card.names},
+                            demo_build.samples.rows, watch=demo_build.config.stability.watch,
+                            shift=demo_build.config.stability.shift)
+    assert [(r.name, r.index, r.status) for c in again for r in (c.score, *c.characteristics)] \
+        == [(r.name, r.index, r.status) for c in comparisons
+            for r in (c.score, *c.characteristics)]
     assert [(c.baseline, c.current) for c in comparisons] == [("development", "holdout"),
                                                              ("development", "out of time")]
     rows = demo_build.samples.rows

@@ -38,7 +38,6 @@ from scorecard.card.scorecard import (
 )
 from scorecard.card.scoring import apply_scorecard
 from scorecard.demo.files import write_demo
-from scorecard.evaluation.stability import build_stability
 from scorecard.outputs.cautions import CAUTION
 from scorecard.outputs.workbook import SHEETS, write_workbook
 from scorecard.outputs.workbook.calculator import defined_name
@@ -222,9 +221,10 @@ def test_score_to_odds_table_follows_the_published_scaling():
     assert table.loc[600, "Bad probability"] == pytest.approx(1 / 51)
 
 
-def test_stability_sheet_lists_every_index_of_build_stability(demo, book):
+def test_stability_sheet_lists_every_index_of_the_api_result(demo, book):
+    # The workbook shows the stability an API caller gets on the result, and nothing else.
     result = demo[0]
-    comparisons = build_stability(result)
+    comparisons = result.stability
     table = _table(book["Stability"])
     expected = [(c.current, r.name, r.index, r.status) for c in comparisons
                 for r in (c.score, *c.characteristics)]
@@ -351,7 +351,7 @@ def test_score_band_and_stability_charts_read_their_tables(demo, book):
             _, first, last = _rows_of(ref)
             assert (first, last) == (title + 2, title + 1 + n_groups)
     stability = _chart_formulas(path, "Stability")
-    assert len(stability) == len(build_stability(demo[0]))
+    assert len(stability) == len(demo[0].stability)
     ws = book["Stability"]
     for refs in stability:
         col, first, last = _rows_of(refs[0])

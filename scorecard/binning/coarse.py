@@ -9,7 +9,6 @@ evidence and points are filled in once the rows have been coded (see :mod:`score
 
 from __future__ import annotations
 
-import math
 from typing import NamedTuple
 
 import numpy as np
@@ -30,6 +29,7 @@ from scorecard.card.scorecard import (
 from scorecard.card.scoring import bin_codes
 from scorecard.data.coding import grid_cells
 from scorecard.errors import InputError
+from scorecard.measures.information import woe_of_shares
 
 OTHER_LEVELS = "other levels"
 
@@ -216,20 +216,19 @@ def bin_weights_of_evidence(goods: np.ndarray, bads: np.ndarray, kinds, limits: 
     fewer goods or bads than the bin limits is too small to estimate and gets WoE 0, the average
     risk of the development sample.
     """
-    total_g, total_b = goods.sum(), bads.sum()
-    woe = np.zeros(len(goods))
-    notes = [""] * len(goods)
-    for i, kind in enumerate(kinds):
-        g, b = goods[i], bads[i]
-        if kind in (RANGE, LEVELS):
-            if g <= 0 or b <= 0:
-                g, b = g + 0.5, b + 0.5
-                notes[i] = "no goods or no bads: 0.5 added to each before the weight of evidence"
-            woe[i] = math.log((g / total_g) / (b / total_b))
-        elif g + b <= 0:
-            notes[i] = "not seen in development: weight of evidence 0 (average risk)"
-        elif g < limits.min_goods or b < limits.min_bads:
-            notes[i] = "too few rows to estimate: weight of evidence 0 (average risk)"
-        else:
-            woe[i] = math.log((g / total_g) / (b / total_b))
-    return woe, notes
+    kinds = np.asarray(kinds, dtype=object)
+    grouped = np.isin(kinds, (RANGE, LEVELS))
+    one_sided = grouped & ((goods <= 0) | (bads <= 0))
+    unseen = ~grouped & (goods + bads <= 0)
+    too_small = ~grouped & ~unseen & ((goods < limits.min_goods) | (bads < limits.min_bads))
+    # The 0.5 goes to the bin only: the shares stay those of the development totals.
+    g = np.where(one_sided, goods + 0.5, goods)
+    b = np.where(one_sided, bads + 0.5, bads)
+    estimated = ~(unseen | too_small)
+    woe = np.where(estimated, woe_of_shares(g / goods.sum(), b / bads.sum()), 0.0)
+    notes = np.select(
+        [one_sided, unseen, too_small],
+        ["no goods or no bads: 0.5 added to each before the weight of evidence",
+         "not seen in development: weight of evidence 0 (average risk)",
+         "too few rows to estimate: weight of evidence 0 (average risk)"], "")
+    return woe, notes.tolist()

@@ -26,6 +26,7 @@ import numpy as np
 
 from scorecard.constraints import MAX_BINS, TREND, TRENDS
 from scorecard.errors import InputError
+from scorecard.measures.information import iv_terms
 
 # IV values this close (relative) count as equal, so that rounding in the last bits never
 # decides between partitions that are equal in exact arithmetic.
@@ -269,14 +270,13 @@ def _candidates(goods, bads, total_goods, total_bads, limits):
         & (g >= limits.goods)
         & (b >= limits.bads)
     )
-    # Invalid bins (empty, or reversed below the diagonal) give 0/0 and log(0); masked below.
-    with np.errstate(divide="ignore", invalid="ignore"):
-        good_share = g / total_goods
-        bad_share = b / total_bads
-        term = np.where(
-            valid, (good_share - bad_share) * np.log(good_share / bad_share), -np.inf
-        )
-        rate = np.where(valid, b / (g + b), np.nan)
+    # Only valid bins are computed: they have goods and bads, so no 0/0 or log(0) arises, and
+    # the costly logarithm skips the empty, reversed and too-small bins.
+    g, b = g[valid], b[valid]
+    term = np.full((n_bounds, n_bounds), -np.inf)
+    term[valid] = iv_terms(g / total_goods, b / total_bads)
+    rate = np.full((n_bounds, n_bounds), np.nan)
+    rate[valid] = b / (g + b)
     return _Candidates(cum_goods, cum_bads, valid, term, rate)
 
 
@@ -373,11 +373,8 @@ def _better(rising, falling):
 def _single_bin_iv(cand, total_goods, total_bads):
     good_share = cand.cum_goods[-1] / total_goods if total_goods > 0 else 0.0
     bad_share = cand.cum_bads[-1] / total_bads if total_bads > 0 else 0.0
-    if good_share == bad_share:
-        return 0.0
-    if good_share == 0 or bad_share == 0:
-        return float("inf")
-    return float((good_share - bad_share) * np.log(good_share / bad_share))
+    # 0 when the shares are equal (both 0 included), inf when only one of them is 0.
+    return float(iv_terms(good_share, bad_share))
 
 
 def _why_no_split(cand, trend, limits):

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 import warnings
+from dataclasses import replace
 from typing import Callable
 
 import numpy as np
@@ -25,7 +26,6 @@ from scorecard.card.scorecard import (
     OUT_OF_RANGE,
     RANGE,
     UNSEEN,
-    Bin,
     Characteristic,
     Scorecard,
 )
@@ -50,9 +50,10 @@ from scorecard.constraints import SCALE_LIMIT
 from scorecard.errors import InputError, ResultWarning
 from scorecard.evaluation.fairness import compute_fairness
 from scorecard.evaluation.histograms import band_edges, gains_table, performance, score_histogram
+from scorecard.evaluation.stability import build_stability
 from scorecard.fit.design import CodedColumns
 from scorecard.fit.selection import floor_fates, select_characteristics
-from scorecard.measures.information import iv_strength, outcome_mutual_information
+from scorecard.measures.information import iv_strength, iv_terms, outcome_mutual_information
 
 
 def _say(progress, text):
@@ -119,13 +120,14 @@ def _outcome_facts(config, engine):
 
 
 def _sample_facts(rows: RowFacts) -> SampleFacts:
-    facts = SampleFacts(len(rows.label), int((rows.sample == EXCLUDED).sum()), {}, {}, {})
-    for code, name in SAMPLE_NAMES.items():
-        mask = rows.sample == code
-        facts.rows[name] = int(mask.sum())
-        facts.goods[name] = float(rows.weight[mask & (rows.label == GOOD)].sum())
-        facts.bads[name] = float(rows.weight[mask & (rows.label == BAD)].sum())
-    return facts
+    masks = {name: rows.sample == code for code, name in SAMPLE_NAMES.items()}
+    return SampleFacts(
+        len(rows.label), int((rows.sample == EXCLUDED).sum()),
+        rows={name: int(mask.sum()) for name, mask in masks.items()},
+        goods={name: float(rows.weight[mask & (rows.label == GOOD)].sum())
+               for name, mask in masks.items()},
+        bads={name: float(rows.weight[mask & (rows.label == BAD)].sum())
+              for name, mask in masks.items()})
 
 
 def _layouts(config, kinds, summary, reports):
@@ -207,9 +209,9 @@ def _with_counts(draft: Characteristic, table: np.ndarray, limits) -> Characteri
     dev = table[:, DEVELOPMENT, :]
     goods, bads = dev[:, GOOD], dev[:, BAD]
     woe, notes = binning.bin_weights_of_evidence(goods, bads, [b.kind for b in draft.bins], limits)
-    bins = tuple(Bin(**{**b.__dict__, "goods": float(g), "bads": float(bd), "woe": float(w),
-                        "note": n}) for b, g, bd, w, n in zip(draft.bins, goods, bads, woe, notes))
-    return Characteristic(**{**draft.__dict__, "bins": bins})
+    bins = tuple(replace(b, goods=float(g), bads=float(bd), woe=float(w), note=n)
+                 for b, g, bd, w, n in zip(draft.bins, goods, bads, woe, notes))
+    return replace(draft, bins=bins)
 
 
 def _unseen_rules(char: Characteristic, rules, coefficient: float = 1.0) -> Characteristic:
@@ -232,14 +234,13 @@ def _unseen_rules(char: Characteristic, rules, coefficient: float = 1.0) -> Char
         elif b.kind == OUT_OF_RANGE:
             rule = rules.out_of_range
         if rule == "worst":
-            b = Bin(**{**b.__dict__, "woe": worst, "note": "scored as the worst attribute (config)"})
+            b = replace(b, woe=worst, note="scored as the worst attribute (config)")
         elif rule == "reject":
-            b = Bin(**{**b.__dict__, "rejected": True, "note": "rows here are refused (config)"})
+            b = replace(b, rejected=True, note="rows here are refused (config)")
         elif rule == "neutral":
-            b = Bin(**{**b.__dict__, "woe": 0.0,
-                       "note": "scored as average risk: weight of evidence 0 (config)"})
+            b = replace(b, woe=0.0, note="scored as average risk: weight of evidence 0 (config)")
         bins.append(b)
-    return Characteristic(**{**char.__dict__, "bins": tuple(bins)})
+    return replace(char, bins=tuple(bins))
 
 
 def _default_reason(name: str) -> str:
@@ -264,9 +265,8 @@ def _scale(config, selection, chosen: list) -> Scorecard:
         override = config.characteristics.get(char.name)
         code = (override.reason_code if override is not None and override.reason_code else f"R{i:02d}")
         text = override.reason if override is not None and override.reason else _default_reason(char.name)
-        bins = tuple(Bin(**{**b.__dict__, "points": int(p)}) for b, p in zip(char.bins, pts.points))
-        chars.append(Characteristic(**{**char.__dict__, "bins": bins, "coefficient": beta,
-                                       "reason_code": code, "reason": text}))
+        bins = tuple(replace(b, points=int(p)) for b, p in zip(char.bins, pts.points))
+        chars.append(replace(char, bins=bins, coefficient=beta, reason_code=code, reason=text))
         exact.append(pts.exact)
     d = config.data
     target = {"column": d.target, "bad": list(d.bad), "good": list(d.good)}
@@ -318,19 +318,17 @@ def _bin_tables(engine, rows, drafts, layouts, counts) -> list[np.ndarray]:
 
 
 def _binned_report(draft: Characteristic, table: np.ndarray, limits, config,
-                   report: CharacteristicReport) -> Characteristic:
-    """Fill ``report`` with the bins' counts, WoE, IV and MI; return the binned characteristic."""
+                   report: CharacteristicReport) -> CharacteristicReport:
+    """``report`` with the bins' counts, WoE, IV and MI and the binned characteristic."""
     char = _unseen_rules(_with_counts(draft, table, limits), config.scoring)
     woe = np.array([bn.woe for bn in char.bins])
     g, bd = table[:, DEVELOPMENT, GOOD], table[:, DEVELOPMENT, BAD]
     # IV of the bins as the model codes them (fallback WoE included).
-    iv = float(np.sum((g / g.sum() - bd / bd.sum()) * woe))
+    iv = float(np.sum(iv_terms(g / g.sum(), bd / bd.sum(), woe)))
     mi = outcome_mutual_information(g, bd)
-    report.characteristic = Characteristic(**{**char.__dict__, "information_value": iv})
-    report.sample_counts = table
-    report.information_value, report.strength = iv, iv_strength(iv)
-    report.mutual_information_nats, report.mutual_information_bits = mi.nats, mi.bits
-    return report.characteristic
+    return replace(report, characteristic=replace(char, information_value=iv),
+                   sample_counts=table, information_value=iv, strength=iv_strength(iv),
+                   mutual_information_nats=mi.nats, mutual_information_bits=mi.bits)
 
 
 def build_scorecard(config, engine, progress: Callable[[str], None] | None = None) -> BuildResult:
@@ -384,8 +382,9 @@ def _build(config, engine, progress) -> BuildResult:
     _say(progress, f"coarse classes formed for {len(drafts)} characteristics")
 
     tables = _bin_tables(engine, rows, drafts, layouts, counts)
-    binned = [_binned_report(draft, table, limits, config, reports[draft.name])
-              for draft, table in zip(drafts, tables)]
+    for draft, table in zip(drafts, tables):
+        reports[draft.name] = _binned_report(draft, table, limits, config, reports[draft.name])
+    binned = [reports[draft.name].characteristic for draft in drafts]
 
     # Only characteristics that pass the information value floor (or are kept) can enter the
     # model, so only they take part in the pattern table: it stays small however many weak
@@ -416,9 +415,8 @@ def _build(config, engine, progress) -> BuildResult:
         keep=tuple(s.keep))
     selection = selection._replace(fates={**floored, **selection.fates})
     for name, fate in selection.fates.items():
-        rep = reports[name]
-        rep.status = "in model" if fate.selected else "not selected"
-        rep.stage, rep.reason = fate.stage, fate.reason
+        reports[name] = replace(reports[name], status="in model" if fate.selected
+                                else "not selected", stage=fate.stage, reason=fate.reason)
     if not selection.selected:
         raise InputError(f"{config.data.source}: no characteristic entered the model "
                          "(see the information values; lower selection.min_iv or entry_p_value)")
@@ -427,21 +425,26 @@ def _build(config, engine, progress) -> BuildResult:
     by_name = {c.name: c for c in binned}
     card = _scale(config, selection, [by_name[n] for n in selection.selected])
     for char in card.characteristics:
-        reports[char.name].characteristic = char
+        reports[char.name] = replace(reports[char.name], characteristic=char)
     histograms = _histograms(card, patterns, [c.name for c in candidates])
     unmeasured = _unmeasured(config, histograms)
     perf = {name: performance(h) for name, h in histograms.items() if name not in unmeasured}
     gains_sample = "holdout" if "holdout" in perf else "development"
     starts = band_edges(histograms[gains_sample], config.evaluation.score_bands)
     gains = gains_table(histograms[gains_sample], starts, card.scaling)
-    ordered = [reports[n] for n in head.columns if n in reports]
+    ordered = tuple(reports[n] for n in head.columns if n in reports)
+    stability = build_stability(
+        card, histograms, starts, {c.name: reports[c.name].sample_counts
+                                   for c in card.characteristics},
+        facts.rows, watch=config.stability.watch, shift=config.stability.shift,
+        unit="weights" if config.data.weight else "rows")
     fairness = compute_fairness(config, engine, rows, card)
     if fairness is not None:
         _say(progress, f"fairness check on {', '.join(config.data.protected)}: "
                        f"{len(fairness.flags)} findings")
     return BuildResult(config, card, ordered, selection, facts, histograms, perf, gains,
-                       gains_sample, starts, patterns, fairness=fairness, unmeasured=unmeasured,
-                       extreme_values=extreme)
+                       gains_sample, starts, patterns, stability, fairness=fairness,
+                       unmeasured=unmeasured, extreme_values=extreme)
 
 
 def _check_settings(config, engine, layouts: dict, counts: dict) -> None:

@@ -1,17 +1,29 @@
-"""What a build returns: the scorecard and every fact the outputs need."""
+"""What a build returns: the scorecard and every fact the outputs need.
+
+Every object here is frozen: the build constructs each once with all its fields (or derives a
+new one with :func:`dataclasses.replace`), so what an API caller holds is what the workbook shows.
+"""
 
 from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
 from scorecard.card.scorecard import Characteristic, Scorecard
+from scorecard.config import Config
+from scorecard.engines.patterns import Patterns
+from scorecard.evaluation.fairness import FairnessReport
+from scorecard.evaluation.histograms import ScoreHistogram
+from scorecard.evaluation.stability import StabilityComparison
+from scorecard.fit.selection import Selection
+from scorecard.measures.ranking import Discrimination
 
 
-@dataclass
+@dataclass(frozen=True)
 class CharacteristicReport:
     """What happened to one column: its classing, measures and fate."""
 
@@ -30,34 +42,36 @@ class CharacteristicReport:
     sample_counts: np.ndarray | None = None         # (bins, samples, good/bad) weights
 
 
-@dataclass
+@dataclass(frozen=True)
 class SampleFacts:
     rows_read: int
     left_out: int                   # outcome neither bad nor good
-    rows: dict                      # sample name -> rows
-    goods: dict                     # sample name -> weight of goods
-    bads: dict
+    rows: dict[str, int]            # sample name -> rows
+    goods: dict[str, float]         # sample name -> weight of goods
+    bads: dict[str, float]
 
 
-@dataclass
+@dataclass(frozen=True)
 class BuildResult:
     """Everything the outputs need: the scorecard and the facts behind it."""
 
-    config: object
+    config: Config
     card: Scorecard
-    reports: list
-    selection: object
+    reports: tuple[CharacteristicReport, ...]      # in the data's column order
+    selection: Selection
     samples: SampleFacts
-    histograms: dict                # sample name -> ScoreHistogram
-    performance: dict               # sample name -> Discrimination
+    histograms: dict[str, ScoreHistogram]           # by sample name
+    performance: dict[str, Discrimination]          # by sample name
     gains: pd.DataFrame
     gains_sample: str
     band_starts: np.ndarray
-    patterns: object = None
-    fairness: object = None         # scorecard.evaluation.fairness.FairnessReport, or None without protected columns
-    outputs: dict = field(default_factory=dict)
-    unmeasured: dict = field(default_factory=dict)   # sample name -> why it has no AUC, Gini, KS
-    extreme_values: dict = field(default_factory=dict)   # column -> its values far beyond the rest
+    patterns: Patterns
+    # Development against holdout, then against out of time, for those present.
+    stability: tuple[StabilityComparison, ...]
+    fairness: FairnessReport | None = None          # None without protected columns
+    outputs: dict[str, Path] = field(default_factory=dict)   # set by api.build (replace)
+    unmeasured: dict[str, str] = field(default_factory=dict)   # sample -> why no AUC, Gini, KS
+    extreme_values: dict[str, str] = field(default_factory=dict)   # column -> values far beyond
 
     def tables(self) -> dict:
         """Every table the workbook shows, as DataFrames keyed by the sheet's name for them.

@@ -52,6 +52,7 @@ from scorecard.evaluation.stability import (
     score_stability,
 )
 from scorecard.measures.calibration import HosmerLemeshow, hosmer_lemeshow
+from scorecard.measures.information import woe_of_shares, woe_standard_error
 from scorecard.measures.ranking import Discrimination, discrimination
 
 SIGNIFICANCE = 0.05
@@ -332,9 +333,9 @@ def _calibration(card, counts: _FileCounts, starts):
 def _woe(goods: np.ndarray, bads: np.ndarray):
     """WoE and its standard error per bin; nan where a bin lacks goods or bads."""
     usable = (goods > 0) & (bads > 0)
-    safe_goods, safe_bads = np.where(usable, goods, 1.0), np.where(usable, bads, 1.0)
-    woe = np.log(safe_goods / goods.sum()) - np.log(safe_bads / bads.sum())
-    error = np.sqrt(1 / safe_goods + 1 / safe_bads)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        woe = woe_of_shares(goods / goods.sum(), bads / bads.sum())
+    error = woe_standard_error(goods, bads)
     return np.where(usable, woe, np.nan), np.where(usable, error, np.nan)
 
 

@@ -261,43 +261,53 @@ def band_counts(hist, starts) -> np.ndarray:
     return np.bincount(index, weights=hist.goods + hist.bads, minlength=len(starts))
 
 
-def build_stability(result) -> list[StabilityComparison]:
-    """Stability of the build's holdout and out-of-time samples against development.
+def build_stability(card, histograms, band_starts, bin_counts, sample_rows, *, watch=0.10,
+                    shift=0.25, unit="rows") -> tuple[StabilityComparison, ...]:
+    """Stability of a build's holdout and out-of-time samples against development.
 
-    Score bands are the build's ``band_starts``; characteristics are those in the model, on
-    their scorecard bins. Shares are of weights (rows when the config names no weight
+    Score bands start at ``band_starts``; characteristics are those of ``card``, on their
+    scorecard bins. Shares are of the counts given (weights, when the build has a weight
     column); the critical values use the unweighted row counts of the samples.
 
     Parameters
     ----------
-    result : scorecard.build.result.BuildResult
+    card : scorecard.card.scorecard.Scorecard
+    histograms : dict
+        Sample name -> :class:`~scorecard.evaluation.histograms.ScoreHistogram`; a sample
+        without one is left out.
+    band_starts : array_like of int
+        First score of each band.
+    bin_counts : dict
+        Characteristic name -> its ``(bins, samples, good/bad)`` weights, for every
+        characteristic of ``card``.
+    sample_rows : dict
+        Sample name -> rows.
+    watch, shift : float
+        The status cut-offs.
+    unit : str
+        What the counts are, for the tables' notes: ``'rows'`` or ``'weights'``.
 
     Returns
     -------
-    list of StabilityComparison
+    tuple of StabilityComparison
         Development vs holdout, then development vs out of time, for those present.
     """
-    config = result.config
-    watch, shift = config.stability.watch, config.stability.shift
-    unit = "weights" if config.data.weight else "rows"
-    starts = np.asarray(result.band_starts)
-    card = result.card
+    starts = np.asarray(band_starts)
     labels = band_labels(starts, card.max_score)
-    in_model = {r.name: r for r in result.reports if r.status == "in model"}
     baseline_name = SAMPLE_NAMES[DEVELOPMENT]
-    base_hist = result.histograms[baseline_name]
+    base_hist = histograms[baseline_name]
     comparisons = []
     for code in (HOLDOUT, OUT_OF_TIME):
         current_name = SAMPLE_NAMES[code]
-        if current_name not in result.histograms:
+        if current_name not in histograms:
             continue
-        sizes = (result.samples.rows[baseline_name], result.samples.rows[current_name])
+        sizes = (sample_rows[baseline_name], sample_rows[current_name])
         options = {"watch": watch, "shift": shift, "sizes": sizes, "unit": unit}
         score = score_stability(band_counts(base_hist, starts),
-                                band_counts(result.histograms[current_name], starts), labels,
+                                band_counts(histograms[current_name], starts), labels,
                                 **options)
-        by_sample = [in_model[c.name].sample_counts.sum(axis=2) for c in card.characteristics]
+        by_sample = [bin_counts[c.name].sum(axis=2) for c in card.characteristics]
         chars = tuple(characteristic_stability(c, rows[:, DEVELOPMENT], rows[:, code], **options)
                       for c, rows in zip(card.characteristics, by_sample))
         comparisons.append(StabilityComparison(baseline_name, current_name, score, chars))
-    return comparisons
+    return tuple(comparisons)

@@ -25,11 +25,14 @@ from scorecard.measures.information import (
                                             entropy,
                                             information_value,
                                             iv_strength,
+                                            iv_terms,
                                             logistic,
                                             logit,
                                             mutual_information,
                                             outcome_mutual_information,
                                             weight_of_evidence,
+                                            woe_of_shares,
+                                            woe_standard_error,
 )
 from scorecard.measures.ranking import Discrimination, PairedAUC, discrimination, paired_auc
 from scorecard.measures.stability import (
@@ -52,6 +55,7 @@ __all__ = [
     "hosmer_lemeshow",
     "information_value",
     "iv_strength",
+    "iv_terms",
     "logistic",
     "logit",
     "mutual_information",
@@ -61,4 +65,6 @@ __all__ = [
     "stability_index",
     "stability_status",
     "weight_of_evidence",
+    "woe_of_shares",
+    "woe_standard_error",
 ]

@@ -1,5 +1,11 @@
 """Information measures on counts: log-odds, entropy, weight of evidence, information value,
-mutual information and Cramér's V (see the package docstring for the conventions)."""
+mutual information and Cramér's V (see the package docstring for the conventions).
+
+The one home of the weight of evidence and information value formulas: :func:`woe_of_shares`,
+:func:`iv_terms` and :func:`woe_standard_error` are the element-wise kernels, unchecked so that
+the exact optimiser can call them on whole arrays of candidate bins; every other stage calls
+them or the checked functions built on them.
+"""
 
 from __future__ import annotations
 
@@ -17,7 +23,6 @@ from scorecard.measures.checks import (
     check_positive_total,
     check_same_length,
     check_smoothing,
-    log_ratio,
 )
 
 
@@ -119,6 +124,88 @@ def entropy(counts):
     return float(-special.xlogy(shares, shares).sum())
 
 
+def woe_of_shares(good_share, bad_share):
+    """Weight of evidence ``ln(good_share / bad_share)``, element-wise and unchecked.
+
+    The kernel behind every weight of evidence in the product. The log is taken of the
+    quotient, one rounding fewer than a difference of logs.
+
+    Parameters
+    ----------
+    good_share, bad_share : array_like
+        Shares ``g_i / G`` and ``b_i / B`` (any broadcastable shapes), non-negative.
+
+    Returns
+    -------
+    ndarray or float
+        ``-inf`` where only the good share is 0, ``+inf`` where only the bad share is 0, nan
+        where both are; no RuntimeWarning.
+
+    Examples
+    --------
+    >>> woe_of_shares(np.array([0.25, 0.75, 0.0]), np.array([0.75, 0.25, 0.5])).round(4)
+    array([-1.0986,  1.0986,    -inf])
+    """
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.log(np.divide(good_share, bad_share))
+
+
+def iv_terms(good_share, bad_share, woe=None):
+    """Information value terms ``(good_share - bad_share) * WoE``, element-wise and unchecked.
+
+    Parameters
+    ----------
+    good_share, bad_share : array_like
+        Shares ``g_i / G`` and ``b_i / B`` (any broadcastable shapes), non-negative.
+    woe : array_like, optional
+        The weight of evidence to weigh the shares by, when it is not their own
+        :func:`woe_of_shares` (a scorecard's bins may carry a fallback WoE). Default: theirs.
+
+    Returns
+    -------
+    ndarray or float
+        With their own WoE every term is ``>= 0``: ``+inf`` where exactly one share is 0, and 0
+        where both are (a bin with no cases adds nothing, though its WoE is nan).
+
+    Examples
+    --------
+    >>> iv_terms(np.array([0.25, 0.75]), np.array([0.75, 0.25])).round(4)
+    array([0.5493, 0.5493])
+    >>> float(iv_terms(0.0, 0.0)), float(iv_terms(0.0, 0.5))
+    (0.0, inf)
+    """
+    good_share, bad_share = np.asarray(good_share), np.asarray(bad_share)
+    if woe is None:
+        woe = woe_of_shares(good_share, bad_share)
+    no_cases = (good_share == 0) & (bad_share == 0)
+    return (good_share - bad_share) * np.where(no_cases, 0.0, woe)
+
+
+def woe_standard_error(goods, bads):
+    """Standard error ``sqrt(1 / g + 1 / b)`` of a bin's weight of evidence, element-wise.
+
+    The delta-method error of a log-odds from ``g`` goods and ``b`` bads (from memory; the
+    totals' own error is neglected). Unchecked.
+
+    Parameters
+    ----------
+    goods, bads : array_like
+        Counts of goods and bads per bin.
+
+    Returns
+    -------
+    ndarray or float
+        ``inf`` where a bin has no goods or no bads; no RuntimeWarning.
+
+    Examples
+    --------
+    >>> float(woe_standard_error(4.0, 4.0))
+    0.7071067811865476
+    """
+    with np.errstate(divide="ignore"):
+        return np.sqrt(np.divide(1.0, goods) + np.divide(1.0, bads))
+
+
 def _smoothed_shares(goods, bads, smoothing):
     goods = as_counts(goods, "goods")
     bads = as_counts(bads, "bads")
@@ -165,7 +252,7 @@ def weight_of_evidence(goods, bads, smoothing=0.0):
     """
     good_share, bad_share = _smoothed_shares(goods, bads, smoothing)
     _warn_empty_bins(good_share, bad_share)
-    return log_ratio(good_share, bad_share)
+    return woe_of_shares(good_share, bad_share)
 
 
 def information_value(goods, bads, smoothing=0.0):
@@ -189,10 +276,8 @@ def information_value(goods, bads, smoothing=0.0):
     """
     good_share, bad_share = _smoothed_shares(goods, bads, smoothing)
     _warn_empty_bins(good_share, bad_share)
-    woe = log_ratio(good_share, bad_share)
-    # A bin without cases has equal (zero) shares, so it adds nothing even though its WoE is nan.
-    no_cases = (good_share == 0) & (bad_share == 0)
-    per_bin = (good_share - bad_share) * np.where(no_cases, 0.0, woe)
+    woe = woe_of_shares(good_share, bad_share)
+    per_bin = iv_terms(good_share, bad_share, woe)
     return InformationValue(total=float(per_bin.sum()), per_bin=per_bin, woe=woe)
 
 

@@ -27,7 +27,8 @@ def write_workbook(result, path) -> Path:
     Parameters
     ----------
     result : scorecard.build.result.BuildResult
-        The build; ``result.fairness``, when present and not None, adds the Fairness sheet.
+        The build, the only thing read; ``result.fairness``, when not None, adds the Fairness
+        sheet.
     path : path
         The .xlsx file to write; its folder is created if needed.
 
@@ -44,8 +45,6 @@ def write_workbook(result, path) -> Path:
     >>> write_workbook(result, f"{folder}/again.xlsx").name
     'again.xlsx'
     """
-    from scorecard.evaluation.stability import build_stability
-
     wb = Workbook()
     wb.remove(wb.active)
     ws = {name: wb.create_sheet(name) for name in SHEETS}
@@ -56,10 +55,10 @@ def write_workbook(result, path) -> Path:
     points_header, _ = sheets.write_points(ws["Points"], result)
     sheets.write_score_bands(ws["Score bands"], result)
     limits = result.config.stability
-    stability_sheet.write_stability(ws["Stability"], build_stability(result),
+    stability_sheet.write_stability(ws["Stability"], result.stability,
                                     watch=limits.watch, shift=limits.shift)
     calculator.write_calculator(ws["Calculator"], result.card, points_header)
-    fairness = getattr(result, "fairness", None)
+    fairness = result.fairness
     if fairness is not None:
         from scorecard.outputs.workbook.fairness_sheet import write_fairness_sheet
         write_fairness_sheet(wb.create_sheet(FAIRNESS), fairness)

@@ -41,7 +41,7 @@ def summary_frame(comparisons) -> pd.DataFrame:
 
 
 def write_stability(ws: Worksheet, comparisons, *, watch: float, shift: float) -> None:
-    """Fill the sheet from :func:`scorecard.evaluation.stability.build_stability`'s comparisons."""
+    """Fill the sheet from a build's ``result.stability`` comparisons."""
     summary = summary_frame(comparisons)
     header, last = write_table(ws, summary, formats={
         "Stability index": style.WOE, "Critical value (95%)": style.WOE,
