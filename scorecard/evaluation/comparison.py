@@ -42,7 +42,8 @@ from scorecard.card.scoring import bad_probability
 from scorecard.data.outcome import BAD, GOOD, OTHER
 from scorecard.errors import InputError
 from scorecard.evaluation.histograms import ScoreHistogram, band_edges
-from scorecard.evaluation.scored_rows import outcome_labels, read_rows, score_rows
+from scorecard.evaluation import scored_rows
+from scorecard.evaluation.scored_rows import outcome_labels, read_rows
 from scorecard.evaluation.stability import (
     IndexResult,
     StabilityComparison,
@@ -248,7 +249,7 @@ def _finite(value):
 
 def _count_file(card: Scorecard, path, frame: pd.DataFrame) -> _FileCounts:
     """Score ``frame`` once and keep only counts."""
-    scored = score_rows(card, path, frame)
+    scored = scored_rows.score_rows(card, path, frame)
     width = card.max_score - card.min_score + 1
     kept = ~scored.rejected
     at = scored.score[kept] - card.min_score
