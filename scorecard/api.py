@@ -1,4 +1,4 @@
-"""Plain functions behind every command: build, score, compare, export, init, demo.
+"""Plain functions behind every command: build, score, compare, strategy, export, init, demo.
 
 Each takes paths and options, does the whole job and returns a result object; the click layer
 in :mod:`scorecard.cli` only parses arguments and prints. Heavy modules are imported inside the
@@ -107,6 +107,42 @@ def compare(model, baseline, current, *, bands=None, json_path=None, workbook=No
         from scorecard.outputs.comparison_workbook import write_compare_workbook
         write_compare_workbook(result, workbook)
     return result
+
+
+def strategy(model, data, *, json_path=None, workbook=None, **options):
+    """Cut-offs, profit and swap sets of ``model`` on the rows of ``data``.
+
+    ``options`` are those of :func:`scorecard.evaluation.strategy.strategy`. Writes the JSON
+    and the workbook when their paths are given (never over the model or the data); returns the
+    :class:`~scorecard.evaluation.strategy.Strategy`.
+    """
+    from scorecard.evaluation.strategy import strategy as cut_offs
+    _refuse_overwrite({"--json": json_path, "--workbook": workbook},
+                      {model: "the model file", data: "the data"})
+    result = cut_offs(model, data, **options)
+    if workbook is not None:
+        from scorecard.outputs.strategy_workbook import write_strategy_workbook
+        write_strategy_workbook(result, workbook)
+    if json_path is not None:
+        write_text(json_path, result.to_json())
+    return result
+
+
+def _refuse_overwrite(outputs: dict, inputs: dict) -> None:
+    """InputError when an output path is an input, a folder, or another output."""
+    resolved = {Path(path).resolve(): what for path, what in inputs.items()}
+    seen = {}
+    for option, path in outputs.items():
+        if path is None:
+            continue
+        where = Path(path).resolve()
+        if where in resolved:
+            raise InputError(f"{option} {path}: would overwrite {resolved[where]}")
+        if Path(path).is_dir():
+            raise InputError(f"{option} {path}: is a folder")
+        if where in seen:
+            raise InputError(f"{option} {path}: the same path as {seen[where]}")
+        seen[where] = option
 
 
 def export(model, form, out, *, table="applications", keep=(), reasons=None) -> None:

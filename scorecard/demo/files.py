@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from scorecard.demo.applications import demo_config_text, make_applications
+from scorecard.demo.applications import add_previous_score, demo_config_text, make_applications
 from scorecard.outputs.atomic import atomic_path, write_text
 
 DATA_FILE = "applications.csv"
@@ -13,7 +13,9 @@ CONFIG_FILE = "scorecard.yaml"
 
 
 def write_demo(directory, rows: int = 20_000, seed: int = 2024) -> Path:
-    """Write the demo sample, a drifted recent sample and the config; return the config path.
+    """Write the demo sample, a drifted recent sample (with the older score) and the config.
+
+    Returns the config path.
 
     Examples
     --------
@@ -26,6 +28,9 @@ def write_demo(directory, rows: int = 20_000, seed: int = 2024) -> Path:
     directory.mkdir(parents=True, exist_ok=True)
     for name, drift, offset in ((DATA_FILE, False, 0), (DRIFTED_FILE, True, 1)):
         frame = make_applications(rows=rows, seed=seed + offset, drift=drift)
+        if drift:
+            # The recent applications also carry the score in use today, for swap sets.
+            frame = add_previous_score(frame, seed)
         with atomic_path(directory / name) as tmp:
             frame.to_csv(tmp, index=False)
     config = directory / CONFIG_FILE

@@ -393,7 +393,10 @@ class Strategy(NamedTuple):
     def text(self) -> str:
         """The closing note: the chosen cut-off, the other targets and the swap set."""
         word = "" if self.bad_rates == "observed" else "expected "
-        lines = [f"{self.data}: {self.rows:,} rows; {word}bad rates"
+        source = "bad rates observed" if self.bad_rates == "observed" else \
+            "no outcome column: bad rates expected from the scorecard's probabilities"
+        lines = [f"{self.data}: {self.rows:,} rows; {source}"
+                 + (f"; {self.left_out:,} with another outcome" if self.left_out else "")
                  + (f"; {self.refused:,} refused by the scorecard" if self.refused else "")]
         c = self.at(self.chosen.score)
         lines.append(f"chosen cut-off {c['score']} ({self.chosen.rule}): approves "
