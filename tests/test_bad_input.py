@@ -401,6 +401,10 @@ CASES = [
     pytest.param(write_bytes(DATA, b""), init, ["{d}/applications.csv", "empty"], id="init-data-empty"),
     pytest.param(unchanged, lambda d: ["init", str(d / DATA), "--target", "outcome", "--out", str(d / DATA)],
                  ["{d}/applications.csv", "would overwrite the data"], id="init-out-over-data"),
+    pytest.param(append_config("grades: {count: 1}\n"), build, ["grades.count", "at least 2"],
+                 id="grades-count-below-2"),
+    pytest.param(append_config("grades: {count: 5, long_run_bad_rate: 0}\n"), build,
+                 ["grades.long_run_bad_rate", "above 0"], id="grades-long-run-rate-0"),
     # -- scorecard strategy
     pytest.param(unchanged, lambda d: strategy(d, "--incumbent", "old_score"),
                  ["{d}/applications_recent_drifted.csv", "column old_score", "--incumbent"],

@@ -234,3 +234,20 @@ def test_the_command_writes_the_json_and_workbook(model_path, recent, tmp_path):
     assert book.sheetnames == list(SHEETS)
     assert book["Summary"]["A2"].value == CAUTION
     assert len(book["Cut-offs"]._charts) == 2
+
+
+def test_the_build_workbook_shows_the_cutoff_view_at_each_band_edge(demo_build, tmp_path):
+    # Same counts as the gains table: the approval rate at a band's lowest score is one minus
+    # the cumulative share of the bands below it (invariant between the two tables).
+    from scorecard.outputs.workbook import write_workbook
+    ws = load_workbook(write_workbook(demo_build, tmp_path / "w.xlsx"))["Score bands"]
+    title = next(r for r in range(1, ws.max_row + 1)
+                 if str(ws.cell(r, 1).value).startswith("Cut-off at each band edge"))
+    gains = demo_build.gains
+    rows = gains["Rows"].to_numpy()
+    below = np.concatenate([[0.0], np.cumsum(rows)[:-1]]) / rows.sum()
+    for i, band in enumerate(gains.itertuples()):
+        assert ws.cell(title + 2 + i, 1).value == band[2]      # the band's lowest score
+        assert ws.cell(title + 2 + i, 2).value == pytest.approx(1 - below[i])
+    bads = gains["Bads"].to_numpy()
+    assert ws.cell(title + 2, 3).value == pytest.approx(bads.sum() / rows.sum())

@@ -353,6 +353,25 @@ class FairnessConfig:
 
 
 @dataclass(frozen=True, slots=True)
+class GradesConfig:
+    """Risk grades of the build's workbook.
+
+    Attributes
+    ----------
+    count : int or None
+        Number of grades of about equal shares of the rows (at least 2).
+    edges : tuple of float or None
+        Explicit scores that start a grade, strictly increasing (instead of ``count``).
+    long_run_bad_rate : float or None
+        Long-run average bad rate, in (0, 1), to calibrate the grades' PDs to.
+    """
+
+    count: int | None = None
+    edges: tuple[float, ...] | None = None
+    long_run_bad_rate: float | None = None
+
+
+@dataclass(frozen=True, slots=True)
 class Config:
     """A validated scorecard config.
 
@@ -375,6 +394,7 @@ class Config:
     evaluation: EvaluationConfig = field(default_factory=EvaluationConfig)
     stability: StabilityConfig = field(default_factory=StabilityConfig)
     fairness: FairnessConfig = field(default_factory=FairnessConfig)
+    grades: GradesConfig | None = None
     config_file: str = field(default="", compare=False)
     key_lines: FrozenMapping[str, int] = field(
         default_factory=FrozenMapping, compare=False, repr=False
@@ -1044,7 +1064,7 @@ _FAIRNESS_SCHEMA = {
 }
 _TOP_KEYS = (
     "name", "data", "samples", "binning", "characteristics", "selection", "scaling", "output",
-    "engine", "scoring", "evaluation", "stability", "fairness",
+    "engine", "scoring", "evaluation", "stability", "fairness", "grades",
 )
 
 
@@ -1078,6 +1098,7 @@ def _read_config(source: _Source, root: yaml.MappingNode, base: Path, default_na
         stability=_read_stability(source, top.get("stability")),
         fairness=FairnessConfig(**_section(source, ("fairness",), top.get("fairness"),
                                            _FAIRNESS_SCHEMA)),
+        grades=_read_grades(source, top.get("grades")),
         config_file=source.file,
         key_lines=FrozenMapping((_display(path), line) for path, line in source.lines.items()
                                 if path),
@@ -1223,3 +1244,21 @@ def _read_stability(source: _Source, node: yaml.Node | None) -> StabilityConfig:
         source.fail(("stability", key), f"watch ({stability.watch:g}) must be below "
                                         f"shift ({stability.shift:g})")
     return stability
+
+
+_GRADES_SCHEMA = {
+    "count": _whole(2), "edges": _list_of(_finite, increasing=True, nonempty=True),
+    "long_run_bad_rate": _number(0, 1, low_open=True, high_open=True),
+}
+
+
+def _read_grades(source: _Source, node: yaml.Node | None) -> GradesConfig | None:
+    if node is None or _is_null(node):
+        return None
+    values = _section(source, ("grades",), node, _GRADES_SCHEMA)
+    if ("count" in values) == ("edges" in values):
+        key = "edges" if "edges" in values else "count"
+        source.fail(("grades", key), "give either count (a number of grades) or edges (the "
+                                     "scores that start each grade), not both" if "edges" in
+                    values else "is required: a number of grades (or give edges)")
+    return GradesConfig(**values)

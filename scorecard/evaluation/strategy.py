@@ -596,3 +596,29 @@ def _counts_table(card: Scorecard, scored, kept, label, low, high, gain, loss):
     table = cutoff_table(low, rows, goods, bads, gain_per_good=gain, loss_per_bad=loss,
                          refused=refused)
     return table, expected_bad
+
+
+def band_cutoffs(low: int, goods, bads, starts) -> pd.DataFrame:
+    """The cut-off view of a gains table: the trade-off at each band's lowest score.
+
+    Parameters
+    ----------
+    low : int
+        Score of the first entry of ``goods`` and ``bads`` (a score histogram).
+    goods, bads : array-like
+        Weights of goods and bads at each score.
+    starts : array-like
+        Lowest score of each band, ascending.
+
+    Examples
+    --------
+    >>> band_cutoffs(500, [1, 3, 4, 2], [3, 1, 0, 0], [500, 502])["Approval rate"].tolist()
+    [1.0, 0.42857142857142855]
+    """
+    goods, bads = np.asarray(goods, float), np.asarray(bads, float)
+    table = cutoff_table(low, goods + bads, goods, bads).set_index("score")
+    at = table.loc[np.asarray(starts)]
+    return pd.DataFrame({"Cut-off (approve at or above)": np.asarray(starts),
+                         "Approval rate": at["approval_rate"].to_numpy(),
+                         "Bad rate of the approved": at["approved_bad_rate"].to_numpy(),
+                         "Bad rate of the declined": at["declined_bad_rate"].to_numpy()})
