@@ -115,7 +115,7 @@ def _lines(ws: Worksheet, row: int, heading: str, lines, font=None) -> int:
 
 
 def _pct(value) -> str:
-    return "not defined (no goods or bads)" if value is None or value != value \
+    return "not defined (no goods or bads)" if value is None or math.isnan(value) \
         else f"{value:.2%}"
 
 

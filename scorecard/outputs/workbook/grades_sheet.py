@@ -5,7 +5,6 @@ from __future__ import annotations
 from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.worksheet import Worksheet
 
-from scorecard.evaluation.grades import Grades, grade_table
 from scorecard.outputs.workbook import charts, style
 from scorecard.outputs.workbook.sheets import column_of, note
 from scorecard.outputs.workbook.tables import finish_table_sheet, write_table
@@ -18,16 +17,8 @@ FORMATS = {"Grade": style.INTEGER, "Lowest score": style.INTEGER,
            "Upper bound (95%)": "0.00%", "Calibrated PD": "0.00%"}
 
 
-def build_grades(result) -> Grades:
-    """The grades that ``result.config.grades`` asks for, on the sample of the gains table."""
-    spec = result.config.grades
-    return grade_table(result.histograms[result.gains_sample], result.card.scaling,
-                       count=spec.count, edges=spec.edges,
-                       long_run_bad_rate=spec.long_run_bad_rate)
-
-
 def write_grades_sheet(ws: Worksheet, result) -> None:
-    grades = build_grades(result)
+    grades = result.grades()
     table = grades.table
     if grades.shift is None:
         table = table.drop(columns="Calibrated PD")

@@ -14,9 +14,12 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from scorecard.build import frames
 from scorecard.card import frames as card_frames
-from scorecard.evaluation.strategy import band_cutoffs
 from scorecard.outputs.workbook import charts, style
-from scorecard.outputs.workbook.tables import finish_table_sheet, safe_value, write_table
+from scorecard.outputs.workbook.tables import (
+    finish_table_sheet,
+    safe_value,
+    write_table,
+)
 
 BIN_FORMATS = {"Rows": style.COUNT, "Goods": style.COUNT, "Bads": style.COUNT,
                "Bad rate": style.PERCENT, "Share of rows": style.PERCENT,
@@ -202,8 +205,7 @@ def write_score_bands(ws: Worksheet, result) -> None:
 
 def _cutoff_view(ws: Worksheet, result, row: int) -> int:
     """The trade-off at each band edge, so the reviewer sees it without a second command."""
-    hist = result.histograms[result.gains_sample]
-    view = band_cutoffs(hist.low, hist.goods, hist.bads, result.band_starts)
+    view = result.band_cutoffs()
     _, last = write_table(ws, view, start_row=row,
                           title=f"Cut-off at each band edge ({result.gains_sample})",
                           formats={"Cut-off (approve at or above)": style.INTEGER,
