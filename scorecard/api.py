@@ -1,4 +1,4 @@
-"""Plain functions behind every command: build, score, compare, export, init, demo.
+"""Plain functions behind every command: build, score, compare, strategy, export, init, demo.
 
 Each takes paths and options, does the whole job and returns a result object; the click layer
 in :mod:`scorecard.cli` only parses arguments and prints. Heavy modules are imported inside the
@@ -110,6 +110,28 @@ def compare(model, baseline, current, *, bands=None, json_path=None, workbook=No
             out.write_text("--json", result.to_json())
         if workbook is not None:
             out.write("--workbook", lambda tmp: write_compare_workbook(result, tmp))
+    return result
+
+
+def strategy(model, data, *, json_path=None, workbook=None, **options):
+    """Cut-offs, profit and swap sets of ``model`` on the rows of ``data``.
+
+    ``options`` are those of :func:`scorecard.evaluation.strategy.strategy`. Writes the JSON
+    and the workbook when their paths are given (never over the model or the data); returns the
+    :class:`~scorecard.evaluation.strategy.Strategy`.
+    """
+    from scorecard.evaluation.strategy import strategy as cut_offs
+    from scorecard.outputs.strategy_workbook import write_strategy_workbook
+    wanted = [Output("--json", Path(json_path), (".json",))] if json_path is not None else []
+    if workbook is not None:
+        wanted.append(Output("--workbook", Path(workbook), WORKBOOK))
+    outputs = check_outputs(wanted, {"the model file": model, "the data": data})
+    result = cut_offs(model, data, **options)
+    with staged(outputs) as out:
+        if json_path is not None:
+            out.write_text("--json", result.to_json())
+        if workbook is not None:
+            out.write("--workbook", lambda tmp: write_strategy_workbook(result, tmp))
     return result
 
 

@@ -159,6 +159,51 @@ def compare(model, baseline, current, workbook, json_path, fail_on, bands):
         raise click.exceptions.Exit(1)
 
 
+@main.command("strategy")
+@click.argument("model", type=click.Path(dir_okay=False, path_type=Path))
+@click.argument("data", type=click.Path(path_type=Path))
+@click.option("--incumbent", metavar="COLUMN",
+              help="Column of the score (or decision) in use today, for the swap set.")
+@click.option("--incumbent-direction", type=click.Choice(["higher-is-better", "higher-is-riskier"]),
+              help="Direction of the incumbent score [default: detected, and stated].")
+@click.option("--incumbent-approved", multiple=True, metavar="VALUE",
+              help="A value of a decision column that means approved (repeatable).")
+@click.option("--gain-per-good", type=float, default=1.0, show_default=True,
+              help="Gain from approving an applicant who repays.")
+@click.option("--loss-per-bad", type=float, default=5.0, show_default=True,
+              help="Loss from approving an applicant who defaults.")
+@click.option("--target-approval", type=float, metavar="RATE",
+              help="Choose the highest cut-off approving at least this share, in (0, 1).")
+@click.option("--target-bad-rate", type=float, metavar="RATE",
+              help="Choose the lowest cut-off whose approved bad rate is at most this, in (0, 1).")
+@click.option("--refer-width", type=int, metavar="POINTS",
+              help="Refer the applications this many points below the cut-off for review.")
+@click.option("--step", type=int, metavar="POINTS",
+              help="Points between the cut-offs listed [default: a round step, at most 60 rows].")
+@click.option("--json", "json_path", type=click.Path(dir_okay=False, path_type=Path),
+              help="Write the cut-offs, the chosen one and the swap set as JSON here.")
+@click.option("--workbook", type=click.Path(dir_okay=False, path_type=Path),
+              help="Write the strategy workbook (.xlsx) here.")
+def strategy(model, data, incumbent, incumbent_direction, incumbent_approved, gain_per_good,
+             loss_per_bad, target_approval, target_bad_rate, refer_width, step, json_path,
+             workbook):
+    """Cut-offs of MODEL on DATA: approval and bad rates, profit, and swap sets.
+
+    Applications scoring at or above the cut-off are approved. The chosen cut-off meets
+    --target-approval if given, else --target-bad-rate, else maximises profit.
+    """
+    from scorecard import api
+    result = api.strategy(model, data, json_path=json_path, workbook=workbook,
+                          incumbent=incumbent, incumbent_direction=incumbent_direction,
+                          incumbent_approved=incumbent_approved, gain_per_good=gain_per_good,
+                          loss_per_bad=loss_per_bad, target_approval=target_approval,
+                          target_bad_rate=target_bad_rate, refer_width=refer_width, step=step)
+    click.echo(result.text())
+    for kind, path in (("workbook", workbook), ("json", json_path)):
+        if path is not None:
+            click.echo(f"  {kind}: {path}")
+
+
 @main.command("export")
 @click.argument("model", type=click.Path(dir_okay=False, path_type=Path))
 @click.option("--format", "form", required=True, type=click.Choice(["pmml", "sql"]),

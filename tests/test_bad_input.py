@@ -192,6 +192,13 @@ def score(d: Path, *extra) -> list:
     return ["score", str(d / MODEL), str(d / DATA), "--out", str(d / SCORED), *extra]
 
 
+RECENT = "applications_recent_drifted.csv"
+
+
+def strategy(d: Path, *extra) -> list:
+    return ["strategy", str(d / MODEL), str(d / RECENT), *extra]
+
+
 def init(d: Path, data: str = DATA, target: str = "outcome") -> list:
     return ["init", str(d / data), "--target", target, "--out", str(d / "starter.yaml")]
 
@@ -400,6 +407,32 @@ CASES = [
     pytest.param(write_bytes(DATA, b""), init, ["{d}/applications.csv", "empty"], id="init-data-empty"),
     pytest.param(unchanged, lambda d: ["init", str(d / DATA), "--target", "outcome", "--out", str(d / DATA)],
                  ["{d}/applications.csv", "would overwrite the data"], id="init-out-over-data"),
+    pytest.param(append_config("grades: {count: 1}\n"), build, ["grades.count", "at least 2"],
+                 id="grades-count-below-2"),
+    pytest.param(append_config("grades: {count: 5, long_run_bad_rate: 0}\n"), build,
+                 ["grades.long_run_bad_rate", "above 0"], id="grades-long-run-rate-0"),
+    # -- scorecard strategy
+    pytest.param(unchanged, lambda d: strategy(d, "--incumbent", "old_score"),
+                 ["{d}/applications_recent_drifted.csv", "column old_score", "--incumbent"],
+                 id="strategy-incumbent-absent"),
+    pytest.param(unchanged, lambda d: strategy(d, "--incumbent", "sales_channel"),
+                 ["column sales_channel", "--incumbent-approved"], id="strategy-incumbent-text"),
+    pytest.param(unchanged, lambda d: strategy(d, "--target-approval", "1.5"),
+                 ["--target-approval", "between 0 and 1"], id="strategy-target-approval-above-1"),
+    pytest.param(unchanged, lambda d: strategy(d, "--target-approval", "0"),
+                 ["--target-approval", "between 0 and 1"], id="strategy-target-approval-0"),
+    pytest.param(unchanged, lambda d: strategy(d, "--target-bad-rate", "1"),
+                 ["--target-bad-rate", "between 0 and 1"], id="strategy-target-bad-rate-1"),
+    pytest.param(unchanged, lambda d: strategy(d, "--refer-width", "0"),
+                 ["--refer-width", "at least 1"], id="strategy-refer-width-0"),
+    pytest.param(unchanged, lambda d: strategy(d, "--loss-per-bad", "-1"),
+                 ["--loss-per-bad", "at least 0"], id="strategy-negative-loss"),
+    pytest.param(unchanged, lambda d: strategy(d, "--incumbent-direction", "higher-is-better"),
+                 ["--incumbent-direction", "needs --incumbent"], id="strategy-direction-alone"),
+    pytest.param(unchanged, lambda d: strategy(d, "--json", str(d / RECENT)),
+                 ["--json", "would overwrite the data"], id="strategy-json-over-data"),
+    pytest.param(unchanged, lambda d: strategy(d, "--workbook", str(d / MODEL)),
+                 ["--workbook", "would overwrite the model file"], id="strategy-workbook-over-model"),
 ]
 
 

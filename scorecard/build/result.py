@@ -89,8 +89,26 @@ class BuildResult:
             "Steps": frames.steps_frame(self.selection),
             "Points": card_frames.points_frame(self.card),
             "Score bands": self.gains,
+            "Cut-off at each band edge": self.band_cutoffs(),
             "Score to odds": card_frames.odds_frame(self.card),
+            **({} if self.grades() is None else {"Risk grades": self.grades().table}),
         }
+
+    def band_cutoffs(self):
+        """Approval rate and bad rates when cutting at each score band's lowest score."""
+        from scorecard.evaluation.strategy import band_cutoffs
+        hist = self.histograms[self.gains_sample]
+        return band_cutoffs(hist.low, hist.goods, hist.bads, self.band_starts)
+
+    def grades(self):
+        """The risk grades the config asks for (on the gains table's sample), or None."""
+        spec = getattr(self.config, "grades", None)
+        if spec is None:
+            return None
+        from scorecard.evaluation.grades import grade_table
+        return grade_table(self.histograms[self.gains_sample], self.card.scaling,
+                           count=spec.count, edges=spec.edges,
+                           long_run_bad_rate=spec.long_run_bad_rate)
 
     def _repr_html_(self) -> str:
         tables = self.tables()

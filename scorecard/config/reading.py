@@ -27,6 +27,7 @@ from scorecard.config.schema import (
     EvaluationConfig,
     FairnessConfig,
     FrozenMapping,
+    GradesConfig,
     OutOfTime,
     OutputConfig,
     SamplesConfig,
@@ -117,8 +118,13 @@ _FAIRNESS_SCHEMA = {
 }
 _TOP_KEYS = (
     "name", "data", "samples", "binning", "characteristics", "selection", "scaling", "output",
-    "engine", "scoring", "evaluation", "stability", "fairness",
+    "engine", "scoring", "evaluation", "stability", "fairness", "grades",
 )
+_GRADES_SCHEMA = {
+    "count": v.whole(c.Interval(2)),
+    "edges": v.list_of(v.finite, increasing=True, nonempty=True),
+    "long_run_bad_rate": v.number(c.Interval(0, 1, low_open=True, high_open=True)),
+}
 
 
 def read_config(source: Source, root: yaml.MappingNode, base: Path, default_name: str) -> Config:
@@ -175,6 +181,7 @@ def read_config(source: Source, root: yaml.MappingNode, base: Path, default_name
         stability=_read_stability(source, top.get("stability")),
         fairness=FairnessConfig(**v.section(source, ("fairness",), top.get("fairness"),
                                            _FAIRNESS_SCHEMA)),
+        grades=_read_grades(source, top.get("grades")),
         config_file=source.file,
         key_lines=FrozenMapping((display(path), line) for path, line in source.lines.items()
                                 if path),
@@ -320,3 +327,16 @@ def _read_stability(source: Source, node: yaml.Node | None) -> StabilityConfig:
         source.fail(("stability", key), f"watch ({stability.watch:g}) must be below "
                                         f"shift ({stability.shift:g})")
     return stability
+
+
+def _read_grades(source: Source, node: yaml.Node | None) -> GradesConfig | None:
+    """The grades section, or None when absent: exactly one of count and edges."""
+    if node is None or is_null(node):
+        return None
+    values = v.section(source, ("grades",), node, _GRADES_SCHEMA)
+    if ("count" in values) == ("edges" in values):
+        if "edges" in values:
+            source.fail(("grades", "edges"), "give either count (a number of grades) or edges "
+                                             "(the scores that start each grade), not both")
+        source.fail(("grades", "count"), "is required: a number of grades (or give edges)")
+    return GradesConfig(**values)

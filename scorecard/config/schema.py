@@ -333,6 +333,25 @@ class FairnessConfig:
 
 
 @dataclass(frozen=True, slots=True)
+class GradesConfig:
+    """Risk grades of the build's workbook (the ``grades`` section).
+
+    Attributes
+    ----------
+    count : int or None
+        Number of grades of about equal shares of the rows (at least 2).
+    edges : tuple of float or None
+        Explicit scores that start a grade, strictly increasing (instead of ``count``).
+    long_run_bad_rate : float or None
+        Long-run average bad rate, in (0, 1), to calibrate the grades' PDs to.
+    """
+
+    count: int | None = None
+    edges: tuple[float, ...] | None = None
+    long_run_bad_rate: float | None = None
+
+
+@dataclass(frozen=True, slots=True)
 class Config:
     """A validated scorecard config.
 
@@ -355,6 +374,7 @@ class Config:
     evaluation: EvaluationConfig = field(default_factory=EvaluationConfig)
     stability: StabilityConfig = field(default_factory=StabilityConfig)
     fairness: FairnessConfig = field(default_factory=FairnessConfig)
+    grades: GradesConfig | None = None
     config_file: str = field(default="", compare=False)
     key_lines: FrozenMapping[str, int] = field(
         default_factory=FrozenMapping, compare=False, repr=False

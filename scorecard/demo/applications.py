@@ -44,6 +44,8 @@ _OUT_OF_TIME_FROM = "2025-07-01"
 # Part of the seed of the drifted sample, so that it is a different set of applicants rather
 # than the development applicants with a few columns altered.
 _DRIFT_STREAM = 1
+# The older score's noise has a stream of its own, so adding it changes no other column.
+_PREVIOUS_SCORE_STREAM = 2
 
 _AGE_BANDS = ("18-25", "26-35", "36-50", "51-65", "66+")
 _AGE_SHARES = (0.16, 0.30, 0.30, 0.17, 0.07)
@@ -172,6 +174,32 @@ def make_applications(rows: int = 20_000, seed: int = 2024, drift: bool = False)
             **_as_columns(draws),
         }
     )
+
+
+def add_previous_score(frame: pd.DataFrame, seed: int = 2024) -> pd.DataFrame:
+    """Add ``previous_score``: the invented lender's older, weaker score, higher is better.
+
+    The older score saw only four characteristics (income, late payments, utilisation and
+    housing) with cruder weights, plus noise of its own; the strategy command compares a new
+    scorecard with it (swap sets). Returns a copy of ``frame`` with the column appended.
+
+    Examples
+    --------
+    >>> frame = add_previous_score(make_applications(rows=1000, seed=7))
+    >>> frame["previous_score"].dtype.kind, bool(frame["previous_score"].between(300, 800).all())
+    ('i', True)
+    """
+    rng = np.random.default_rng([seed, _PREVIOUS_SCORE_STREAM])
+    income = frame["monthly_income"].to_numpy(dtype=float)
+    late = frame["late_payments_12m"].to_numpy()
+    utilisation = frame["credit_utilisation"].to_numpy(dtype=float)
+    owns = frame["housing"].isin(["owner", "mortgage"]).to_numpy()
+    log_odds = (2.4 + np.where(np.isnan(income), -0.3, 0.5 * np.log(income / _REFERENCE_INCOME))
+                + np.where(late == _NO_CREDIT_FILE_VALUE, -0.5, -0.4 * np.minimum(late, 4))
+                + np.where(np.isnan(utilisation), -0.5, -1.2 * utilisation)
+                + 0.3 * owns + rng.normal(0.0, 0.6, size=len(frame)))
+    score = np.clip(np.round(500 + 40 * log_odds), 300, 800).astype(np.int64)
+    return frame.assign(previous_score=score)
 
 
 def demo_config_text(source: str = "applications.csv") -> str:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from scorecard.demo.applications import demo_config_text, make_applications
+from scorecard.demo.applications import add_previous_score, demo_config_text, make_applications
 from scorecard.outputs.atomic import Output, check_outputs, staged
 
 DATA_FILE = "applications.csv"
@@ -14,7 +14,9 @@ OUTPUTS = ("out/scorecard.xlsx", "out/scorecard.json")   # output.workbook and o
 
 
 def write_demo(directory, rows: int = 20_000, seed: int = 2024) -> Path:
-    """Write the demo sample, a drifted recent sample and the config; return the config path.
+    """Write the demo sample, a drifted recent sample (with the older score) and the config.
+
+    Returns the config path.
 
     Examples
     --------
@@ -30,6 +32,9 @@ def write_demo(directory, rows: int = 20_000, seed: int = 2024) -> Path:
     with staged([Output("--dir", directory / name) for name in names[:3]]) as out:
         for name, drift, offset in ((DATA_FILE, False, 0), (DRIFTED_FILE, True, 1)):
             frame = make_applications(rows=rows, seed=seed + offset, drift=drift)
+            if drift:
+                # The recent applications also carry the score in use today, for swap sets.
+                frame = add_previous_score(frame, seed)
             out.write(directory / name, lambda tmp: frame.to_csv(tmp, index=False))
         out.write_text(directory / CONFIG_FILE, demo_config_text(DATA_FILE))
     return directory / CONFIG_FILE

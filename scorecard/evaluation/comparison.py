@@ -38,12 +38,13 @@ import pandas as pd
 from scipy import stats
 
 from scorecard.card.scorecard import RANGE, Scorecard, load_scorecard
-from scorecard.card.scoring import apply_scorecard, bad_probability
+from scorecard.card.scoring import bad_probability
 from scorecard.constraints import SCORE_BANDS, SHIFT, WATCH, cutoffs_in_order
-from scorecard.data.outcome import BAD, GOOD, OTHER, code_outcome
-from scorecard.data.read import read_frame
+from scorecard.data.outcome import BAD, GOOD, OTHER
 from scorecard.errors import InputError
 from scorecard.evaluation.histograms import ScoreHistogram, band_edges
+from scorecard.evaluation import scored_rows
+from scorecard.evaluation.scored_rows import outcome_labels, read_rows
 from scorecard.evaluation.stability import (
     IndexResult,
     StabilityComparison,
@@ -246,23 +247,9 @@ def _finite(value):
     return value
 
 
-def _read(path) -> pd.DataFrame:
-    frame = read_frame(path)
-    if len(frame) == 0:
-        raise InputError(f"{path}: the file has no rows")
-    return frame
-
-
 def _count_file(card: Scorecard, path, frame: pd.DataFrame) -> _FileCounts:
     """Score ``frame`` once and keep only counts."""
-    absent = [name for name in card.names if name not in frame.columns]
-    if absent:
-        raise InputError(f"{path}: column {absent[0]}: the scorecard needs it but the file "
-                         "lacks it")
-    try:
-        scored = apply_scorecard(card, frame)
-    except InputError as exc:
-        raise InputError(f"{path}: {exc}") from None
+    scored = scored_rows.score_rows(card, path, frame)
     width = card.max_score - card.min_score + 1
     kept = ~scored.rejected
     at = scored.score[kept] - card.min_score
@@ -270,7 +257,7 @@ def _count_file(card: Scorecard, path, frame: pd.DataFrame) -> _FileCounts:
     sizes = [len(c.bins) for c in card.characteristics]
     bin_rows = [np.bincount(scored.codes[:, j], minlength=n).astype(float)
                 for j, n in enumerate(sizes)]
-    label = _outcome(card, frame)
+    label = outcome_labels(card, frame)
     if label is None:
         return _FileCounts(str(path), len(frame), int(scored.rejected.sum()), score_rows, None,
                            None, bin_rows, None, None, 0, scored.unusual)
@@ -281,14 +268,6 @@ def _count_file(card: Scorecard, path, frame: pd.DataFrame) -> _FileCounts:
     return _FileCounts(str(path), len(frame), int(scored.rejected.sum()), score_rows,
                        by_outcome[0], by_outcome[1], bin_rows, bins_by_outcome[0],
                        bins_by_outcome[1], int((label == OTHER).sum()), scored.unusual)
-
-
-def _outcome(card: Scorecard, frame: pd.DataFrame) -> np.ndarray | None:
-    target = card.target or {}
-    column = target.get("column")
-    if column is None or column not in frame.columns:
-        return None
-    return code_outcome(frame[column], target.get("bad", []), target.get("good", [])).label
 
 
 def _band_sums(values: np.ndarray, index: np.ndarray, n_bands: int) -> np.ndarray:
@@ -490,8 +469,8 @@ def compare(model_path, baseline_path, current_path, *, bands=None, watch=None,
     shift = SHIFT.default if shift is None else shift
     _check_options(bands, watch, shift)
     card = load_scorecard(model_path)
-    base = _count_file(card, baseline_path, _read(baseline_path))
-    cur = _count_file(card, current_path, _read(current_path))
+    base = _count_file(card, baseline_path, read_rows(baseline_path))
+    cur = _count_file(card, current_path, read_rows(current_path))
     if base.score_rows.sum() == 0:
         raise InputError(f"{baseline_path}: the scorecard refuses every row, so there are no "
                          "scores to cut bands on")

@@ -1,7 +1,8 @@
 """The reviewer's workbook of a built scorecard (an .xlsx file).
 
 Sheets, in the fixed order of the output contract: Overview, Characteristics, Bins, Model,
-Points, Score bands, Stability, Calculator, then Fairness when the build examined fairness.
+Points, Score bands, Stability, Calculator, then Fairness when the build examined fairness and
+Risk grades when the config asks for grades.
 """
 
 from __future__ import annotations
@@ -62,6 +63,9 @@ def write_workbook(result, path) -> Path:
     if fairness is not None:
         from scorecard.outputs.workbook.fairness_sheet import write_fairness_sheet
         write_fairness_sheet(wb.create_sheet(FAIRNESS), fairness)
+    if getattr(result.config, "grades", None) is not None:
+        from scorecard.outputs.workbook.grades_sheet import TITLE, write_grades_sheet
+        write_grades_sheet(wb.create_sheet(TITLE), result)
     # Spreadsheet programs compute the calculator's formulas when the file opens.
     wb.calculation.fullCalcOnLoad = True
     wb.properties.creator = "scorecard"

@@ -187,3 +187,25 @@ def column_after(ws: Worksheet, start_col: int, width_cm: float) -> int:
         covered += (width or DEFAULT_COLUMN_WIDTH) * CHARACTER_CM
         col += 1
     return col
+
+
+def scatter_line_chart(ws: Worksheet, title: str, first_row: int, last_row: int, *, x_col: int,
+                       y_col: int, series_title: str, x_title: str, y_title: str,
+                       x_format: str = "0%", y_format: str = "0%"):
+    """One line of ``y_col`` against ``x_col`` on value axes (a trade-off curve)."""
+    from openpyxl.chart import ScatterChart
+    chart = ScatterChart()
+    chart.style = 13
+    s = Series(column_ref(ws, y_col, first_row, last_row),
+               column_ref(ws, x_col, first_row, last_row), title=series_title)
+    s.graphicalProperties.line.solidFill = style.BAD_LINE
+    s.graphicalProperties.line.width = 22225
+    s.marker.symbol = "none"
+    s.smooth = False
+    chart.series.append(s)
+    _finish(chart, title, x_title, y_title, y_format)
+    chart.x_axis.number_format = x_format
+    chart.x_axis.majorGridlines = None
+    if x_format.endswith("%"):
+        chart.x_axis.scaling.min, chart.x_axis.scaling.max = 0, 1
+    return chart

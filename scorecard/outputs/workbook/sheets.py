@@ -15,7 +15,11 @@ from openpyxl.worksheet.worksheet import Worksheet
 from scorecard.build import frames
 from scorecard.card import frames as card_frames
 from scorecard.outputs.workbook import charts, style
-from scorecard.outputs.workbook.tables import finish_table_sheet, safe_value, write_table
+from scorecard.outputs.workbook.tables import (
+    finish_table_sheet,
+    safe_value,
+    write_table,
+)
 
 BIN_FORMATS = {"Rows": style.COUNT, "Goods": style.COUNT, "Bads": style.COUNT,
                "Bad rate": style.PERCENT, "Share of rows": style.PERCENT,
@@ -183,6 +187,7 @@ def write_score_bands(ws: Worksheet, result) -> None:
     if perf is not None and not math.isnan(perf.ks):
         row = note(ws, row, f"Largest gap between the cumulative shares of bads and goods "
                             f"(KS): {perf.ks:.1%} at score {hist.low + perf.ks_index}.")
+    row = _cutoff_view(ws, result, row + 1)
     grid = charts.chart_grid(charts.table_width_cm(ws, len(gains.columns)))
     chart_row = row + 1
     table_row = chart_row + grid.rows_per_chart + 1
@@ -196,6 +201,20 @@ def write_score_bands(ws: Worksheet, result) -> None:
         ws, distribution, start_row=table_row, start_col=dist_col,
         title=f"Score distribution of the {sample} sample", formats=DISTRIBUTION_FORMATS)
     _score_charts(ws, sample, distribution, dist_col, dist_header, dist_last, chart_row, grid)
+
+
+def _cutoff_view(ws: Worksheet, result, row: int) -> int:
+    """The trade-off at each band edge, so the reviewer sees it without a second command."""
+    view = result.band_cutoffs()
+    _, last = write_table(ws, view, start_row=row,
+                          title=f"Cut-off at each band edge ({result.gains_sample})",
+                          formats={"Cut-off (approve at or above)": style.INTEGER,
+                                   "Approval rate": style.PERCENT,
+                                   "Bad rate of the approved": "0.00%",
+                                   "Bad rate of the declined": "0.00%"})
+    return note(ws, last + 1, "Approving every application at or above the band's lowest score; rates "
+                              "among applications with a good or bad outcome. The strategy "
+                              "command lists every cut-off, with profit and swap sets.")
 
 
 def _score_charts(ws, sample, distribution, dist_col, header, last, top, grid) -> None:
