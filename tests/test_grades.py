@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import copy
 import dataclasses
 
 import numpy as np
@@ -80,9 +79,8 @@ def test_wilson_interval_matches_statsmodels():
 def test_the_sheet_appears_last_only_when_grades_are_configured(demo_build, tmp_path):
     plain = write_workbook(demo_build, tmp_path / "plain.xlsx")
     assert "Risk grades" not in load_workbook(plain).sheetnames
-    graded = copy.copy(demo_build)
-    graded.config = dataclasses.replace(demo_build.config,
-                                        grades=GradesConfig(count=6, long_run_bad_rate=0.05))
+    graded = dataclasses.replace(demo_build, config=dataclasses.replace(
+        demo_build.config, grades=GradesConfig(count=6, long_run_bad_rate=0.05)))
     book = load_workbook(write_workbook(graded, tmp_path / "graded.xlsx"))
     assert book.sheetnames[:len(SHEETS)] == list(SHEETS)
     assert book.sheetnames[-1] == "Risk grades"
