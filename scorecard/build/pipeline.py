@@ -8,6 +8,7 @@ rows works on count tables only.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from typing import Callable
 
@@ -26,6 +27,8 @@ from scorecard.card.scorecard import (
     UNSEEN,
     Bin,
     Characteristic,
+    Development,
+    Fate,
     Scorecard,
 )
 from scorecard.data.outcome import BAD, GOOD, code_outcome
@@ -274,6 +277,21 @@ def _histograms(card: Scorecard, patterns, names) -> dict:
     return out
 
 
+def _development(card: Scorecard, histograms: dict, perf: dict, facts, config) -> Development:
+    """The development score histogram and every sample's ranking, for the model file."""
+    dev = histograms["development"]
+    return Development(
+        rows=int(facts.rows["development"]), unit="weights" if config.data.weight else "rows",
+        score_goods=tuple(float(v) for v in dev.goods), score_bads=tuple(float(v) for v in dev.bads),
+        performance={name: {"auc": p.auc, "gini": p.gini, "ks": p.ks} for name, p in perf.items()})
+
+
+def _fate(report: CharacteristicReport) -> Fate:
+    iv = report.information_value
+    return Fate(report.name, report.status, report.stage, report.reason,
+                None if iv is None or math.isnan(iv) else float(iv))
+
+
 def _bin_tables(engine, rows, drafts, layouts, counts) -> list[np.ndarray]:
     """Weights by (bin, sample, outcome) of every characteristic.
 
@@ -399,6 +417,11 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
     starts = band_edges(histograms[gains_sample], config.evaluation.score_bands)
     gains = gains_table(histograms[gains_sample], starts, card.scaling)
     ordered = [reports[n] for n in head.columns if n in reports]
+    card = dataclasses.replace(card, development=_development(card, histograms, perf, facts,
+                                                              config),
+                               fates=tuple(_fate(r) for r in ordered))
+    for char in card.characteristics:
+        reports[char.name].characteristic = char
     fairness = compute_fairness(config, engine, rows, card)
     if fairness is not None:
         _say(progress, f"fairness check on {', '.join(config.data.protected)}: "
