@@ -4,16 +4,23 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from scorecard.demo.applications import demo_config_text, make_applications
+from scorecard.demo.applications import (
+    demo_config_text,
+    make_applications,
+    recent_applications,
+)
 from scorecard.outputs.atomic import atomic_path, write_text
 
 DATA_FILE = "applications.csv"
 DRIFTED_FILE = "applications_recent_drifted.csv"
+RECENT_FILE = "applications_recent_by_month.csv"
 CONFIG_FILE = "scorecard.yaml"
 
 
 def write_demo(directory, rows: int = 20_000, seed: int = 2024) -> Path:
-    """Write the demo sample, a drifted recent sample and the config; return the config path.
+    """Write the demo sample, a drifted recent sample, recent applications by month and the config.
+
+    Returns the config path.
 
     Examples
     --------
@@ -28,6 +35,8 @@ def write_demo(directory, rows: int = 20_000, seed: int = 2024) -> Path:
         frame = make_applications(rows=rows, seed=seed + offset, drift=drift)
         with atomic_path(directory / name) as tmp:
             frame.to_csv(tmp, index=False)
+    with atomic_path(directory / RECENT_FILE) as tmp:
+        recent_applications(rows_per_month=max(100, rows // 10), seed=seed).to_csv(tmp, index=False)
     config = directory / CONFIG_FILE
     write_text(config, demo_config_text(DATA_FILE))
     return config
