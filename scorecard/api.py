@@ -1,4 +1,4 @@
-"""Plain functions behind every command: build, score, compare, export, init, demo.
+"""Plain functions behind every command: build, score, compare, monitor, diff, export, init, demo.
 
 Each takes paths and options, does the whole job and returns a result object; the click layer
 in :mod:`scorecard.cli` only parses arguments and prints. Heavy modules are imported inside the
@@ -63,6 +63,7 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
     from scorecard.outputs.workbook import write_workbook
     config = load_config(config_path)
     workbook_path, model_path = _output_paths(config, workbook, model)
+    previous = _previous_card(model_path)
     with open_engine(config, progress) as engine:
         check_columns(config, engine.columns)
         if progress:
@@ -76,7 +77,19 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
     if progress:
         progress(f"wrote {workbook_path} and {model_path}")
     result.outputs = {"workbook": workbook_path, "model": model_path}
+    result.previous = previous
     return result
+
+
+def _previous_card(model_path: Path):
+    """The model file a build is about to replace, if there is one that loads; else None."""
+    if not model_path.is_file():
+        return None
+    from scorecard.card.scorecard import load_scorecard
+    try:
+        return load_scorecard(model_path)
+    except InputError:
+        return None
 
 
 def score(model, data, out, *, keep=(), reasons=None, reason_text=False):
@@ -106,6 +119,63 @@ def compare(model, baseline, current, *, bands=None, json_path=None, workbook=No
     if workbook is not None:
         from scorecard.outputs.comparison_workbook import write_compare_workbook
         write_compare_workbook(result, workbook)
+    return result
+
+
+def _check_outputs(outputs: dict, inputs: dict) -> None:
+    """InputError when an output would overwrite an input or another output."""
+    taken = {Path(p).resolve(): what for what, p in inputs.items() if p is not None}
+    for option, path in outputs.items():
+        if path is None:
+            continue
+        where = Path(path).resolve()
+        if where in taken:
+            raise InputError(f"{option} {path}: would overwrite {taken[where]}")
+        if Path(path).is_dir():
+            raise InputError(f"{option} {path}: is a folder")
+        taken[where] = f"the {option} output"
+
+
+def monitor(model, data, period, *, every="month", baseline=None, cutoff=None, bands=None,
+            min_bads=None, json_path=None, workbook=None, dask=None):
+    """Stability and performance of ``model`` for every period of ``data``.
+
+    Writes the JSON and the monitoring workbook when their paths are given; ``dask`` is
+    ``"local"`` or a scheduler address to run the pass on a Dask cluster (Parquet data).
+    Returns the :class:`~scorecard.evaluation.monitoring.Monitoring`.
+    """
+    from scorecard.evaluation.monitoring import DEFAULT_MIN_BADS
+    from scorecard.evaluation.monitoring import monitor as monitor_periods
+    _check_outputs({"--json": json_path, "--workbook": workbook},
+                   {"the model": model, "the data": data, "the baseline": baseline})
+    options = {"every": every, "baseline": baseline, "cutoff": cutoff, "bands": bands,
+               "min_bads": DEFAULT_MIN_BADS if min_bads is None else min_bads}
+    if dask is None:
+        result = monitor_periods(model, data, period, **options)
+    else:
+        from scorecard.engines.dask_engine import DaskEngine
+        with DaskEngine(data, dask) as engine:
+            result = monitor_periods(model, data, period, engine=engine, **options)
+    if json_path is not None:
+        write_text(json_path, result.to_json())
+    if workbook is not None:
+        from scorecard.outputs.monitoring_workbook import write_monitoring_workbook
+        write_monitoring_workbook(result, workbook)
+    return result
+
+
+def diff(old_model, new_model, *, json_path=None):
+    """What changed from the model file ``old_model`` to ``new_model``; JSON written if asked.
+
+    Returns the :class:`~scorecard.evaluation.model_diff.ModelDiff`.
+    """
+    from scorecard.card.scorecard import load_scorecard
+    from scorecard.evaluation.model_diff import diff_scorecards
+    _check_outputs({"--json": json_path}, {"the older model": old_model,
+                                           "the newer model": new_model})
+    result = diff_scorecards(load_scorecard(old_model), load_scorecard(new_model))
+    if json_path is not None:
+        write_text(json_path, result.to_json())
     return result
 
 

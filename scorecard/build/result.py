@@ -56,6 +56,7 @@ class BuildResult:
     patterns: object = None
     fairness: object = None         # scorecard.evaluation.fairness.FairnessReport, or None without protected columns
     outputs: dict = field(default_factory=dict)
+    previous: Scorecard | None = None   # the model file this build replaced, when one loaded
 
     def tables(self) -> dict:
         """Every table the workbook shows, as DataFrames keyed by the sheet's name for them.
