@@ -318,8 +318,13 @@ def count_periods(card: Scorecard, data, column: str, every: str, engine=None) -
     engine (:class:`scorecard.engines.dask_engine.DaskEngine`) runs it on every partition of a
     Parquet file or folder and merges the counts on the workers.
     """
+    from scorecard.data.read import read_frame
     from scorecard.engines.local import LocalEngine
+    whole = None
     names = _column_names(data) if engine is None else list(engine.columns)
+    if names is None:
+        whole = read_frame(data)
+        names = list(whole.columns)
     if column not in names:
         raise InputError(f"{data}: column {column}: --period names a column the file lacks")
     absent = [n for n in card.names if n not in names]
@@ -331,8 +336,7 @@ def count_periods(card: Scorecard, data, column: str, every: str, engine=None) -
                                 + ([target] if target in names else [])))
     own = engine is None
     if own:
-        from scorecard.data.read import read_frame
-        engine = LocalEngine(read_frame(data, columns=wanted))
+        engine = LocalEngine(read_frame(data, columns=wanted) if whole is None else whole[wanted])
     try:
         return engine.reduce(period_counts, merge_periods, None, card, column, every,
                              columns=wanted)
@@ -348,8 +352,9 @@ def merge_periods(a: GroupCounts, b: GroupCounts) -> GroupCounts:
     return merge_group_counts(a, b)
 
 
-def _column_names(path) -> list[str]:
-    """The column names of a data file, from its header or schema alone."""
+def _column_names(path) -> list[str] | None:
+    """The column names of a CSV or Parquet file from its header or schema alone; None for
+    other kinds of file (they are read whole)."""
     from pathlib import Path
 
     import pyarrow as pa
@@ -357,7 +362,8 @@ def _column_names(path) -> list[str]:
     import pyarrow.dataset as pads
     import pyarrow.parquet as pq
 
-    from scorecard.data.read import PARQUET_SUFFIXES
+    from scorecard.data.formats import data_format, is_tab_separated
+    from scorecard.data.read import csv_source
 
     path = Path(path)
     if not path.exists():
@@ -365,12 +371,15 @@ def _column_names(path) -> list[str]:
     try:
         if path.is_dir():
             return list(pads.dataset(path, format="parquet").schema.names)
-        if path.suffix.lower() in PARQUET_SUFFIXES:
+        kind = data_format(path)
+        if kind == "parquet":
             return list(pq.read_schema(path).names)
+        if kind not in ("csv", "zip"):
+            return None
         if path.stat().st_size == 0:
             raise InputError(f"{path}: the file is empty")
-        delimiter = "\t" if path.suffix.lower() == ".tsv" else ","
-        reader = pacsv.open_csv(path, parse_options=pacsv.ParseOptions(delimiter=delimiter))
+        parse = pacsv.ParseOptions(delimiter="\t" if is_tab_separated(path) else ",")
+        reader = pacsv.open_csv(csv_source(path), parse_options=parse)
         names = list(reader.schema.names)
         reader.close()
         return names
