@@ -308,3 +308,17 @@ def test_bad_input_is_one_error_line_and_writes_nothing(model_path, demo_dir, tm
     assert len(lines) == 1 and lines[0].startswith("error:") and names in lines[0]
     assert {p: p.read_bytes() for p in (data, model)} == before
     assert sorted(p.name for p in tmp_path.iterdir()) == ["model.json", "recent.csv"]
+
+
+def test_the_dask_engine_gives_the_local_result(model_path, demo_dir, tmp_path):
+    # Invariant: the same pass on Parquet partitions merges to the same counts.
+    pytest.importorskip("distributed")
+    from scorecard import api
+    folder = tmp_path / "recent"
+    folder.mkdir()
+    frame = pd.read_csv(demo_dir / RECENT_FILE)
+    for i, part in enumerate(np.array_split(frame, 3)):
+        part.to_parquet(folder / f"part-{i}.parquet")
+    local = api.monitor(model_path, folder, PERIOD, cutoff=560)
+    spread = api.monitor(model_path, folder, PERIOD, cutoff=560, dask="local")
+    assert spread.to_json() == local.to_json()
