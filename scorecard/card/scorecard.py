@@ -232,9 +232,15 @@ def _finite_or_none(value):
     return value if value is not None and math.isfinite(value) else None
 
 
+def _unset(value) -> bool:
+    """True for the defaults a bin leaves out of the file. By identity, not equality: a bound of
+    0.0 equals False and must still be written."""
+    return value is None or value is False or (isinstance(value, (tuple, str)) and not value)
+
+
 def _characteristic_dict(c: Characteristic) -> dict:
     out = asdict(c)
-    out["bins"] = [{k: v for k, v in asdict(b).items() if v not in (None, (), "", False)
+    out["bins"] = [{k: v for k, v in asdict(b).items() if not _unset(v)
                     or k in ("goods", "bads", "woe", "points")} for b in c.bins]
     return out
 
