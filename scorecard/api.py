@@ -1,4 +1,5 @@
-"""Plain functions behind every command: build, score, compare, strategy, export, init, demo.
+"""Plain functions behind every command: build, score, compare, strategy, monitor, diff,
+export, init, demo.
 
 Each takes paths and options, does the whole job and returns a result object; the click layer
 in :mod:`scorecard.cli` only parses arguments and prints. Heavy modules are imported inside the
@@ -65,6 +66,7 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
     config = load_config(config_path)
     outputs = check_outputs(_build_outputs(config, workbook, model),
                             {"the config": config.config_file, "the data": config.data.source})
+    previous = _previous_card(outputs[1].path)
     with open_engine(config, progress) as engine:
         check_columns(config, engine.columns)
         if progress:
@@ -78,7 +80,18 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
         out.write_text(card.name, result.card.to_json())
     if progress:
         progress(f"wrote {book.path} and {card.path}")
-    return replace(result, outputs={"workbook": book.path, "model": card.path})
+    return replace(result, outputs={"workbook": book.path, "model": card.path}, previous=previous)
+
+
+def _previous_card(model_path: Path):
+    """The model file a build is about to replace, if there is one that loads; else None."""
+    if not model_path.is_file():
+        return None
+    from scorecard.card.scorecard import load_scorecard
+    try:
+        return load_scorecard(model_path)
+    except InputError:
+        return None
 
 
 def score(model, data, out, *, keep=(), reasons=None, reason_text=False):
@@ -132,6 +145,54 @@ def strategy(model, data, *, json_path=None, workbook=None, **options):
             out.write_text("--json", result.to_json())
         if workbook is not None:
             out.write("--workbook", lambda tmp: write_strategy_workbook(result, tmp))
+    return result
+
+
+def monitor(model, data, period, *, every="month", baseline=None, cutoff=None, bands=None,
+            min_bads=None, json_path=None, workbook=None, dask=None):
+    """Stability and performance of ``model`` for every period of ``data``.
+
+    Writes the JSON and the monitoring workbook when their paths are given; ``dask`` is
+    ``"local"`` or a scheduler address to run the pass on a Dask cluster (Parquet data).
+    Returns the :class:`~scorecard.evaluation.monitoring.Monitoring`.
+    """
+    from scorecard.evaluation.monitoring import DEFAULT_MIN_BADS
+    from scorecard.evaluation.monitoring import monitor as monitor_periods
+    wanted = [Output("--json", Path(json_path), (".json",))] if json_path is not None else []
+    if workbook is not None:
+        wanted.append(Output("--workbook", Path(workbook), WORKBOOK))
+    outputs = check_outputs(wanted, {"the model": model, "the data": data,
+                                     **({"the baseline": baseline} if baseline else {})})
+    options = {"every": every, "baseline": baseline, "cutoff": cutoff, "bands": bands,
+               "min_bads": DEFAULT_MIN_BADS if min_bads is None else min_bads}
+    if dask is None:
+        result = monitor_periods(model, data, period, **options)
+    else:
+        from scorecard.engines.dask_engine import DaskEngine
+        with DaskEngine(data, dask) as engine:
+            result = monitor_periods(model, data, period, engine=engine, **options)
+    from scorecard.outputs.monitoring_workbook import write_monitoring_workbook
+    with staged(outputs) as out:
+        if json_path is not None:
+            out.write_text("--json", result.to_json())
+        if workbook is not None:
+            out.write("--workbook", lambda tmp: write_monitoring_workbook(result, tmp))
+    return result
+
+
+def diff(old_model, new_model, *, json_path=None):
+    """What changed from the model file ``old_model`` to ``new_model``; JSON written if asked.
+
+    Returns the :class:`~scorecard.evaluation.model_diff.ModelDiff`.
+    """
+    from scorecard.card.scorecard import load_scorecard
+    from scorecard.evaluation.model_diff import diff_scorecards
+    wanted = [Output("--json", Path(json_path), (".json",))] if json_path is not None else []
+    outputs = check_outputs(wanted, {"the older model": old_model, "the newer model": new_model})
+    result = diff_scorecards(load_scorecard(old_model), load_scorecard(new_model))
+    with staged(outputs) as out:
+        if json_path is not None:
+            out.write_text("--json", result.to_json())
     return result
 
 

@@ -87,6 +87,18 @@ def _print_summary(result) -> None:
         click.echo(f"  {name:12s} AUC {perf.auc:.4f}  Gini {perf.gini:.4f}  KS {perf.ks:.4f}")
     for name, why in result.unmeasured.items():
         click.echo(f"  {name:12s} not available: {why}")
+    dropped = [r for r in result.reports if r.status != "in model"]
+    if dropped:
+        click.echo(f"left out ({len(dropped)}):")
+        for r in dropped:
+            click.echo(f"  {r.name}: {r.status} at {r.stage}: {r.reason}")
+    if result.previous is not None:
+        from scorecard.evaluation.model_diff import diff_scorecards
+        changes = diff_scorecards(result.previous, card)
+        click.echo(f"against the model file it replaced: {'no changes' if changes.empty else ''}"
+                   .rstrip())
+        for line in changes.lines():
+            click.echo(f"  {line}")
     for kind, path in result.outputs.items():
         click.echo(f"  {kind}: {path}")
 
@@ -202,6 +214,51 @@ def strategy(model, data, incumbent, incumbent_direction, incumbent_approved, ga
     for kind, path in (("workbook", workbook), ("json", json_path)):
         if path is not None:
             click.echo(f"  {kind}: {path}")
+
+
+@main.command("monitor")
+@click.argument("model", type=click.Path(dir_okay=False, path_type=Path))
+@click.argument("data", type=click.Path(path_type=Path))
+@click.option("--period", required=True, help="Column of dates that places each row in a period.")
+@click.option("--every", type=click.Choice(["month", "quarter"]), default="month",
+              show_default=True)
+@click.option("--baseline", type=click.Path(path_type=Path),
+              help="Compare with this data file instead of the development sample stored in "
+                   "the model file.")
+@click.option("--cutoff", type=int, help="Score at or above which applications are approved.")
+@click.option("--min-bads", type=click.IntRange(min=2), default=None,
+              help="Fewest goods and bads a period needs for its bad rate and Gini [default: 30].")
+@click.option("--bands", type=click.IntRange(min=2), default=None,
+              help="Score bands, cut at the baseline's score quantiles [default: 10].")
+@click.option("--json", "json_path", type=click.Path(dir_okay=False, path_type=Path),
+              help="Write the periods as JSON here.")
+@click.option("--workbook", type=click.Path(dir_okay=False, path_type=Path),
+              help="Write the monitoring workbook (.xlsx) here.")
+@click.option("--fail-on", type=click.Choice(["watch", "shift"]),
+              help="Exit with status 1 when an index of the latest period reaches this status.")
+@click.option("--dask", metavar="ADDRESS",
+              help="Run the pass on Dask: 'local' or a scheduler address (Parquet data).")
+def monitor(model, data, period, every, baseline, cutoff, min_bads, bands, json_path, workbook,
+            fail_on, dask):
+    """Stability and performance of MODEL for every period of DATA."""
+    from scorecard import api
+    result = api.monitor(model, data, period, every=every, baseline=baseline, cutoff=cutoff,
+                         bands=bands, min_bads=min_bads, json_path=json_path,
+                         workbook=workbook, dask=dask)
+    click.echo(result.text())
+    if fail_on is not None and result.latest.reached(fail_on):
+        raise click.exceptions.Exit(1)
+
+
+@main.command("diff")
+@click.argument("old_model", type=click.Path(dir_okay=False, path_type=Path))
+@click.argument("new_model", type=click.Path(dir_okay=False, path_type=Path))
+@click.option("--json", "json_path", type=click.Path(dir_okay=False, path_type=Path),
+              help="Write the changes as JSON here.")
+def diff(old_model, new_model, json_path):
+    """What changed from OLD_MODEL to NEW_MODEL, one line per change."""
+    from scorecard import api
+    click.echo(api.diff(old_model, new_model, json_path=json_path).text())
 
 
 @main.command("export")

@@ -59,3 +59,13 @@ def test_a_model_file_written_before_sentinels_were_so_named_still_loads(demo_bu
             if bin_["kind"] == "sentinel":
                 bin_["kind"] = "special"
     assert Scorecard.from_json(json.dumps(raw), "old.json") == card
+
+
+def test_a_cut_at_zero_survives_the_model_file():
+    # Regression: a bound of 0.0 equals False and was once left out of the file.
+    from scorecard.card.points import scaling as make_scaling
+    from scorecard.card.scorecard import RANGE, Bin, Characteristic
+    bins = (Bin("< 0", RANGE, 5, 5, 0.0, 10, upper=0.0), Bin(">= 0", RANGE, 9, 1, 1.0, 30, lower=0.0))
+    char = Characteristic("x", "numeric", bins, 1.0, "R01", "x is low", cuts=(0.0,))
+    card = Scorecard("zero", make_scaling(600, 50, 20), 0.5, (char,))
+    assert Scorecard.from_json(card.to_json()) == card

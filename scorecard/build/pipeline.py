@@ -27,6 +27,8 @@ from scorecard.card.scorecard import (
     RANGE,
     UNSEEN,
     Characteristic,
+    Development,
+    Fate,
     Scorecard,
 )
 from scorecard.data.coding import categorical_codes
@@ -295,6 +297,21 @@ def _histograms(card: Scorecard, patterns, names) -> dict:
     return out
 
 
+def _development(card: Scorecard, histograms: dict, perf: dict, facts, config) -> Development:
+    """The development score histogram and every sample's ranking, for the model file."""
+    dev = histograms["development"]
+    return Development(
+        rows=int(facts.rows["development"]), unit="weights" if config.data.weight else "rows",
+        score_goods=tuple(float(v) for v in dev.goods), score_bads=tuple(float(v) for v in dev.bads),
+        performance={name: {"auc": p.auc, "gini": p.gini, "ks": p.ks} for name, p in perf.items()})
+
+
+def _fate(report: CharacteristicReport) -> Fate:
+    iv = report.information_value
+    return Fate(report.name, report.status, report.stage, report.reason,
+                None if iv is None or math.isnan(iv) else float(iv))
+
+
 def _bin_tables(engine, rows, drafts, layouts, counts) -> list[np.ndarray]:
     """Weights by (bin, sample, outcome) of every characteristic.
 
@@ -438,6 +455,10 @@ def _build(config, engine, progress) -> BuildResult:
                                    for c in card.characteristics},
         facts.rows, watch=config.stability.watch, shift=config.stability.shift,
         unit="weights" if config.data.weight else "rows")
+    # The model file carries the development distributions and every column's fate, so that
+    # monitoring and diffs need only the model file.
+    card = replace(card, development=_development(card, histograms, perf, facts, config),
+                   fates=tuple(_fate(r) for r in ordered))
     fairness = compute_fairness(config, engine, rows, card)
     if fairness is not None:
         _say(progress, f"fairness check on {', '.join(config.data.protected)}: "

@@ -72,6 +72,7 @@ class BuildResult:
     outputs: dict[str, Path] = field(default_factory=dict)   # set by api.build (replace)
     unmeasured: dict[str, str] = field(default_factory=dict)   # sample -> why no AUC, Gini, KS
     extreme_values: dict[str, str] = field(default_factory=dict)   # column -> values far beyond
+    previous: Scorecard | None = None   # the model file this build replaced, when one loaded
 
     def tables(self) -> dict:
         """Every table the workbook shows, as DataFrames keyed by the sheet's name for them.

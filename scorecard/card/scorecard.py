@@ -4,6 +4,12 @@ A :class:`Scorecard` holds, for each characteristic in the model, its bins with 
 development counts, weight of evidence and points, plus the coefficients and the scaling. It is
 saved as JSON (``format_version`` 1) and holds everything needed to score a row without the
 config or the data. The workbook, scoring, stability reports and exports read this object only.
+
+Beside the card, the file carries what monitoring and comparing builds need without the
+development data (all optional, so files written before them still load): the development
+score histogram and the measured AUC, Gini and KS of every sample (:class:`Development`), and
+the fate of every characteristic the build considered (:class:`Fate`). Each bin's development
+goods and bads, and each characteristic's information value, were there from the start.
 """
 
 from __future__ import annotations
@@ -93,6 +99,43 @@ class Characteristic:
 
 
 @dataclass(frozen=True)
+class Development:
+    """The development sample as counts: enough for stability and a build-to-build diff.
+
+    ``score_goods`` and ``score_bads`` are weights of goods and bads at each integer score from
+    the card's ``min_score`` (rows the card refuses are not in them); ``unit`` says whether they
+    are ``"rows"`` or ``"weights"`` (a weight column); ``rows`` is the number of development
+    rows, for sample-size-aware critical values. ``performance`` maps a sample name
+    (development, holdout, out of time) to its ``{"auc", "gini", "ks"}``.
+    """
+
+    rows: int
+    unit: str
+    score_goods: tuple[float, ...]
+    score_bads: tuple[float, ...]
+    performance: dict = field(default_factory=dict)
+
+
+@dataclass(frozen=True)
+class Fate:
+    """What the build decided about one column: its status, at which stage, and why.
+
+    ``status`` is the Characteristics sheet's: 'in model', 'not selected', 'not binned' or
+    'not used'.
+    """
+
+    name: str
+    status: str
+    stage: str
+    reason: str
+    information_value: float | None = None
+
+    @property
+    def selected(self) -> bool:
+        return self.status == "in model"
+
+
+@dataclass(frozen=True)
 class Scorecard:
     """A built scorecard.
 
@@ -114,6 +157,13 @@ class Scorecard:
     target: dict = field(default_factory=dict)
     rounding_change: float = 0.0
     reasons: int = REASONS.default                 # reason codes per scored row unless the caller says otherwise
+    development: Development | None = None   # None in model files written before it was stored
+    fates: tuple[Fate, ...] = ()
+
+    @property
+    def dropped(self) -> tuple[Fate, ...]:
+        """Fates of the characteristics the build considered and left out."""
+        return tuple(f for f in self.fates if not f.selected)
 
     @property
     def names(self) -> tuple[str, ...]:
@@ -144,7 +194,8 @@ class Scorecard:
                 "scaling": self.scaling._asdict(), "intercept": self.intercept,
                 "rounding_change": self.rounding_change, "reasons": self.reasons,
                 "target": self.target,
-                "characteristics": [_characteristic_dict(c) for c in self.characteristics]}
+                "characteristics": [_characteristic_dict(c) for c in self.characteristics],
+                **_extras_dict(self)}
 
     def to_json(self) -> str:
         return json.dumps(self.to_dict(), indent=1, sort_keys=False, allow_nan=False) + "\n"
@@ -174,9 +225,29 @@ def load_scorecard(path) -> Scorecard:
     return Scorecard.from_json(text, str(path))
 
 
+def _extras_dict(card: Scorecard) -> dict:
+    out = {}
+    if card.development is not None:
+        out["development"] = asdict(card.development)
+    if card.fates:
+        out["fates"] = [{**asdict(f), "information_value": _finite_or_none(f.information_value)}
+                        for f in card.fates]
+    return out
+
+
+def _finite_or_none(value):
+    return value if value is not None and math.isfinite(value) else None
+
+
+def _unset(value) -> bool:
+    """True for the defaults a bin leaves out of the file. By identity, not equality: a bound of
+    0.0 equals False and must still be written."""
+    return value is None or value is False or (isinstance(value, (tuple, str)) and not value)
+
+
 def _characteristic_dict(c: Characteristic) -> dict:
     out = asdict(c)
-    out["bins"] = [{k: v for k, v in asdict(b).items() if v not in (None, (), "", False)
+    out["bins"] = [{k: v for k, v in asdict(b).items() if not _unset(v)
                     or k in ("goods", "bads", "woe", "points")} for b in c.bins]
     return out
 
@@ -193,7 +264,9 @@ def _scorecard_from_dict(raw, source: str) -> Scorecard:
         chars = tuple(_characteristic_from_dict(c) for c in raw["characteristics"])
         card = Scorecard(str(raw["name"]), scale, float(raw["intercept"]), chars,
                          dict(raw.get("target", {})), float(raw.get("rounding_change", 0.0)),
-                         _count(raw.get("reasons", REASONS.default), "reasons"))
+                         _count(raw.get("reasons", REASONS.default), "reasons"),
+                         _development_from_dict(raw.get("development")),
+                         tuple(_fate_from_dict(f) for f in raw.get("fates", [])))
     except (KeyError, TypeError, ValueError) as exc:
         raise InputError(f"{source}: model file is incomplete or malformed ({exc})") from None
     _check_consistent(card, source)
@@ -224,6 +297,28 @@ def _bin_from_dict(raw: dict) -> Bin:
               for k in ("lower", "upper", "value") if k in raw}
     kind = {"kind": _OLD_BIN_KINDS[raw["kind"]]} if raw.get("kind") in _OLD_BIN_KINDS else {}
     return Bin(**{**raw, **numbers, **bounds, **kind, "levels": _levels(raw.get("levels", []))})
+
+
+def _development_from_dict(raw) -> Development | None:
+    if raw is None:
+        return None
+    goods = tuple(_number(v, "development.score_goods") for v in raw["score_goods"])
+    bads = tuple(_number(v, "development.score_bads") for v in raw["score_bads"])
+    if any(not (math.isfinite(v) and v >= 0) for v in goods + bads):
+        raise ValueError("development score counts must be finite and >= 0")
+    if raw["unit"] not in ("rows", "weights"):
+        raise ValueError(f"development.unit must be rows or weights, not {raw['unit']!r}")
+    performance = {str(sample): {k: _number(v, f"development.performance.{sample}.{k}")
+                                 for k, v in measures.items()}
+                   for sample, measures in dict(raw.get("performance", {})).items()}
+    return Development(_count(raw["rows"], "development.rows"), raw["unit"], goods, bads,
+                       performance)
+
+
+def _fate_from_dict(raw: dict) -> Fate:
+    iv = raw.get("information_value")
+    return Fate(str(raw["name"]), str(raw["status"]), str(raw["stage"]), str(raw["reason"]),
+                None if iv is None else _number(iv, "fates.information_value"))
 
 
 def _characteristic_from_dict(raw: dict) -> Characteristic:
@@ -296,3 +391,8 @@ def _check_consistent(card: Scorecard, source: str) -> None:
         for kind in (MISSING, UNSEEN, OUT_OF_RANGE):
             if sum(b.kind == kind for b in c.bins) > 1:
                 raise InputError(f"{where}: more than one {kind} bin")
+    dev = card.development
+    if dev is not None and not (len(dev.score_goods) == len(dev.score_bads)
+                                == card.max_score - card.min_score + 1):
+        raise InputError(f"{source}: development: the score histogram must have one entry per "
+                         f"score from {card.min_score} to {card.max_score}")

@@ -202,6 +202,43 @@ def add_previous_score(frame: pd.DataFrame, seed: int = 2024) -> pd.DataFrame:
     return frame.assign(previous_score=score)
 
 
+# The recent applications of the demo: one file of monthly intakes after development, drawn
+# from the development population until DRIFT_FROM_MONTH and from the drifted one from then on.
+RECENT_MONTHS = ("2026-01", "2026-02", "2026-03", "2026-04", "2026-05", "2026-06",
+                 "2026-07", "2026-08", "2026-09")
+DRIFT_FROM_MONTH = "2026-06"
+# Outcomes of the last months have not matured yet: their outcome is left empty.
+IMMATURE_MONTHS = 2
+
+
+def recent_applications(rows_per_month: int = 2000, seed: int = 2024) -> pd.DataFrame:
+    """Invented applications of :data:`RECENT_MONTHS`, with the drift starting in a known month.
+
+    Months before :data:`DRIFT_FROM_MONTH` follow the development population; from it on,
+    :data:`DRIFTED_CHARACTERISTICS` are shifted as in ``make_applications(drift=True)``. Each
+    row carries ``applied_month`` (the first day of its month); the last
+    :data:`IMMATURE_MONTHS` months have no outcome yet.
+
+    Examples
+    --------
+    >>> frame = recent_applications(rows_per_month=100)
+    >>> frame["applied_month"].iloc[[0, -1]].tolist(), int(frame["outcome"].isna().sum())
+    (['2026-01-01', '2026-09-01'], 200)
+    """
+    parts = []
+    for i, month in enumerate(RECENT_MONTHS):
+        part = make_applications(rows_per_month, seed=seed + 100 + i,
+                                 drift=month >= DRIFT_FROM_MONTH)
+        part = part.drop(columns=["decided_on"])
+        part.insert(1, "applied_month", f"{month}-01")
+        if i >= len(RECENT_MONTHS) - IMMATURE_MONTHS:
+            part["outcome"] = None
+        parts.append(part)
+    frame = pd.concat(parts, ignore_index=True)
+    frame["application_id"] = np.arange(1, len(frame) + 1, dtype=np.int64)
+    return frame
+
+
 def demo_config_text(source: str = "applications.csv") -> str:
     """Return the YAML config that builds a scorecard on the demo sample.
 

@@ -40,11 +40,10 @@ from scipy import stats
 from scorecard.card.scorecard import RANGE, Scorecard, load_scorecard
 from scorecard.card.scoring import bad_probability
 from scorecard.constraints import SCORE_BANDS, SHIFT, WATCH, cutoffs_in_order
-from scorecard.data.outcome import BAD, GOOD, OTHER
 from scorecard.errors import InputError
+from scorecard.evaluation.group_counts import GroupCounts, count_groups
 from scorecard.evaluation.histograms import ScoreHistogram, band_edges
-from scorecard.evaluation import scored_rows
-from scorecard.evaluation.scored_rows import outcome_labels, read_rows
+from scorecard.evaluation.scored_rows import outcome_labels, read_rows, require_characteristics
 from scorecard.evaluation.stability import (
     IndexResult,
     StabilityComparison,
@@ -249,25 +248,24 @@ def _finite(value):
 
 def _count_file(card: Scorecard, path, frame: pd.DataFrame) -> _FileCounts:
     """Score ``frame`` once and keep only counts."""
-    scored = scored_rows.score_rows(card, path, frame)
-    width = card.max_score - card.min_score + 1
-    kept = ~scored.rejected
-    at = scored.score[kept] - card.min_score
-    score_rows = np.bincount(at, minlength=width).astype(float)
-    sizes = [len(c.bins) for c in card.characteristics]
-    bin_rows = [np.bincount(scored.codes[:, j], minlength=n).astype(float)
-                for j, n in enumerate(sizes)]
-    label = outcome_labels(card, frame)
-    if label is None:
-        return _FileCounts(str(path), len(frame), int(scored.rejected.sum()), score_rows, None,
-                           None, bin_rows, None, None, 0, scored.unusual)
-    by_outcome = [np.bincount(at[label[kept] == cls], minlength=width).astype(float)
-                  for cls in (GOOD, BAD)]
-    bins_by_outcome = [[np.bincount(scored.codes[label == cls, j], minlength=n).astype(float)
-                        for j, n in enumerate(sizes)] for cls in (GOOD, BAD)]
-    return _FileCounts(str(path), len(frame), int(scored.rejected.sum()), score_rows,
-                       by_outcome[0], by_outcome[1], bin_rows, bins_by_outcome[0],
-                       bins_by_outcome[1], int((label == OTHER).sum()), scored.unusual)
+    require_characteristics(card, path, frame)
+    try:
+        counts = count_groups(card, frame, label=outcome_labels(card, frame))
+    except InputError as exc:
+        raise InputError(f"{path}: {exc}") from None
+    return counts_of_group(counts, 0, str(path))
+
+
+def counts_of_group(counts: GroupCounts, i: int, path: str) -> _FileCounts:
+    """The counts of group ``i`` (position in ``counts.groups``) as one sample's counts."""
+    def each(tables):
+        return None if tables is None else [t[i] for t in tables]
+
+    return _FileCounts(path, int(counts.rows[i]), int(counts.rejected[i]), counts.score_rows[i],
+                       None if counts.score_goods is None else counts.score_goods[i],
+                       None if counts.score_bads is None else counts.score_bads[i],
+                       each(counts.bin_rows), each(counts.bin_goods), each(counts.bin_bads),
+                       int(counts.left_out[i]), counts.unusual)
 
 
 def _band_sums(values: np.ndarray, index: np.ndarray, n_bands: int) -> np.ndarray:

@@ -25,12 +25,17 @@ def read_rows(path) -> pd.DataFrame:
     return frame
 
 
-def score_rows(card: Scorecard, path, frame: pd.DataFrame) -> Scores:
-    """Score every row of ``frame`` (read from ``path``); errors name the file and column."""
+def require_characteristics(card: Scorecard, path, frame: pd.DataFrame) -> None:
+    """InputError naming the file and the first characteristic of the card it lacks."""
     absent = [name for name in card.names if name not in frame.columns]
     if absent:
         raise InputError(f"{path}: column {absent[0]}: the scorecard needs it but the file "
                          "lacks it")
+
+
+def score_rows(card: Scorecard, path, frame: pd.DataFrame) -> Scores:
+    """Score every row of ``frame`` (read from ``path``); errors name the file and column."""
+    require_characteristics(card, path, frame)
     try:
         return apply_scorecard(card, frame)
     except InputError as exc:
