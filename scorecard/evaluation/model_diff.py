@@ -136,8 +136,8 @@ def _rule(b: Bin) -> tuple:
 def _rules_text(c: Characteristic) -> str:
     if c.kind == "numeric":
         parts = ["cuts " + (", ".join(f"{x:g}" for x in c.cuts) or "none")]
-        if c.special_values:
-            parts.append("special " + ", ".join(f"{x:g}" for x in c.special_values))
+        if c.sentinels:
+            parts.append("sentinels " + ", ".join(f"{x:g}" for x in c.sentinels))
     else:
         groups = [b for b in c.bins if b.levels]
         parts = ["groups " + " | ".join(", ".join(b.levels) for b in groups)]

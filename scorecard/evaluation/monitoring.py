@@ -31,19 +31,16 @@ from scorecard.card.scorecard import Scorecard, load_scorecard
 from scorecard.card.scoring import bad_probability
 from scorecard.data.samples import parse_dates
 from scorecard.errors import InputError
+from scorecard.constraints import SCORE_BANDS, SHIFT, WATCH, cutoffs_in_order
 from scorecard.evaluation.comparison import (
-    DEFAULT_BANDS,
-    DEFAULT_SHIFT,
-    DEFAULT_WATCH,
     _count_file,
     _FileCounts,
     _finite,
-    _read,
     _stability,
     counts_of_group,
 )
 from scorecard.evaluation.group_counts import GroupCounts, count_groups
-from scorecard.evaluation.scored_rows import outcome_labels
+from scorecard.evaluation.scored_rows import outcome_labels, read_rows
 from scorecard.evaluation.histograms import ScoreHistogram, band_edges
 from scorecard.evaluation.stability import IndexResult
 from scorecard.measures.ranking import gini_interval, ks_interval
@@ -300,10 +297,10 @@ def _development_summary(card: Scorecard, base: _FileCounts, cutoff) -> dict:
 def _check_options(every, bands, watch, shift, min_bads, cutoff, level):
     if every not in EVERY:
         raise InputError(f"--every {every}: must be month or quarter")
-    if not (isinstance(bands, int) and bands >= 2):
-        raise InputError(f"--bands: must be a whole number of at least 2, got {bands!r}")
-    if not 0 < watch <= shift < math.inf:
-        raise InputError(f"watch, shift: need 0 < watch <= shift, got {watch!r}, {shift!r}")
+    if not SCORE_BANDS.allows(bands):
+        raise InputError(f"--bands: must be {SCORE_BANDS.expected()}, got {bands!r}")
+    if not (WATCH.allows(watch) and SHIFT.allows(shift) and cutoffs_in_order(watch, shift)):
+        raise InputError(f"watch, shift: need 0 < watch < shift, got {watch!r}, {shift!r}")
     if not (isinstance(min_bads, int) and min_bads >= 2):
         raise InputError(f"--min-bads: must be a whole number of at least 2, got {min_bads!r}")
     if cutoff is not None and not isinstance(cutoff, int):
@@ -441,16 +438,16 @@ def monitor(model_path, data_path, period, *, every=MONTH, baseline=None, cutoff
     >>> [(p.period, p.rows) for p in result.periods]
     [('2026-01', 2), ('2026-02', 1)]
     """
-    bands = DEFAULT_BANDS if bands is None else bands
-    watch = DEFAULT_WATCH if watch is None else watch
-    shift = DEFAULT_SHIFT if shift is None else shift
+    bands = SCORE_BANDS.default if bands is None else bands
+    watch = WATCH.default if watch is None else watch
+    shift = SHIFT.default if shift is None else shift
     _check_options(every, bands, watch, shift, min_bads, cutoff, level)
     card = load_scorecard(model_path)
     if baseline is None:
         base = baseline_from_model(card, str(model_path))
         baseline_name = base.path
     else:
-        base = _count_file(card, baseline, _read(baseline))
+        base = _count_file(card, baseline, read_rows(baseline))
         baseline_name = str(baseline)
     if base.score_rows.sum() == 0:
         raise InputError(f"{baseline_name}: the scorecard refuses every row, so there are no "
