@@ -102,7 +102,8 @@ def test_diff_json_and_old_model_files(demo_build, tmp_path):
     assert [m["name"] for m in data["entered"]] == [first]
     assert data["left"] == [] and data["performance"] == {}
     overwrite = CliRunner().invoke(main, ["diff", str(old), str(new), "--json", str(new)])
-    assert overwrite.exit_code == 2 and overwrite.output.startswith("error: --json")
+    assert overwrite.exit_code == 2 and overwrite.output.startswith("error: ")
+    assert "--json would overwrite" in overwrite.output
 
 
 def test_build_lists_what_it_left_out_and_the_diff_against_the_file_it_replaces(tmp_path):

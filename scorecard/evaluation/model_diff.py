@@ -2,7 +2,7 @@
 
 Reported, in this order: scaling parameters that changed; characteristics that entered or
 left the model (with the stage and reason the newer build recorded); for every characteristic
-in both, whether its bins' rules (cuts, special values, groups of levels, refusals) changed,
+in both, whether its bins' rules (cuts, sentinels, groups of levels, refusals) changed,
 the points of every attribute whose points changed, and the information value before and
 after; the AUC, Gini and KS of each sample both builds measured.
 
