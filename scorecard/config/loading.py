@@ -26,6 +26,7 @@ from typing import Any, Generic, NoReturn, TypeVar, Union
 
 import yaml
 
+from scorecard.config.rejects import METHOD_SETTINGS, REJECT_METHODS, RejectsConfig
 from scorecard.errors import InputError
 
 __all__ = [
@@ -41,6 +42,7 @@ __all__ = [
     "OutputConfig",
     "SamplesConfig",
     "ScalingConfig",
+    "RejectsConfig",
     "ScoringConfig",
     "SelectionConfig",
     "StabilityConfig",
@@ -375,6 +377,7 @@ class Config:
     evaluation: EvaluationConfig = field(default_factory=EvaluationConfig)
     stability: StabilityConfig = field(default_factory=StabilityConfig)
     fairness: FairnessConfig = field(default_factory=FairnessConfig)
+    rejects: RejectsConfig | None = None
     config_file: str = field(default="", compare=False)
     key_lines: FrozenMapping[str, int] = field(
         default_factory=FrozenMapping, compare=False, repr=False
@@ -1044,7 +1047,7 @@ _FAIRNESS_SCHEMA = {
 }
 _TOP_KEYS = (
     "name", "data", "samples", "binning", "characteristics", "selection", "scaling", "output",
-    "engine", "scoring", "evaluation", "stability", "fairness",
+    "engine", "scoring", "evaluation", "stability", "fairness", "rejects",
 )
 
 
@@ -1078,6 +1081,7 @@ def _read_config(source: _Source, root: yaml.MappingNode, base: Path, default_na
         stability=_read_stability(source, top.get("stability")),
         fairness=FairnessConfig(**_section(source, ("fairness",), top.get("fairness"),
                                            _FAIRNESS_SCHEMA)),
+        rejects=_read_rejects(source, top.get("rejects"), base),
         config_file=source.file,
         key_lines=FrozenMapping((_display(path), line) for path, line in source.lines.items()
                                 if path),
@@ -1223,3 +1227,31 @@ def _read_stability(source: _Source, node: yaml.Node | None) -> StabilityConfig:
         source.fail(("stability", key), f"watch ({stability.watch:g}) must be below "
                                         f"shift ({stability.shift:g})")
     return stability
+
+
+_REJECTS_SCHEMA = {
+    "source": _text, "method": _choice(REJECT_METHODS), "bands": _whole(2),
+    "uplift": _number(0, low_open=True), "seed": _optional(_whole(0)),
+    "cutoff": _optional(_finite),
+    "reject_bad_rate": _optional(_number(0, 1, low_open=True, high_open=True)),
+    "known_outcome": _optional(_text),
+}
+
+
+def _read_rejects(source: _Source, node: yaml.Node | None, base: Path) -> RejectsConfig | None:
+    if node is None or _is_null(node):
+        return None
+    path = ("rejects",)
+    values = _section(source, path, node, _REJECTS_SCHEMA)
+    _require(source, path, values, ("source",))
+    method = values.get("method", "fuzzy")
+    for key in values:
+        if key in METHOD_SETTINGS["parcelling"] + METHOD_SETTINGS["hard_cutoff"] \
+                and key not in METHOD_SETTINGS[method]:
+            users = [m for m, keys in METHOD_SETTINGS.items() if key in keys]
+            source.fail(path + (key,), f"applies to method {' and '.join(users)} only, "
+                                       f"not {method}")
+    if values.get("cutoff") is not None and values.get("reject_bad_rate") is not None:
+        source.fail(path + ("reject_bad_rate",), "cannot be given with cutoff: give the score "
+                                                 "or the bad rate that sets it")
+    return RejectsConfig(**{**values, "source": _resolve(base, values["source"])})
