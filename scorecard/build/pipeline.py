@@ -9,6 +9,8 @@ rows works on count tables only.
 from __future__ import annotations
 
 import math
+from dataclasses import replace
+from functools import partial
 from typing import Callable
 
 import numpy as np
@@ -16,7 +18,9 @@ import pandas as pd
 
 from scorecard.binning import coarse as binning
 from scorecard.binning.fine import NumericLayout, candidate_cuts
+from scorecard.build import rejects
 from scorecard.build.result import BuildResult, CharacteristicReport, SampleFacts
+from scorecard.card.scoring import apply_scorecard
 from scorecard.card.points import attribute_points, largest_rounding_change, scaling
 from scorecard.card.scorecard import (
     LEVELS,
@@ -29,8 +33,10 @@ from scorecard.card.scorecard import (
     Scorecard,
 )
 from scorecard.data.outcome import BAD, GOOD, code_outcome
-from scorecard.data.read import column_kind
+from scorecard.data.read import column_kind, read_frame
 from scorecard.data.samples import DEVELOPMENT, EXCLUDED, SAMPLE_NAMES, assign_samples, parse_dates
+from scorecard.engines.augmented import AugmentedEngine
+from scorecard.engines.local import LocalEngine
 from scorecard.engines.passes import (
     RowFacts,
     bin_counts,
@@ -312,16 +318,29 @@ def _binned_report(draft: Characteristic, table: np.ndarray, limits, config,
     return report.characteristic
 
 
-def build_scorecard(config, engine, progress: Callable[[str], None] | None = None) -> BuildResult:
+def build_scorecard(config, engine, progress: Callable[[str], None] | None = None,
+                    rejects_engine=None) -> BuildResult:
     """Build a scorecard from a validated config on an engine holding the data.
 
-    Use :func:`scorecard.build.pipeline` to start from a config file.
+    With a ``rejects`` section the card is built on the accepts plus the inferred rejects
+    (:func:`_build_with_rejects`); ``rejects_engine`` holds the declined applications (read
+    from ``rejects.source`` into memory when not given). Use :func:`scorecard.api.build` to
+    start from a config file.
     """
+    if getattr(config, "rejects", None) is None:
+        return _build(config, engine, progress)
+    return _build_with_rejects(config, engine, rejects_engine, progress)
+
+
+def _build(config, engine, progress, rows: RowFacts | None = None,
+           fairness: bool = True) -> BuildResult:
+    """The build on the rows of ``engine``; ``rows`` gives their facts when already drawn."""
     reports: dict = {}
     head = engine.sample_rows()
     kinds = _candidate_kinds(config, head, reports)
 
-    rows = _outcome_facts(config, engine)
+    if rows is None:
+        rows = _outcome_facts(config, engine)
     facts = _sample_facts(rows)
     dev_goods, dev_bads = facts.goods["development"], facts.bads["development"]
     if dev_goods <= 0 or dev_bads <= 0:
@@ -399,9 +418,73 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
     starts = band_edges(histograms[gains_sample], config.evaluation.score_bands)
     gains = gains_table(histograms[gains_sample], starts, card.scaling)
     ordered = [reports[n] for n in head.columns if n in reports]
-    fairness = compute_fairness(config, engine, rows, card)
+    fairness = compute_fairness(config, engine, rows, card) if fairness else None
     if fairness is not None:
         _say(progress, f"fairness check on {', '.join(config.data.protected)}: "
                        f"{len(fairness.flags)} findings")
     return BuildResult(config, card, ordered, selection, facts, histograms, perf, gains,
                        gains_sample, starts, patterns, fairness=fairness)
+
+
+def _build_with_rejects(config, engine, rejects_engine, progress) -> BuildResult:
+    """Accepts-only card; one pass scoring the rejects; the card rebuilt on accepts plus rejects.
+
+    Holdout and out-of-time samples stay accepts only: the inferred rejects join development.
+    """
+    r = config.rejects
+    rows = _outcome_facts(config, engine)
+    accepts_only = _build(config, engine, progress, rows)
+    own = rejects_engine is None
+    if own:
+        d = config.data
+        rejects_engine = LocalEngine(read_frame(r.source, encoding=d.encoding,
+                                                delimiter=d.delimiter))
+    try:
+        return _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progress)
+    finally:
+        if own:
+            rejects_engine.close()
+
+
+def _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progress):
+    r = config.rejects
+    card = accepts_only.card
+    candidates = [rep.name for rep in accepts_only.reports if rep.status != "not used"]
+    needed = candidates + [c for c in (config.data.weight, r.known_outcome) if c]
+    missing = [c for c in needed if c not in rejects_engine.columns]
+    if missing:
+        raise InputError(f"{r.source}: column {missing[0]}: the declined applications need every "
+                         "characteristic of the data (and data.weight, rejects.known_outcome "
+                         "when given)")
+    d = config.data
+    scored = rejects.RejectScores(*rejects_engine.collect(
+        partial(rejects.score_chunk, card=card, weight=d.weight, known=r.known_outcome,
+                bad=d.bad, good=d.good), columns=list(card.names) + needed[len(candidates):]))
+    _say(progress, f"{len(scored.score)} declined applications scored by the accepts-only card")
+    accepts_scores = None
+    if r.method == "reweighting":
+        accepts_scores = engine.collect(
+            lambda chunk: (apply_scorecard(card, chunk).score,), columns=list(card.names))[0]
+    augmentation, facts = rejects.infer(r, config.samples.seed, card.scaling, rows,
+                                        accepts_scores, scored, accepts_only.histograms)
+    if r.method == "none":
+        final = accepts_only
+    else:
+        copies = augmentation.copies
+        both = RowFacts(*(np.concatenate([part, *(getattr(c, key) for c in copies)])
+                          for key, part in zip(RowFacts._fields,
+                                               (rows.label, augmentation.accepts_weight,
+                                                rows.sample))))
+        final = _build(config, AugmentedEngine(engine, rejects_engine, len(copies)), progress,
+                       both, fairness=False)
+        final = replace(final, samples=accepts_only.samples,
+                        fairness=compute_fairness(config, engine, rows, final.card))
+    inference = rejects.RejectInference(
+        method=r.method, settings=r.settings(), source=str(r.source), rows=len(scored.score),
+        refused=int(scored.refused.sum()), accepts_only=accepts_only,
+        known_outcome=r.known_outcome, **facts)
+    _say(progress, f"reject inference ({r.method}): rejects' bad rate "
+                   f"{inference.inferred_bad_rate:.1%} against the accepts' "
+                   f"{inference.accepts_bad_rate:.1%}")
+    card = replace(final.card, inference=inference.record())
+    return replace(final, card=card, rejects=inference)

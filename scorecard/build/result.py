@@ -55,6 +55,7 @@ class BuildResult:
     band_starts: np.ndarray
     patterns: object = None
     fairness: object = None         # scorecard.evaluation.fairness.FairnessReport, or None without protected columns
+    rejects: object = None          # scorecard.build.rejects.RejectInference, or None without declined applications
     outputs: dict = field(default_factory=dict)
 
     def tables(self) -> dict:

@@ -108,6 +108,9 @@ class Scorecard:
     target: dict = field(default_factory=dict)
     rounding_change: float = 0.0
     reasons: int = 4                 # reason codes per scored row unless the caller says otherwise
+    # How declined applicants were brought into the build (method, settings, bad rates); empty
+    # for a card built on accepts alone without declined applications.
+    inference: dict = field(default_factory=dict)
 
     @property
     def names(self) -> tuple[str, ...]:
@@ -138,7 +141,8 @@ class Scorecard:
                 "scaling": self.scaling._asdict(), "intercept": self.intercept,
                 "rounding_change": self.rounding_change, "reasons": self.reasons,
                 "target": self.target,
-                "characteristics": [_characteristic_dict(c) for c in self.characteristics]}
+                "characteristics": [_characteristic_dict(c) for c in self.characteristics],
+                **({"reject_inference": self.inference} if self.inference else {})}
 
     def to_json(self) -> str:
         return json.dumps(self.to_dict(), indent=1, sort_keys=False, allow_nan=False) + "\n"
@@ -186,7 +190,8 @@ def _scorecard_from_dict(raw, source: str) -> Scorecard:
         chars = tuple(_characteristic_from_dict(c) for c in raw["characteristics"])
         card = Scorecard(str(raw["name"]), scale, float(raw["intercept"]), chars,
                          dict(raw.get("target", {})), float(raw.get("rounding_change", 0.0)),
-                         _count(raw.get("reasons", 4), "reasons"))
+                         _count(raw.get("reasons", 4), "reasons"),
+                         dict(raw.get("reject_inference", {})))
     except (KeyError, TypeError, ValueError) as exc:
         raise InputError(f"{source}: model file is incomplete or malformed ({exc})") from None
     _check_consistent(card, source)

@@ -4,16 +4,19 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from scorecard.demo.applications import demo_config_text, make_applications
+from scorecard.demo.applications import demo_config_text, make_applications, make_declined
 from scorecard.outputs.atomic import atomic_path, write_text
 
 DATA_FILE = "applications.csv"
 DRIFTED_FILE = "applications_recent_drifted.csv"
+DECLINED_FILE = "declined.csv"
 CONFIG_FILE = "scorecard.yaml"
 
 
 def write_demo(directory, rows: int = 20_000, seed: int = 2024) -> Path:
-    """Write the demo sample, a drifted recent sample and the config; return the config path.
+    """Write the demo sample, a drifted recent sample, the declined applications and the config.
+
+    Returns the config path.
 
     Examples
     --------
@@ -28,6 +31,8 @@ def write_demo(directory, rows: int = 20_000, seed: int = 2024) -> Path:
         frame = make_applications(rows=rows, seed=seed + offset, drift=drift)
         with atomic_path(directory / name) as tmp:
             frame.to_csv(tmp, index=False)
+    with atomic_path(directory / DECLINED_FILE) as tmp:
+        make_declined(rows=rows, seed=seed).to_csv(tmp, index=False)
     config = directory / CONFIG_FILE
     write_text(config, demo_config_text(DATA_FILE))
     return config
