@@ -1,7 +1,8 @@
 """The reviewer's workbook of a built scorecard (an .xlsx file).
 
 Sheets, in the fixed order of the output contract: Overview, Characteristics, Bins, Model,
-Points, Score bands, Stability, Calculator, then Fairness when the build examined fairness.
+Points, Score bands, Stability, Calculator, then Fairness when the build examined fairness and
+Reject inference when the build had declined applications.
 """
 
 from __future__ import annotations
@@ -19,6 +20,7 @@ __all__ = ["SHEETS", "write_workbook"]
 SHEETS = ("Overview", "Characteristics", "Bins", "Model", "Points", "Score bands", "Stability",
           "Calculator")
 FAIRNESS = "Fairness"
+REJECT_INFERENCE = "Reject inference"
 
 
 def write_workbook(result, path) -> Path:
@@ -63,6 +65,10 @@ def write_workbook(result, path) -> Path:
     if fairness is not None:
         from scorecard.outputs.workbook.fairness_sheet import write_fairness_sheet
         write_fairness_sheet(wb.create_sheet(FAIRNESS), fairness)
+    inference = getattr(result, "rejects", None)
+    if inference is not None:
+        from scorecard.outputs.workbook.rejects_sheet import write_rejects_sheet
+        write_rejects_sheet(wb.create_sheet(REJECT_INFERENCE), inference, result)
     # Spreadsheet programs compute the calculator's formulas when the file opens.
     wb.calculation.fullCalcOnLoad = True
     wb.properties.creator = "scorecard"

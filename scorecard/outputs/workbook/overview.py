@@ -88,6 +88,16 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
                {"Rows": style.COUNT, "Goods": style.COUNT, "Bads": style.COUNT,
                 "Bad rate": style.PERCENT})
 
+    inference = getattr(result, "rejects", None)
+    if inference is not None:
+        page.heading("Declined applications (reject inference)")
+        page.fact("Declined applications file", inference.source)
+        page.fact("Declined applications read", inference.rows, style.COUNT)
+        page.fact("Reject inference method", inference.method)
+        page.fact("Rejects' inferred bad rate against the accepts'",
+                  f"{inference.inferred_bad_rate:.1%} against {inference.accepts_bad_rate:.1%} "
+                  "(see the Reject inference sheet)")
+
     page.heading("Scaling")
     s = card.scaling
     page.fact("Base score", s.base_score, "0")
