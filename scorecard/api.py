@@ -7,6 +7,7 @@ functions, so that a command loads only what it needs.
 
 from __future__ import annotations
 
+import contextlib
 from pathlib import Path
 
 from scorecard.build.pipeline import build_scorecard
@@ -28,11 +29,29 @@ def open_engine(config, progress=None):
     return DaskEngine(d.source, config.engine.dask, progress=progress)
 
 
+def open_rejects_engine(config, engine, progress=None):
+    """The engine holding the declined applications (``rejects.source``), or None without them.
+
+    On Dask it joins the cluster of ``engine``, the engine of the accepts.
+    """
+    r = config.rejects
+    if r is None:
+        return contextlib.nullcontext(None)
+    d = config.data
+    if config.engine.dask is None:
+        return LocalEngine(read_frame(r.source, encoding=d.encoding, delimiter=d.delimiter),
+                           progress=progress)
+    from scorecard.engines.dask_engine import DaskEngine
+    return DaskEngine(r.source, engine.client.scheduler.address, progress=progress)
+
+
 def _output_paths(config, workbook, model) -> tuple[Path, Path]:
     """Where the outputs go; InputError when one would overwrite an input or the other."""
     model_path = Path(model) if model else config.output.model
     workbook_path = Path(workbook) if workbook else config.output.workbook
     inputs = {Path(config.data.source).resolve(): "the data", Path(config.config_file).resolve(): "the config"}
+    if config.rejects is not None:
+        inputs[Path(config.rejects.source).resolve()] = "the declined applications"
     for option, path in (("--workbook", workbook_path), ("--model", model_path)):
         if path.resolve() in inputs:
             raise InputError(f"{option} {path}: would overwrite {inputs[path.resolve()]}")
@@ -67,7 +86,8 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
         check_columns(config, engine.columns)
         if progress:
             progress(f"read {engine.n_rows} rows from {config.data.source}")
-        result = build_scorecard(config, engine, progress)
+        with open_rejects_engine(config, engine, progress) as rejects_engine:
+            result = build_scorecard(config, engine, progress, rejects_engine)
     # The workbook is finished in its temporary file before the model moves into place, and
     # moves in right after: a failure anywhere leaves the previous pair of outputs as it was.
     with atomic_path(workbook_path) as pending_workbook:
