@@ -37,9 +37,8 @@ def open_rejects_engine(config, engine, progress=None):
     r = config.rejects
     if r is None:
         return contextlib.nullcontext(None)
-    d = config.data
     if config.engine.dask is None:
-        return LocalEngine(read_frame(r.source, encoding=d.encoding, delimiter=d.delimiter),
+        return LocalEngine(read_frame(r.source, encoding=r.encoding, delimiter=r.delimiter),
                            progress=progress)
     from scorecard.engines.dask_engine import DaskEngine
     return DaskEngine(r.source, engine.client.scheduler.address, progress=progress)

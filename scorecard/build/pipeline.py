@@ -436,14 +436,38 @@ def _build_with_rejects(config, engine, rejects_engine, progress) -> BuildResult
     accepts_only = _build(config, engine, progress, rows)
     own = rejects_engine is None
     if own:
-        d = config.data
-        rejects_engine = LocalEngine(read_frame(r.source, encoding=d.encoding,
-                                                delimiter=d.delimiter))
+        rejects_engine = LocalEngine(read_frame(r.source, encoding=r.encoding,
+                                                delimiter=r.delimiter))
     try:
         return _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progress)
     finally:
         if own:
             rejects_engine.close()
+
+
+def _accepts_histogram(engine, rows: RowFacts, card: Scorecard):
+    """Score histogram of the development accepts under ``card``."""
+    score, refused = engine.collect(
+        lambda chunk: tuple(getattr(apply_scorecard(card, chunk), k) for k in ("score", "rejected")),
+        columns=list(card.names))
+    keep = (rows.sample == DEVELOPMENT) & ~refused
+    return score_histogram(score[keep], rows.label[keep], rows.weight[keep], card.min_score,
+                           card.max_score)
+
+
+def _accepts_bin_counts(engine, rows: RowFacts, reports: list) -> list:
+    """The reports with each sample's counts per bin taken from the accepts alone.
+
+    The bins keep the counts they were fitted on (accepts plus inferred rejects); the counts by
+    sample serve stability, which compares accepts with accepts.
+    """
+    binned = [rep for rep in reports if rep.sample_counts is not None]
+    tables = engine.reduce(bin_counts, merge_bin_counts, rows,
+                           [rep.characteristic for rep in binned],
+                           columns=[rep.name for rep in binned]) if binned else []
+    counted = {rep.name: table for rep, table in zip(binned, tables)}
+    return [replace(rep, sample_counts=counted[rep.name]) if rep.name in counted else rep
+            for rep in reports]
 
 
 def _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progress):
@@ -477,7 +501,16 @@ def _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progr
                                                 rows.sample))))
         final = _build(config, AugmentedEngine(engine, rejects_engine, len(copies)), progress,
                        both, fairness=False)
-        final = replace(final, samples=accepts_only.samples,
+        # The samples are the data file's (accepts); the bins and patterns hold the inferred
+        # rejects too, which the Reject inference sheet accounts for.
+        samples = accepts_only.samples
+        # Performance is measured where outcomes are known: the development figures too come
+        # from the development accepts alone, scored by the new card in one more pass.
+        histograms = {**final.histograms,
+                      "development": _accepts_histogram(engine, rows, final.card)}
+        final = replace(final, samples=samples, histograms=histograms,
+                        reports=_accepts_bin_counts(engine, rows, final.reports),
+                        performance={n: performance(h) for n, h in histograms.items()},
                         fairness=compute_fairness(config, engine, rows, final.card))
     inference = rejects.RejectInference(
         method=r.method, settings=r.settings(), source=str(r.source), rows=len(scored.score),

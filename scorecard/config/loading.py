@@ -1234,7 +1234,7 @@ _REJECTS_SCHEMA = {
     "uplift": _number(0, low_open=True), "seed": _optional(_whole(0)),
     "cutoff": _optional(_finite),
     "reject_bad_rate": _optional(_number(0, 1, low_open=True, high_open=True)),
-    "known_outcome": _optional(_text),
+    "known_outcome": _optional(_text), "encoding": _encoding, "delimiter": _delimiter,
 }
 
 

@@ -63,6 +63,9 @@ class RejectsConfig:
         Hard cut-off: rejects scoring below this count as bad, the rest as good.
     reject_bad_rate : float or None
         Hard cut-off without ``cutoff``: the lowest-scoring rejects count as bad up to this share.
+    encoding, delimiter : str
+        Text encoding and field separator when the rejects file is CSV; each file states its
+        own, so they do not follow ``data``.
     known_outcome : str or None
         A column of the rejects file holding the outcome they later had elsewhere (such as on
         credit bureau data) or, for invented data, their true outcome; coded like ``data.target``.
@@ -77,6 +80,8 @@ class RejectsConfig:
     cutoff: float | None = REJECT_SETTINGS["cutoff"][0]
     reject_bad_rate: float | None = REJECT_SETTINGS["reject_bad_rate"][0]
     known_outcome: str | None = None
+    encoding: str = "utf-8"
+    delimiter: str = ","
 
     def settings(self) -> dict:
         """The settings the method reads, by name (defaults included)."""

@@ -229,7 +229,8 @@ def make_declined(rows: int = 20_000, seed: int = 2024) -> pd.DataFrame:
         batch = 8 * rows
         draws = _draw_applicants(rng, batch, _DEVELOPMENT)
         outcome = _draw_outcome(rng, _log_odds_of_good(draws))
-        impression = rng.normal(size=batch) - _IMPRESSION_SHIFT_OF_DEFAULTERS * (outcome == "defaulted")
+        defaulted = outcome == "defaulted"
+        impression = rng.normal(size=batch) - _IMPRESSION_SHIFT_OF_DEFAULTERS * defaulted
         accept = _acceptance(draws, impression)
         odds_declined = (1.0 - accept) / accept
         if wanted is None:
@@ -489,6 +490,10 @@ fairness:
   # A Cramer's V of 0.10 flags such a trace for the reviewer's attention.
   proxy_cramers_v: 0.10
 
+output:
+  workbook: out/scorecard.xlsx
+  model: out/scorecard.json
+
 rejects:
   # Applications the old policy declined: the same characteristics, no outcome. The card is
   # built on the accepts plus these, with outcomes inferred by fuzzy augmentation (each declined
@@ -498,10 +503,6 @@ rejects:
   # The declined applicants' true outcomes, known only because the data are invented: shown
   # beside the inferred bad rate in the workbook, never used to build.
   known_outcome: true_outcome
-
-output:
-  workbook: out/scorecard.xlsx
-  model: out/scorecard.json
 
 engine: local                       # the sample fits in memory; no cluster needed
 """

@@ -97,6 +97,11 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
         page.fact("Rejects' inferred bad rate against the accepts'",
                   f"{inference.inferred_bad_rate:.1%} against {inference.accepts_bad_rate:.1%} "
                   "(see the Reject inference sheet)")
+        if inference.method != "none":
+            page.paragraph("The card was fitted on the development accepts plus the declined "
+                           "applicants with their inferred outcomes (so the Bins sheet's counts "
+                           "include them); the samples below and every measure of performance "
+                           "are accepts only.", style.NOTE_FONT)
 
     page.heading("Scaling")
     s = card.scaling
