@@ -57,8 +57,13 @@ def write_rejects_sheet(ws: Worksheet, inference, final_result) -> int:
     _, row = write_table(ws, _rates(inference), start_row=row + 1,
                          formats={"Value": "0.0000"}, title="Bad rates (weights)")
     _format_rates(ws, row, inference)
-    _, row = write_table(ws, _settings(inference), start_row=row + 2,
-                         title=f"Settings of the method ({inference.method})")
+    header, row = write_table(ws, _settings(inference), start_row=row + 2,
+                              title=f"Settings of the method ({inference.method})")
+    for r in range(header + 1, row + 1):
+        # The reasons are sentences: wrapped in their cell, not spilling across the page.
+        reason = ws.cell(r, 4)
+        reason.alignment = style.WRAP
+        ws.row_dimensions[r].height = 15 * (len(str(reason.value or "")) // 55 + 1)
     money = {"Accepts": style.COUNT, "Rejects": style.COUNT, "Declined share": style.PERCENT,
              "Accepts' bad rate (development)": style.PERCENT,
              "Rejects' inferred bad rate": style.PERCENT, "Ratio": "0.00",
