@@ -8,6 +8,7 @@ functions, so that a command loads only what it needs.
 
 from __future__ import annotations
 
+import contextlib
 from dataclasses import replace
 from pathlib import Path
 
@@ -44,6 +45,21 @@ def _build_outputs(config, workbook, model) -> tuple[Output, Output]:
             else Output("output.model", config.output.model, MODEL_FILE))
 
 
+def open_rejects_engine(config, engine, progress=None):
+    """The engine holding the declined applications (``rejects.source``), or None without them.
+
+    On Dask it joins the cluster of ``engine``, the engine of the accepts.
+    """
+    r = config.rejects
+    if r is None:
+        return contextlib.nullcontext(None)
+    if config.engine.dask is None:
+        return LocalEngine(read_frame(r.source, encoding=r.encoding, delimiter=r.delimiter),
+                           progress=progress)
+    from scorecard.engines.dask_engine import DaskEngine
+    return DaskEngine(r.source, engine.client.scheduler.address, progress=progress)
+
+
 def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResult:
     """Build the scorecard a config describes and write its workbook and model file.
 
@@ -64,14 +80,17 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
     """
     from scorecard.outputs.workbook import write_workbook
     config = load_config(config_path)
-    outputs = check_outputs(_build_outputs(config, workbook, model),
-                            {"the config": config.config_file, "the data": config.data.source})
+    inputs = {"the config": config.config_file, "the data": config.data.source}
+    if config.rejects is not None:
+        inputs["the declined applications"] = config.rejects.source
+    outputs = check_outputs(_build_outputs(config, workbook, model), inputs)
     previous = _previous_card(outputs[1].path)
     with open_engine(config, progress) as engine:
         check_columns(config, engine.columns)
         if progress:
             progress(f"read {engine.n_rows} rows from {config.data.source}")
-        result = build_scorecard(config, engine, progress)
+        with open_rejects_engine(config, engine, progress) as rejects_engine:
+            result = build_scorecard(config, engine, progress, rejects_engine)
     # Both files are finished before either moves into place: a failure anywhere leaves the
     # previous pair of outputs as it was.
     book, card = outputs

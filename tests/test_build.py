@@ -49,12 +49,18 @@ def test_every_column_has_a_fate_and_reserved_columns_never_enter(demo_build):
 
 def test_counts_are_conserved_in_every_binned_characteristic(demo_build):
     facts = demo_build.samples
+    # Declined applicants join development with their inferred outcomes (fuzzy in the demo).
+    inferred = demo_build.rejects
+    added_bads = inferred.inferred_bads if inferred is not None else 0.0
+    added = inferred.weight if inferred is not None else 0.0
     for rep in demo_build.reports:
         if rep.characteristic is None:
             continue
         bins = rep.characteristic.bins
-        assert sum(b.goods for b in bins) == pytest.approx(facts.goods["development"])
-        assert sum(b.bads for b in bins) == pytest.approx(facts.bads["development"])
+        assert sum(b.goods for b in bins) == pytest.approx(
+            facts.goods["development"] + added - added_bads)
+        assert sum(b.bads for b in bins) == pytest.approx(facts.bads["development"] + added_bads)
+        # The counts by sample are the accepts' (stability compares accepts with accepts).
         per_sample = rep.sample_counts.sum(axis=(0, 2))
         assert per_sample.tolist() == pytest.approx(
             [facts.rows["development"], facts.rows["holdout"], facts.rows["out of time"]])
@@ -181,9 +187,10 @@ def test_leaving_weak_characteristics_out_of_the_patterns_changes_no_selection(d
     frame = read_frame(config.data.source)
     outcome, sample = _samples(config, frame)
     dev = sample == 0
-    binned = [r.characteristic for r in demo_build.reports
+    accepts_only = demo_build if demo_build.rejects is None else demo_build.rejects.accepts_only
+    binned = [r.characteristic for r in accepts_only.reports
               if r.status in ("in model", "not selected")]
-    floored = [r.name for r in demo_build.reports if r.stage == "information value"]
+    floored = [r.name for r in accepts_only.reports if r.stage == "information value"]
     assert floored, "the demo should have a characteristic below the floor"
     by_name = {c.name: c for c in binned}
     X = np.column_stack([
@@ -197,7 +204,10 @@ def test_leaving_weak_characteristics_out_of_the_patterns_changes_no_selection(d
         min_iv=s.min_iv, max_correlation=s.max_correlation, max_vif=s.max_vif,
         method=s.method, entry_p_value=s.entry_p_value,
         max_characteristics=s.max_characteristics, keep=tuple(s.keep))
-    assert every.selected == demo_build.selection.selected
-    assert every.fates == demo_build.selection.fates
-    np.testing.assert_allclose(every.fit.coefficients, demo_build.selection.fit.coefficients,
+    # Row by row on the accepts reproduces the card built on them (with declined applications
+    # the final card is rebuilt on accepts plus inferred rejects; tests/test_rejects.py).
+    built = demo_build if demo_build.rejects is None else demo_build.rejects.accepts_only
+    assert every.selected == built.selection.selected
+    assert every.fates == built.selection.fates
+    np.testing.assert_allclose(every.fit.coefficients, built.selection.fit.coefficients,
                                rtol=1e-8, atol=1e-10)

@@ -367,6 +367,7 @@ def test_config_has_the_contract_sections_in_order(config):
         "scaling",
         "fairness",
         "output",
+        "rejects",
         "engine",
     ]
     # The fairness threshold is lowered so the demo's mild built-in proxy gets flagged.

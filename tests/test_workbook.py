@@ -103,7 +103,9 @@ def _table(ws, first_row: int = 1) -> pd.DataFrame:
 def test_sheets_come_in_the_contract_order_with_headers_in_row_1(demo, book):
     # The demo declares a protected column, so its build examines fairness.
     assert demo[0].fairness is not None
-    assert book.sheetnames == [*SHEETS, "Fairness"]
+    # ... and it has declined applications, so the reject inference comes last.
+    assert demo[0].rejects is not None
+    assert book.sheetnames == [*SHEETS, "Fairness", "Reject inference"]
     for name, expected in FIRST_HEADERS.items():
         assert _header(book[name])[:len(expected)] == expected, name
 
@@ -172,7 +174,9 @@ def test_characteristics_sheet_ranks_every_column_by_information_value(demo, boo
 def test_bins_sheet_conserves_rows_and_sums_to_each_information_value(demo, book):
     result = demo[0]
     table = _table(book["Bins"])
-    dev_rows = result.samples.rows["development"]
+    # The bins hold the counts the card was fitted on: development accepts plus the weight of
+    # the declined applicants with their inferred outcomes.
+    dev_rows = result.samples.rows["development"] + (result.rejects.weight if result.rejects else 0)
     for rep in frames.binned_reports(result.reports):
         mine = table[table["Characteristic"] == rep.name]
         assert len(mine) == len(rep.characteristic.bins)

@@ -11,6 +11,7 @@ from __future__ import annotations
 import math
 import warnings
 from dataclasses import replace
+from functools import partial
 from typing import Callable
 
 import numpy as np
@@ -18,7 +19,9 @@ import pandas as pd
 
 from scorecard.binning import coarse as binning
 from scorecard.binning.fine import NumericLayout, candidate_cuts
+from scorecard.build import rejects
 from scorecard.build.result import BuildResult, CharacteristicReport, SampleFacts
+from scorecard.card.scoring import apply_scorecard
 from scorecard.card.points import attribute_points, largest_rounding_change, scaling
 from scorecard.card.scorecard import (
     LEVELS,
@@ -36,6 +39,9 @@ from scorecard.data.outcome import BAD, GOOD, code_outcome
 from scorecard.data.read import column_kind, decimal_comma_column
 from scorecard.data.samples import (DEVELOPMENT, EXCLUDED, HOLDOUT, OUT_OF_TIME, SAMPLE_NAMES,
                                     assign_samples, parse_dates)
+from scorecard.engines.augmented import AugmentedEngine
+from scorecard.engines.local import LocalEngine
+from scorecard.data.read import read_frame
 from scorecard.engines.passes import (
     RowFacts,
     bin_counts,
@@ -348,13 +354,19 @@ def _binned_report(draft: Characteristic, table: np.ndarray, limits, config,
                    mutual_information_nats=mi.nats, mutual_information_bits=mi.bits)
 
 
-def build_scorecard(config, engine, progress: Callable[[str], None] | None = None) -> BuildResult:
+def build_scorecard(config, engine, progress: Callable[[str], None] | None = None,
+                    rejects_engine=None) -> BuildResult:
     """Build a scorecard from a validated config on an engine holding the data.
 
-    Use :func:`scorecard.api.build` to start from a config file.
+    With a ``rejects`` section the card is built on the accepts plus the inferred rejects
+    (:func:`_build_with_rejects`); ``rejects_engine`` holds the declined applications (read
+    from ``rejects.source`` into memory when not given). Use :func:`scorecard.api.build` to
+    start from a config file.
     """
     try:
-        return _build(config, engine, progress)
+        if config.rejects is None:
+            return _build(config, engine, progress)
+        return _build_with_rejects(config, engine, rejects_engine, progress)
     except InputError as exc:
         # A data error found while checking values names the column (and row); the message
         # gains the file it is in.
@@ -364,12 +376,15 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
         raise
 
 
-def _build(config, engine, progress) -> BuildResult:
+def _build(config, engine, progress, rows: RowFacts | None = None,
+           fairness: bool = True) -> BuildResult:
+    """The build on the rows of ``engine``; ``rows`` gives their facts when already drawn."""
     reports: dict = {}
     head = engine.sample_rows()
     kinds = _candidate_kinds(config, head, reports)
 
-    rows = _outcome_facts(config, engine)
+    if rows is None:
+        rows = _outcome_facts(config, engine)
     facts = _sample_facts(rows)
     dev_goods, dev_bads = facts.goods["development"], facts.bads["development"]
     if dev_goods <= 0 or dev_bads <= 0:
@@ -459,7 +474,7 @@ def _build(config, engine, progress) -> BuildResult:
     # monitoring and diffs need only the model file.
     card = replace(card, development=_development(card, histograms, perf, facts, config),
                    fates=tuple(_fate(r) for r in ordered))
-    fairness = compute_fairness(config, engine, rows, card)
+    fairness = compute_fairness(config, engine, rows, card) if fairness else None
     if fairness is not None:
         _say(progress, f"fairness check on {', '.join(config.data.protected)}: "
                        f"{len(fairness.flags)} findings")
@@ -549,3 +564,110 @@ def _unmeasured(config, histograms: dict) -> dict:
         warnings.warn(f"the {name} sample {out[name]}: its measures are not available",
                       ResultWarning)
     return out
+
+
+def _build_with_rejects(config, engine, rejects_engine, progress) -> BuildResult:
+    """Accepts-only card; one pass scoring the rejects; the card rebuilt on accepts plus rejects.
+
+    Holdout and out-of-time samples stay accepts only: the inferred rejects join development.
+    """
+    r = config.rejects
+    rows = _outcome_facts(config, engine)
+    accepts_only = _build(config, engine, progress, rows)
+    own = rejects_engine is None
+    if own:
+        rejects_engine = LocalEngine(read_frame(r.source, encoding=r.encoding,
+                                                delimiter=r.delimiter))
+    try:
+        return _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progress)
+    finally:
+        if own:
+            rejects_engine.close()
+
+
+def _accepts_histogram(engine, rows: RowFacts, card: Scorecard):
+    """Score histogram of the development accepts under ``card``."""
+    score, refused = engine.collect(
+        lambda chunk: tuple(getattr(apply_scorecard(card, chunk), k) for k in ("score", "rejected")),
+        columns=list(card.names))
+    keep = (rows.sample == DEVELOPMENT) & ~refused
+    return score_histogram(score[keep], rows.label[keep], rows.weight[keep], card.min_score,
+                           card.max_score)
+
+
+def _accepts_bin_counts(engine, rows: RowFacts, reports: list) -> list:
+    """The reports with each sample's counts per bin taken from the accepts alone.
+
+    The bins keep the counts they were fitted on (accepts plus inferred rejects); the counts by
+    sample serve stability, which compares accepts with accepts.
+    """
+    binned = [rep for rep in reports if rep.sample_counts is not None]
+    tables = engine.reduce(bin_counts, merge_bin_counts, rows,
+                           [rep.characteristic for rep in binned],
+                           columns=[rep.name for rep in binned]) if binned else []
+    counted = {rep.name: table for rep, table in zip(binned, tables)}
+    return [replace(rep, sample_counts=counted[rep.name]) if rep.name in counted else rep
+            for rep in reports]
+
+
+def _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progress):
+    r = config.rejects
+    card = accepts_only.card
+    candidates = [rep.name for rep in accepts_only.reports if rep.status != "not used"]
+    needed = candidates + [c for c in (config.data.weight, r.known_outcome) if c]
+    missing = [c for c in needed if c not in rejects_engine.columns]
+    if missing:
+        raise InputError(f"{r.source}: column {missing[0]}: the declined applications need every "
+                         "characteristic of the data (and data.weight, rejects.known_outcome "
+                         "when given)")
+    d = config.data
+    scored = rejects.RejectScores(*rejects_engine.collect(
+        partial(rejects.score_chunk, card=card, weight=d.weight, known=r.known_outcome,
+                bad=d.bad, good=d.good), columns=list(card.names) + needed[len(candidates):]))
+    _say(progress, f"{len(scored.score)} declined applications scored by the accepts-only card")
+    accepts_scores = None
+    if r.method == "reweighting":
+        accepts_scores = engine.collect(
+            lambda chunk: (apply_scorecard(card, chunk).score,), columns=list(card.names))[0]
+    augmentation, facts = rejects.infer(r, config.samples.seed, card.scaling, rows,
+                                        accepts_scores, scored, accepts_only.histograms)
+    if r.method == "none":
+        final = accepts_only
+    else:
+        copies = augmentation.copies
+        both = RowFacts(*(np.concatenate([part, *(getattr(c, key) for c in copies)])
+                          for key, part in zip(RowFacts._fields,
+                                               (rows.label, augmentation.accepts_weight,
+                                                rows.sample))))
+        final = _build(config, AugmentedEngine(engine, rejects_engine, len(copies)), progress,
+                       both, fairness=False)
+        # The samples are the data file's (accepts); the bins and patterns hold the inferred
+        # rejects too, which the Reject inference sheet accounts for.
+        samples = accepts_only.samples
+        # Performance is measured where outcomes are known: the development figures too come
+        # from the development accepts alone, scored by the new card in one more pass.
+        histograms = {**final.histograms,
+                      "development": _accepts_histogram(engine, rows, final.card)}
+        reports = _accepts_bin_counts(engine, rows, final.reports)
+        perf = {n: performance(h) for n, h in histograms.items() if n not in final.unmeasured}
+        # Stability and the development distributions the model file carries compare accepts
+        # with accepts, as monitoring will.
+        stability = build_stability(
+            final.card, histograms, final.band_starts,
+            {r_.name: r_.sample_counts for r_ in reports if r_.name in final.card.names},
+            samples.rows, watch=config.stability.watch, shift=config.stability.shift,
+            unit="weights" if config.data.weight else "rows")
+        card = replace(final.card, development=_development(final.card, histograms, perf,
+                                                            samples, config))
+        final = replace(final, card=card, samples=samples, histograms=histograms,
+                        reports=reports, performance=perf, stability=stability,
+                        fairness=compute_fairness(config, engine, rows, card))
+    inference = rejects.RejectInference(
+        method=r.method, settings=r.settings(), source=str(r.source), rows=len(scored.score),
+        refused=int(scored.refused.sum()), accepts_only=accepts_only,
+        known_outcome=r.known_outcome, **facts)
+    _say(progress, f"reject inference ({r.method}): rejects' bad rate "
+                   f"{inference.inferred_bad_rate:.1%} against the accepts' "
+                   f"{inference.accepts_bad_rate:.1%}")
+    card = replace(final.card, inference=inference.record())
+    return replace(final, card=card, rejects=inference)

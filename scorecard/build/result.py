@@ -13,6 +13,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from scorecard.build.rejects import RejectInference
 from scorecard.card.scorecard import Characteristic, Scorecard
 from scorecard.config import Config
 from scorecard.engines.patterns import Patterns
@@ -73,6 +74,7 @@ class BuildResult:
     unmeasured: dict[str, str] = field(default_factory=dict)   # sample -> why no AUC, Gini, KS
     extreme_values: dict[str, str] = field(default_factory=dict)   # column -> values far beyond
     previous: Scorecard | None = None   # the model file this build replaced, when one loaded
+    rejects: RejectInference | None = None   # without declined applications: None
 
     def tables(self) -> dict:
         """Every table the workbook shows, as DataFrames keyed by the sheet's name for them.

@@ -159,6 +159,9 @@ class Scorecard:
     reasons: int = REASONS.default                 # reason codes per scored row unless the caller says otherwise
     development: Development | None = None   # None in model files written before it was stored
     fates: tuple[Fate, ...] = ()
+    # How declined applicants were brought into the build (method, settings, bad rates); empty
+    # for a card built on accepts alone without declined applications.
+    inference: dict = field(default_factory=dict)
 
     @property
     def dropped(self) -> tuple[Fate, ...]:
@@ -232,6 +235,8 @@ def _extras_dict(card: Scorecard) -> dict:
     if card.fates:
         out["fates"] = [{**asdict(f), "information_value": _finite_or_none(f.information_value)}
                         for f in card.fates]
+    if card.inference:
+        out["reject_inference"] = card.inference
     return out
 
 
@@ -266,7 +271,8 @@ def _scorecard_from_dict(raw, source: str) -> Scorecard:
                          dict(raw.get("target", {})), float(raw.get("rounding_change", 0.0)),
                          _count(raw.get("reasons", REASONS.default), "reasons"),
                          _development_from_dict(raw.get("development")),
-                         tuple(_fate_from_dict(f) for f in raw.get("fates", [])))
+                         tuple(_fate_from_dict(f) for f in raw.get("fates", [])),
+                         dict(raw.get("reject_inference", {})))
     except (KeyError, TypeError, ValueError) as exc:
         raise InputError(f"{source}: model file is incomplete or malformed ({exc})") from None
     _check_consistent(card, source)

@@ -18,6 +18,7 @@ from scorecard import constraints as c
 from scorecard.config import values as v
 from scorecard.config.messages import display, message, shorten
 from scorecard.config.nodes import Source, describe, is_null
+from scorecard.config.rejects import METHOD_SETTINGS, REJECT_METHODS, RejectsConfig
 from scorecard.config.schema import (
     BinningConfig,
     CharacteristicOverride,
@@ -118,7 +119,7 @@ _FAIRNESS_SCHEMA = {
 }
 _TOP_KEYS = (
     "name", "data", "samples", "binning", "characteristics", "selection", "scaling", "output",
-    "engine", "scoring", "evaluation", "stability", "fairness", "grades",
+    "engine", "scoring", "evaluation", "stability", "fairness", "grades", "rejects",
 )
 _GRADES_SCHEMA = {
     "count": v.whole(c.Interval(2)),
@@ -182,6 +183,7 @@ def read_config(source: Source, root: yaml.MappingNode, base: Path, default_name
         fairness=FairnessConfig(**v.section(source, ("fairness",), top.get("fairness"),
                                            _FAIRNESS_SCHEMA)),
         grades=_read_grades(source, top.get("grades")),
+        rejects=_read_rejects(source, top.get("rejects"), base),
         config_file=source.file,
         key_lines=FrozenMapping((display(path), line) for path, line in source.lines.items()
                                 if path),
@@ -340,3 +342,32 @@ def _read_grades(source: Source, node: yaml.Node | None) -> GradesConfig | None:
                                              "(the scores that start each grade), not both")
         source.fail(("grades", "count"), "is required: a number of grades (or give edges)")
     return GradesConfig(**values)
+
+
+_REJECTS_SCHEMA = {
+    "source": v.text, "method": v.choice(REJECT_METHODS), "bands": v.whole(c.Interval(2)),
+    "uplift": v.number(c.Interval(0, low_open=True)), "seed": v.optional(v.whole(c.Interval(0))),
+    "cutoff": v.optional(v.finite),
+    "reject_bad_rate": v.optional(v.number(c.Interval(0, 1, low_open=True, high_open=True))),
+    "known_outcome": v.optional(v.text), "encoding": v.encoding, "delimiter": v.delimiter,
+}
+
+
+def _read_rejects(source: Source, node: yaml.Node | None, base: Path) -> RejectsConfig | None:
+    """The rejects section, or None when absent; a setting of another method is refused."""
+    if node is None or is_null(node):
+        return None
+    path = ("rejects",)
+    values = v.section(source, path, node, _REJECTS_SCHEMA)
+    v.require(source, path, values, ("source",))
+    method = values.get("method", "fuzzy")
+    for key in values:
+        if key in METHOD_SETTINGS["parcelling"] + METHOD_SETTINGS["hard_cutoff"] \
+                and key not in METHOD_SETTINGS[method]:
+            users = [m for m, keys in METHOD_SETTINGS.items() if key in keys]
+            source.fail(path + (key,), f"applies to method {' and '.join(users)} only, "
+                                       f"not {method}")
+    if values.get("cutoff") is not None and values.get("reject_bad_rate") is not None:
+        source.fail(path + ("reject_bad_rate",), "cannot be given with cutoff: give the score "
+                                                 "or the bad rate that sets it")
+    return RejectsConfig(**{**values, "source": _resolve(base, values["source"])})

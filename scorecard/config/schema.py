@@ -15,6 +15,7 @@ from pathlib import Path
 from typing import Generic, TypeVar, Union
 
 from scorecard import constraints as c
+from scorecard.config.rejects import RejectsConfig
 
 __all__ = [
     "BinningConfig",
@@ -375,6 +376,7 @@ class Config:
     stability: StabilityConfig = field(default_factory=StabilityConfig)
     fairness: FairnessConfig = field(default_factory=FairnessConfig)
     grades: GradesConfig | None = None
+    rejects: RejectsConfig | None = None
     config_file: str = field(default="", compare=False)
     key_lines: FrozenMapping[str, int] = field(
         default_factory=FrozenMapping, compare=False, repr=False

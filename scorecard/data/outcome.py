@@ -63,6 +63,17 @@ def code_outcome(series: pd.Series, bad, good, weight: pd.Series | None = None,
                    int((label == OTHER).sum()))
 
 
+def row_weights(series: pd.Series, name: str) -> np.ndarray:
+    """The weight column as floats; InputError naming the first missing or negative weight.
+
+    Examples
+    --------
+    >>> row_weights(pd.Series([1, 2.5]), "w").tolist()
+    [1.0, 2.5]
+    """
+    return _weights(series, name)
+
+
 def _weights(series: pd.Series, name: str) -> np.ndarray:
     if not pd.api.types.is_numeric_dtype(series.dtype) or pd.api.types.is_bool_dtype(series.dtype):
         raise InputError(f"column {name}: weights must be numbers, found {series.dtype} values")

@@ -239,6 +239,84 @@ def recent_applications(rows_per_month: int = 2000, seed: int = 2024) -> pd.Data
     return frame
 
 
+# The old policy of the invented lender, which declined part of the applicants: a simple score
+# on observed characteristics plus an underwriter's impression the data do not hold. The
+# impression is worse, on average, for applicants who went on to default, so the declined are
+# worse than the accepts even at the same characteristics (as with real policies).
+_POLICY_INTERCEPT = 2.3
+_IMPRESSION_WEIGHT = 0.8
+_IMPRESSION_SHIFT_OF_DEFAULTERS = 0.8
+# Every kind of applicant had at least this chance of acceptance (overrides, trials), which
+# keeps every region of the through-the-door population represented among the accepts.
+_LEAST_ACCEPTANCE = 0.1
+_DECLINED_STREAM = 2
+_DECLINED_FIRST_ID = 1_000_001
+
+
+def _acceptance(draws: dict[str, np.ndarray], impression: np.ndarray) -> np.ndarray:
+    """Chance that the old policy accepted an applicant."""
+    utilisation = np.nan_to_num(draws["credit_utilisation"], nan=0.5)
+    late = draws["late_payments_12m"]
+    income = draws["monthly_income"]
+    old_score = (
+        _POLICY_INTERCEPT
+        - 2.2 * utilisation
+        + np.where(late == _NO_CREDIT_FILE_VALUE, -1.0, -0.7 * np.minimum(late, 4))
+        + 3.0 * draws["deposit_share"]
+        + np.where(np.isnan(income), -0.3, 0.8 * np.log(income / _REFERENCE_INCOME))
+        + _IMPRESSION_WEIGHT * impression
+    )
+    return _LEAST_ACCEPTANCE + (1.0 - _LEAST_ACCEPTANCE) / (1.0 + np.exp(-old_score))
+
+
+def make_declined(rows: int = 20_000, seed: int = 2024) -> pd.DataFrame:
+    """Draw the applications the invented old policy declined, to go with an accepts sample.
+
+    The accepts sample of :func:`make_applications` (``rows`` rows) is read as the applicants
+    the old policy accepted out of a larger through-the-door population; this draws the rest of
+    that population, the declined. Candidates are drawn from the same design, each with an
+    impression the data do not hold (worse for those who would default), and kept with
+    probability proportional to (1 - a) / a, where a is the old policy's chance of accepting
+    them: accepts and declined then follow the policy exactly. The declined keep their true
+    outcome in ``true_outcome``, known only because the data are invented.
+
+    Examples
+    --------
+    >>> declined = make_declined(rows=2000, seed=7)
+    >>> "outcome" in declined.columns, sorted(declined["true_outcome"].unique())
+    (False, ['defaulted', 'in_arrears', 'repaid'])
+    """
+    _check_arguments(rows, seed, False)
+    rng = np.random.default_rng([seed, _DECLINED_STREAM])
+    most = (1.0 - _LEAST_ACCEPTANCE) / _LEAST_ACCEPTANCE
+    wanted, parts, found = None, [], 0
+    while wanted is None or found < wanted:
+        batch = 8 * rows
+        draws = _draw_applicants(rng, batch, _DEVELOPMENT)
+        outcome = _draw_outcome(rng, _log_odds_of_good(draws))
+        defaulted = outcome == "defaulted"
+        impression = rng.normal(size=batch) - _IMPRESSION_SHIFT_OF_DEFAULTERS * defaulted
+        accept = _acceptance(draws, impression)
+        odds_declined = (1.0 - accept) / accept
+        if wanted is None:
+            # Declined per accepted applicant, in expectation over the accepts.
+            wanted = max(int(round(rows * odds_declined.mean())), 1)
+        keep = rng.random(batch) < odds_declined / most
+        parts.append(({k: v[keep] for k, v in draws.items()}, outcome[keep]))
+        found += int(keep.sum())
+    draws = {k: np.concatenate([p[0][k] for p in parts])[:wanted] for k in parts[0][0]}
+    outcome = np.concatenate([p[1] for p in parts])[:wanted]
+    return pd.DataFrame(
+        {
+            "application_id": np.arange(_DECLINED_FIRST_ID, _DECLINED_FIRST_ID + wanted,
+                                        dtype=np.int64),
+            "decided_on": _FIRST_DAY + np.sort(rng.integers(0, _DAYS, size=wanted)),
+            **_as_columns(draws),
+            "true_outcome": pd.Series(outcome, dtype="str"),
+        }
+    )
+
+
 def demo_config_text(source: str = "applications.csv") -> str:
     """Return the YAML config that builds a scorecard on the demo sample.
 
@@ -480,6 +558,16 @@ fairness:
 output:
   workbook: out/scorecard.xlsx
   model: out/scorecard.json
+
+rejects:
+  # Applications the old policy declined: the same characteristics, no outcome. The card is
+  # built on the accepts plus these, with outcomes inferred by fuzzy augmentation (each declined
+  # applicant counts as a good and as a bad, weighted by the accepts-only card's probabilities).
+  source: declined.csv
+  method: fuzzy
+  # The declined applicants' true outcomes, known only because the data are invented: shown
+  # beside the inferred bad rate in the workbook, never used to build.
+  known_outcome: true_outcome
 
 engine: local                       # the sample fits in memory; no cluster needed
 """

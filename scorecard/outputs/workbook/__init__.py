@@ -1,8 +1,9 @@
 """The reviewer's workbook of a built scorecard (an .xlsx file).
 
 Sheets, in the fixed order of the output contract: Overview, Characteristics, Bins, Model,
-Points, Score bands, Stability, Calculator, then Fairness when the build examined fairness and
-Risk grades when the config asks for grades.
+Points, Score bands, Stability, Calculator, then Fairness when the build examined fairness,
+Reject inference when the build had declined applications, and Risk grades when the config
+asks for grades.
 """
 
 from __future__ import annotations
@@ -20,6 +21,7 @@ __all__ = ["SHEETS", "write_workbook"]
 SHEETS = ("Overview", "Characteristics", "Bins", "Model", "Points", "Score bands", "Stability",
           "Calculator")
 FAIRNESS = "Fairness"
+REJECT_INFERENCE = "Reject inference"
 
 
 def write_workbook(result, path) -> Path:
@@ -63,7 +65,10 @@ def write_workbook(result, path) -> Path:
     if fairness is not None:
         from scorecard.outputs.workbook.fairness_sheet import write_fairness_sheet
         write_fairness_sheet(wb.create_sheet(FAIRNESS), fairness)
-    if getattr(result.config, "grades", None) is not None:
+    if result.rejects is not None:
+        from scorecard.outputs.workbook.rejects_sheet import write_rejects_sheet
+        write_rejects_sheet(wb.create_sheet(REJECT_INFERENCE), result.rejects, result)
+    if result.config.grades is not None:
         from scorecard.outputs.workbook.grades_sheet import TITLE, write_grades_sheet
         write_grades_sheet(wb.create_sheet(TITLE), result)
     # Spreadsheet programs compute the calculator's formulas when the file opens.

@@ -90,6 +90,21 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     for name, what in getattr(result, "extreme_values", {}).items():
         page.paragraph(f"Warning: column {name}: {what}.", style.BOLD)
 
+    inference = getattr(result, "rejects", None)
+    if inference is not None:
+        page.heading("Declined applications (reject inference)")
+        page.fact("Declined applications file", inference.source)
+        page.fact("Declined applications read", inference.rows, style.COUNT)
+        page.fact("Reject inference method", inference.method)
+        page.fact("Rejects' inferred bad rate against the accepts'",
+                  f"{inference.inferred_bad_rate:.1%} against {inference.accepts_bad_rate:.1%} "
+                  "(see the Reject inference sheet)")
+        if inference.method != "none":
+            page.paragraph("The card was fitted on the development accepts plus the declined "
+                           "applicants with their inferred outcomes (so the Bins sheet's counts "
+                           "include them); the samples below and every measure of performance "
+                           "are accepts only.", style.NOTE_FONT)
+
     page.heading("Scaling")
     s = card.scaling
     page.fact("Base score", s.base_score, "0")
