@@ -30,6 +30,12 @@ def _show_warning(message, category, filename, lineno, file=None, line=None) -> 
     ctx = click.get_current_context(silent=True)
     if ctx is not None and ctx.params.get("quiet") and not issubclass(category, ResultWarning):
         return
+    # A build with declined applications runs its stages twice (accepts alone, then with the
+    # inferred rejects); a fact about the data is told once.
+    shown = ctx.find_root().meta.setdefault("scorecard.warnings", set()) if ctx else set()
+    if str(message) in shown:
+        return
+    shown.add(str(message))
     click.echo(f"warning: {message}", err=True)
 
 

@@ -303,13 +303,22 @@ def _histograms(card: Scorecard, patterns, names) -> dict:
     return out
 
 
-def _development(card: Scorecard, histograms: dict, perf: dict, facts, config) -> Development:
-    """The development score histogram and every sample's ranking, for the model file."""
+def _development(card: Scorecard, histograms: dict, perf: dict, facts, config,
+                 reports) -> Development:
+    """The development score histogram, bin counts and every sample's ranking, for the model file.
+
+    ``reports`` carry each characteristic's counts by (bin, sample, outcome) of the data file's
+    rows, which is what later samples are compared with.
+    """
     dev = histograms["development"]
+    tables = {r.name: r.sample_counts[:, DEVELOPMENT, :] for r in reports
+              if r.name in card.names and r.sample_counts is not None}
     return Development(
         rows=int(facts.rows["development"]), unit="weights" if config.data.weight else "rows",
         score_goods=tuple(float(v) for v in dev.goods), score_bads=tuple(float(v) for v in dev.bads),
-        performance={name: {"auc": p.auc, "gini": p.gini, "ks": p.ks} for name, p in perf.items()})
+        performance={name: {"auc": p.auc, "gini": p.gini, "ks": p.ks} for name, p in perf.items()},
+        bin_goods={n: tuple(float(v) for v in t[:, GOOD]) for n, t in tables.items()},
+        bin_bads={n: tuple(float(v) for v in t[:, BAD]) for n, t in tables.items()})
 
 
 def _fate(report: CharacteristicReport) -> Fate:
@@ -472,7 +481,7 @@ def _build(config, engine, progress, rows: RowFacts | None = None,
         unit="weights" if config.data.weight else "rows")
     # The model file carries the development distributions and every column's fate, so that
     # monitoring and diffs need only the model file.
-    card = replace(card, development=_development(card, histograms, perf, facts, config),
+    card = replace(card, development=_development(card, histograms, perf, facts, config, ordered),
                    fates=tuple(_fate(r) for r in ordered))
     fairness = compute_fairness(config, engine, rows, card) if fairness else None
     if fairness is not None:
@@ -658,7 +667,7 @@ def _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progr
             samples.rows, watch=config.stability.watch, shift=config.stability.shift,
             unit="weights" if config.data.weight else "rows")
         card = replace(final.card, development=_development(final.card, histograms, perf,
-                                                            samples, config))
+                                                            samples, config, reports))
         final = replace(final, card=card, samples=samples, histograms=histograms,
                         reports=reports, performance=perf, stability=stability,
                         fairness=compute_fairness(config, engine, rows, card))

@@ -106,7 +106,10 @@ class Development:
     the card's ``min_score`` (rows the card refuses are not in them); ``unit`` says whether they
     are ``"rows"`` or ``"weights"`` (a weight column); ``rows`` is the number of development
     rows, for sample-size-aware critical values. ``performance`` maps a sample name
-    (development, holdout, out of time) to its ``{"auc", "gini", "ks"}``.
+    (development, holdout, out of time) to its ``{"auc", "gini", "ks"}``. ``bin_goods`` and
+    ``bin_bads`` map a characteristic to the development goods and bads of each of its bins;
+    they differ from the bins' own counts when the bins were fitted on inferred rejects too,
+    and are empty in model files written before they were stored (the bins' counts serve then).
     """
 
     rows: int
@@ -114,6 +117,8 @@ class Development:
     score_goods: tuple[float, ...]
     score_bads: tuple[float, ...]
     performance: dict = field(default_factory=dict)
+    bin_goods: dict = field(default_factory=dict)
+    bin_bads: dict = field(default_factory=dict)
 
 
 @dataclass(frozen=True)
@@ -317,8 +322,14 @@ def _development_from_dict(raw) -> Development | None:
     performance = {str(sample): {k: _number(v, f"development.performance.{sample}.{k}")
                                  for k, v in measures.items()}
                    for sample, measures in dict(raw.get("performance", {})).items()}
+    per_bin = [{str(name): tuple(_number(v, f"development.{key}.{name}") for v in values)
+                for name, values in dict(raw.get(key, {})).items()}
+               for key in ("bin_goods", "bin_bads")]
+    if any(not (math.isfinite(v) and v >= 0) for table in per_bin for values in table.values()
+           for v in values):
+        raise ValueError("development bin counts must be finite and >= 0")
     return Development(_count(raw["rows"], "development.rows"), raw["unit"], goods, bads,
-                       performance)
+                       performance, *per_bin)
 
 
 def _fate_from_dict(raw: dict) -> Fate:

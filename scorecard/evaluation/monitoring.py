@@ -240,8 +240,12 @@ def baseline_from_model(card: Scorecard, source: str) -> _FileCounts:
                          "was built before they were stored); give --baseline with the "
                          "development data file, or rebuild")
     goods, bads = np.array(dev.score_goods), np.array(dev.score_bads)
-    bin_goods = [np.array([b.goods for b in c.bins]) for c in card.characteristics]
-    bin_bads = [np.array([b.bads for b in c.bins]) for c in card.characteristics]
+    # The development sample's own counts per bin: the bins' counts include inferred rejects
+    # when the card was built with reject inference.
+    bin_goods = [np.array(dev.bin_goods.get(c.name, [b.goods for b in c.bins]), dtype=float)
+                 for c in card.characteristics]
+    bin_bads = [np.array(dev.bin_bads.get(c.name, [b.bads for b in c.bins]), dtype=float)
+                for c in card.characteristics]
     return _FileCounts("development sample (model file)", dev.rows, 0, goods + bads, goods, bads,
                        [g + b for g, b in zip(bin_goods, bin_bads)], bin_goods, bin_bads, 0, {})
 

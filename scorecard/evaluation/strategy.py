@@ -92,11 +92,16 @@ def cutoff_table(low: int, rows, goods, bads, *, gain_per_good: float = DEFAULT_
     def at_or_above(a):
         return np.append(np.cumsum(a[::-1])[::-1], 0.0)
 
+    def below(a, extra):
+        # Summed from the bottom, not as total minus approved: no rounding residue where no
+        # one is declined.
+        return np.concatenate(([0.0], np.cumsum(a))) + extra
+
     approved, approved_goods, approved_bads = (at_or_above(a) for a in (rows, goods, bads))
     total = rows.sum() + refused[0]
-    declined = total - approved
-    declined_goods = goods.sum() + refused[1] - approved_goods
-    declined_bads = bads.sum() + refused[2] - approved_bads
+    declined = below(rows, refused[0])
+    declined_goods = below(goods, refused[1])
+    declined_bads = below(bads, refused[2])
     with np.errstate(invalid="ignore", divide="ignore"):
         table = pd.DataFrame({
             "score": np.arange(low, low + len(rows) + 1),

@@ -68,7 +68,7 @@ def write_rejects_sheet(ws: Worksheet, inference, final_result) -> int:
              "Accepts' bad rate (development)": style.PERCENT,
              "Rejects' inferred bad rate": style.PERCENT, "Ratio": "0.00",
              "Rejects' known bad rate": style.PERCENT}
-    _, row = write_table(ws, inference.bands, start_row=row + 2, formats=money,
+    _, row = write_table(ws, inference.bands, start_row=row + 2, formats={k: f for k, f in money.items() if k in inference.bands.columns},
                          title="Accepts (every sample, with an outcome) and rejects by score band "
                                "of the accepts-only card")
     if inference.known_bad_rate is not None:
