@@ -45,6 +45,24 @@ def _build_outputs(config, workbook, model) -> tuple[Output, Output]:
             else Output("output.model", config.output.model, MODEL_FILE))
 
 
+def _report_outputs(json_path, workbook) -> list:
+    """The JSON and workbook outputs of a report command, those that were asked for."""
+    wanted = [Output("--json", Path(json_path), (".json",))] if json_path is not None else []
+    if workbook is not None:
+        wanted.append(Output("--workbook", Path(workbook), WORKBOOK))
+    return wanted
+
+
+def _write_report(outputs, result, write_workbook) -> None:
+    """Write a report's JSON and workbook, both or neither (``outputs`` as checked)."""
+    with staged(outputs) as out:
+        for output in outputs:
+            if output.name == "--json":
+                out.write_text("--json", result.to_json())
+            else:
+                out.write("--workbook", lambda tmp: write_workbook(result, tmp))
+
+
 def open_rejects_engine(config, engine, progress=None):
     """The engine holding the declined applications (``rejects.source``), or None without them.
 
@@ -131,17 +149,11 @@ def compare(model, baseline, current, *, bands=None, json_path=None, workbook=No
     """
     from scorecard.evaluation.comparison import compare as compare_files
     from scorecard.outputs.comparison_workbook import write_compare_workbook
-    wanted = [Output("--json", Path(json_path), (".json",))] if json_path is not None else []
-    if workbook is not None:
-        wanted.append(Output("--workbook", Path(workbook), WORKBOOK))
-    outputs = check_outputs(wanted, {"the model file": model, "the baseline": baseline,
-                                     "the current file": current})
+    outputs = check_outputs(_report_outputs(json_path, workbook),
+                            {"the model file": model, "the baseline": baseline,
+                             "the current file": current})
     result = compare_files(model, baseline, current, bands=bands)
-    with staged(outputs) as out:
-        if json_path is not None:
-            out.write_text("--json", result.to_json())
-        if workbook is not None:
-            out.write("--workbook", lambda tmp: write_compare_workbook(result, tmp))
+    _write_report(outputs, result, write_compare_workbook)
     return result
 
 
@@ -154,16 +166,10 @@ def strategy(model, data, *, json_path=None, workbook=None, **options):
     """
     from scorecard.evaluation.strategy import strategy as cut_offs
     from scorecard.outputs.strategy_workbook import write_strategy_workbook
-    wanted = [Output("--json", Path(json_path), (".json",))] if json_path is not None else []
-    if workbook is not None:
-        wanted.append(Output("--workbook", Path(workbook), WORKBOOK))
-    outputs = check_outputs(wanted, {"the model file": model, "the data": data})
+    outputs = check_outputs(_report_outputs(json_path, workbook),
+                            {"the model file": model, "the data": data})
     result = cut_offs(model, data, **options)
-    with staged(outputs) as out:
-        if json_path is not None:
-            out.write_text("--json", result.to_json())
-        if workbook is not None:
-            out.write("--workbook", lambda tmp: write_strategy_workbook(result, tmp))
+    _write_report(outputs, result, write_strategy_workbook)
     return result
 
 
@@ -177,11 +183,9 @@ def monitor(model, data, period, *, every="month", baseline=None, cutoff=None, b
     """
     from scorecard.evaluation.monitoring import DEFAULT_MIN_BADS
     from scorecard.evaluation.monitoring import monitor as monitor_periods
-    wanted = [Output("--json", Path(json_path), (".json",))] if json_path is not None else []
-    if workbook is not None:
-        wanted.append(Output("--workbook", Path(workbook), WORKBOOK))
-    outputs = check_outputs(wanted, {"the model": model, "the data": data,
-                                     **({"the baseline": baseline} if baseline else {})})
+    outputs = check_outputs(_report_outputs(json_path, workbook),
+                            {"the model": model, "the data": data,
+                             **({"the baseline": baseline} if baseline else {})})
     options = {"every": every, "baseline": baseline, "cutoff": cutoff, "bands": bands,
                "min_bads": DEFAULT_MIN_BADS if min_bads is None else min_bads}
     if dask is None:
@@ -191,11 +195,7 @@ def monitor(model, data, period, *, every="month", baseline=None, cutoff=None, b
         with DaskEngine(data, dask) as engine:
             result = monitor_periods(model, data, period, engine=engine, **options)
     from scorecard.outputs.monitoring_workbook import write_monitoring_workbook
-    with staged(outputs) as out:
-        if json_path is not None:
-            out.write_text("--json", result.to_json())
-        if workbook is not None:
-            out.write("--workbook", lambda tmp: write_monitoring_workbook(result, tmp))
+    _write_report(outputs, result, write_monitoring_workbook)
     return result
 
 
@@ -206,12 +206,10 @@ def diff(old_model, new_model, *, json_path=None):
     """
     from scorecard.card.scorecard import load_scorecard
     from scorecard.evaluation.model_diff import diff_scorecards
-    wanted = [Output("--json", Path(json_path), (".json",))] if json_path is not None else []
-    outputs = check_outputs(wanted, {"the older model": old_model, "the newer model": new_model})
+    outputs = check_outputs(_report_outputs(json_path, None),
+                            {"the older model": old_model, "the newer model": new_model})
     result = diff_scorecards(load_scorecard(old_model), load_scorecard(new_model))
-    with staged(outputs) as out:
-        if json_path is not None:
-            out.write_text("--json", result.to_json())
+    _write_report(outputs, result, None)
     return result
 
 
