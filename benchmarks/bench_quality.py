@@ -15,7 +15,7 @@ On the same 70% two reference learners from scikit-learn are fitted:
 
 The table gives the held-out AUC of the three, the card's gap to the better reference (positive
 when the card is ahead), the card's characteristics and attributes (range and level bins; the
-missing, special and unseen bins are not counted), and the build's wall time. The goal is a gap
+missing, sentinel and unseen bins are not counted), and the build's wall time. The goal is a gap
 of at least -0.005 everywhere. Only the command-line contract is used, so the script does not
 depend on the package's layout.
 

@@ -2,7 +2,7 @@
 
 A validator asks how much ranking the points table gives up against an unconstrained model on
 the same columns. The benchmark is a logistic regression on the raw columns that the build
-classed: numbers with missing and special values set to the development median, then
+classed: numbers with missing values and sentinels set to the development median, then
 standardised; categories one-hot, missing as a level of its own. Like scikit-learn's default,
 it carries a unit ridge penalty on the coefficients (not the intercept), which keeps it finite
 when a rare level separates the outcome.
@@ -89,7 +89,7 @@ def raw_design(frame: pd.DataFrame, layouts: dict, fitted: np.ndarray) -> np.nda
     for name, layout in layouts.items():
         if isinstance(layout, NumericLayout):
             x = numeric_values(frame[name], name).copy()
-            for value in layout.special_values:
+            for value in layout.sentinels:
                 x[x == value] = np.nan
             known = x[fitted & ~np.isnan(x)]
             centre = float(np.median(known)) if len(known) else 0.0

@@ -32,7 +32,7 @@ BENCHMARK_LABEL = "Cost of the scorecard form (AUC)"
 def benchmark_text(b) -> str:
     """How the benchmark beside the card was made, in one sentence."""
     return (f"The benchmark is a logistic regression on the raw columns the build classed "
-            f"(numbers standardised, missing and special values at the median; categories "
+            f"(numbers standardised, missing values and sentinels at the median; categories "
             f"one-hot), fitted on {b.fitted:,} development rows; it and the card are scored on "
             f"the same {b.compared:,} {b.sample} rows. The gap is what the points-table form "
             f"costs in ranking.")
