@@ -91,6 +91,11 @@ def raw_design(frame: pd.DataFrame, layouts: dict, fitted: np.ndarray) -> np.nda
             x = numeric_values(frame[name], name).copy()
             for value in layout.sentinels:
                 x[x == value] = np.nan
+            # Values beyond the fitted rows' finite range (infinities too) count as its ends,
+            # as the card's end bins take them.
+            finite = x[fitted & np.isfinite(x)]
+            if len(finite):
+                x = np.clip(x, finite.min(), finite.max())
             known = x[fitted & ~np.isnan(x)]
             centre = float(np.median(known)) if len(known) else 0.0
             x = np.where(np.isnan(x), centre, x)
