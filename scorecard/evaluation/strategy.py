@@ -92,11 +92,16 @@ def cutoff_table(low: int, rows, goods, bads, *, gain_per_good: float = DEFAULT_
     def at_or_above(a):
         return np.append(np.cumsum(a[::-1])[::-1], 0.0)
 
+    def below(a):
+        return np.concatenate([[0.0], np.cumsum(a)])
+
     approved, approved_goods, approved_bads = (at_or_above(a) for a in (rows, goods, bads))
     total = rows.sum() + refused[0]
-    declined = total - approved
-    declined_goods = goods.sum() + refused[1] - approved_goods
-    declined_bads = bads.sum() + refused[2] - approved_bads
+    # Summed from below, not as the total less the approved: the difference of two nearly
+    # equal sums of fractional weights leaves residues whose ratio is a meaningless rate.
+    declined = below(rows) + refused[0]
+    declined_goods = below(goods) + refused[1]
+    declined_bads = below(bads) + refused[2]
     with np.errstate(invalid="ignore", divide="ignore"):
         table = pd.DataFrame({
             "score": np.arange(low, low + len(rows) + 1),
