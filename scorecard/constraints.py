@@ -172,7 +172,10 @@ SEED = Setting(2024, Interval(0), whole=True)
 # ---- binning ---------------------------------------------------------------------------------
 FINE_BINS = Setting(40, Interval(2), whole=True)
 MAX_BINS = Setting(6, Interval(2), whole=True)
-MIN_BIN_SHARE = Setting(0.05, Interval(0, 0.5, high_open=True))
+# The goods and bads minimums make a bin's weight of evidence precise enough (its standard
+# error sqrt(1/goods + 1/bads) is at most 0.45 at the defaults); the share only guards against
+# slivers. A 5% share kept strong small attributes, and the top of a risky tail, out of cards.
+MIN_BIN_SHARE = Setting(0.01, Interval(0, 0.5, high_open=True))
 MIN_BIN_GOODS = Setting(10, Interval(0), whole=True)
 MIN_BIN_BADS = Setting(10, Interval(0), whole=True)
 TREND = Setting("detect", choices=TRENDS, renamed=(
@@ -181,7 +184,9 @@ RARE_LEVEL_SHARE = Setting(0.01, Interval(0, 0.5, high_open=True))
 MAX_LEVELS = Setting(50, Interval(2), whole=True)
 
 # ---- selection -------------------------------------------------------------------------------
-MIN_IV = Setting(0.02, Interval(0))
+# No flat floor by default: it is blind to the sample size, and a characteristic weak alone can
+# add ranking within strong ones; the stepwise entry test, which sees the others, decides.
+MIN_IV = Setting(0.0, Interval(0))
 MAX_CORRELATION = Setting(0.6, _UP_TO_ONE)
 # A VIF is at least 1 by definition (1 exactly when uncorrelated), so a ceiling of 1 would drop
 # every column with any correlation at all: the ceiling must lie above 1.

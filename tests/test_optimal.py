@@ -9,10 +9,11 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 from scipy.optimize import isotonic_regression
 
-from scorecard.binning.optimal import Coarsening, bin_of_fine_class, optimal_bins
+from scorecard.binning.optimal import TURN_EVIDENCE, Coarsening, bin_of_fine_class, optimal_bins
 from scorecard.errors import InputError
 
 MONOTONE = ("rises", "falls")
+TURNS = ("valley", "peak")
 
 
 # --- an independent, exhaustive reference ---------------------------------------------------
@@ -35,7 +36,20 @@ def meets(bins, trend, max_bins, min_count=0.0, min_goods=0.0, min_bads=0.0):
         return all(left < right for left, right in pairs)
     if trend == "falls":
         return all(left > right for left, right in pairs)
+    if trend in TURNS:
+        # Written from the definition: strictly one way at least once, then strictly the
+        # other way at least once, and never back.
+        sign = -1 if trend == "valley" else 1
+        steps = [sign * (right - left) for left, right in pairs]
+        if any(step == 0 for step in steps):
+            return False
+        turn = next((i for i, step in enumerate(steps) if step < 0), len(steps))
+        return 0 < turn < len(steps) and all(step < 0 for step in steps[turn:])
     return True
+
+
+def log_likelihood(bins):
+    return sum(g * math.log(g / (g + b)) + b * math.log(b / (g + b)) for g, b in bins)
 
 
 def iv_of(bins, total_goods, total_bads):
@@ -47,15 +61,20 @@ def iv_of(bins, total_goods, total_bads):
 
 def brute_best(goods, bads, trend, max_bins, total_goods, total_bads, **limits):
     """Best IV over every partition into two or more bins that meets the constraints."""
+    found = brute_partitions(goods, bads, trend, max_bins, total_goods, total_bads, **limits)
+    return max(found.values()) if found else None
+
+
+def brute_partitions(goods, bads, trend, max_bins, total_goods, total_bads, **limits):
+    """IV of every partition into two or more bins that meets the constraints, by starts."""
     n = len(goods)
-    best = None
+    found = {}
     for n_cuts in range(1, n):
         for cuts in itertools.combinations(range(1, n), n_cuts):
             bins = bin_counts(goods, bads, (0,) + cuts)
             if meets(bins, trend, max_bins, **limits):
-                iv = iv_of(bins, total_goods, total_bads)
-                best = iv if best is None else max(best, iv)
-    return best
+                found[(0,) + cuts] = iv_of(bins, total_goods, total_bads)
+    return found
 
 
 # Quarters are exact in binary, so sums agree however they are ordered.
@@ -88,10 +107,17 @@ def check_against_brute_force(case, trend):
         "min_bads": case["min_bin_bads"],
     }
     common = (case["max_bins"], case["total_goods"], case["total_bads"])
-    directions = MONOTONE if trend == "detect" else (trend,)
+    directions = MONOTONE + TURNS if trend == "detect" else (trend,)
     bests = {
         d: brute_best(case["goods"], case["bads"], d, *common, **limits) for d in directions
     }
+    if trend == "detect":
+        # A turn counts only when it beats the best monotone bins by the stated evidence.
+        monotone = [bests[d] for d in MONOTONE if bests[d] is not None]
+        if monotone and result.trend in MONOTONE:
+            bests = {d: bests[d] for d in MONOTONE}
+        elif monotone:
+            bests = {d: bests[d] for d in TURNS}
     found = [best for best in bests.values() if best is not None]
     # Reference optimum: exhaustive search over all 2^(n-1) compositions, with IV as the
     # trade defines it (common practice).
@@ -110,11 +136,37 @@ def check_against_brute_force(case, trend):
     )
     if trend == "detect":
         assert bests[result.trend] == pytest.approx(max(found), rel=1e-9, abs=1e-12)
+        check_turn_evidence(case, result, limits, common)
     else:
         assert result.trend == trend
 
 
-@pytest.mark.parametrize("trend", ["rises", "falls", "any", "detect"])
+def check_turn_evidence(case, result, limits, common):
+    """'detect' turns exactly when the best turn beats the best monotone bins by TURN_EVIDENCE.
+
+    The reference partitions are the exhaustive search's IV-best ones, ties resolved as the
+    optimiser documents (fewer bins, then the earliest last start), so a tie cannot flip it.
+    """
+    def chosen(trends):
+        found = {}
+        for t in trends:
+            found.update(brute_partitions(case["goods"], case["bads"], t, *common, **limits))
+        if not found:
+            return None
+        top = max(found.values())
+        near = [st for st, iv in found.items() if iv >= top - 1e-9 * abs(top)]
+        return min(near, key=lambda st: (len(st), [-x for x in reversed(st)]))
+
+    monotone, turn = chosen(MONOTONE), chosen(TURNS)
+    if monotone is None or turn is None:
+        return
+    statistic = 2 * (log_likelihood(bin_counts(case["goods"], case["bads"], turn))
+                     - log_likelihood(bin_counts(case["goods"], case["bads"], monotone)))
+    if abs(statistic - TURN_EVIDENCE) > 1e-6:
+        assert (result.trend in TURNS) == (statistic >= TURN_EVIDENCE)
+
+
+@pytest.mark.parametrize("trend", ["rises", "falls", "valley", "peak", "any", "detect"])
 @settings(max_examples=80, deadline=None)
 @given(case=small_cases())
 def test_matches_exhaustive_search(case, trend):
@@ -122,7 +174,7 @@ def test_matches_exhaustive_search(case, trend):
 
 
 @pytest.mark.parametrize("seed", range(6))
-@pytest.mark.parametrize("trend", ["rises", "falls", "any", "detect"])
+@pytest.mark.parametrize("trend", ["rises", "falls", "valley", "peak", "any", "detect"])
 def test_matches_exhaustive_search_seeded(seed, trend):
     rng = np.random.default_rng(seed)
     goods = rng.integers(1, 60, size=9).astype(float).tolist()
@@ -160,7 +212,8 @@ def larger_cases(draw):
 
 
 @settings(max_examples=60, deadline=None)
-@given(case=larger_cases(), trend=st.sampled_from(["rises", "falls", "any", "detect"]))
+@given(case=larger_cases(),
+       trend=st.sampled_from(["rises", "falls", "valley", "peak", "any", "detect"]))
 def test_invariants(case, trend):
     result = optimal_bins(**case, trend=trend)
     assert isinstance(result, Coarsening)
@@ -184,6 +237,10 @@ def test_invariants(case, trend):
         assert np.all(np.diff(rate) > 0) and np.all(np.diff(woe) < 0)
     elif result.trend == "falls":
         assert np.all(np.diff(rate) < 0) and np.all(np.diff(woe) > 0)
+    elif result.trend in TURNS:
+        steps = np.sign(np.diff(rate)) * (-1 if result.trend == "valley" else 1)
+        turn = int(np.argmax(steps < 0))
+        assert 0 < turn and np.all(steps[:turn] > 0) and np.all(steps[turn:] < 0)
     else:
         assert trend == "any"
     shares = g / g.sum() - b / b.sum()
@@ -209,10 +266,20 @@ def test_looser_constraints_never_lose_information_value(case):
     auto = optimal_bins(**case, trend="detect")
     free = optimal_bins(**case, trend="any")
     wider = optimal_bins(**{**case, "max_bins": case["max_bins"] + 1}, trend="rises")
+    valley = optimal_bins(**case, trend="valley")
+    peak = optimal_bins(**case, trend="peak")
     assume(ascending.feasible and descending.feasible)
     slack = 1e-9 * free.iv
-    assert auto.iv == pytest.approx(max(ascending.iv, descending.iv), rel=1e-12)
+    if auto.trend in TURNS:
+        # A turn is taken only with evidence, and then it beats both directions.
+        assert auto.iv == pytest.approx(max(valley.iv if valley.feasible else 0,
+                                            peak.iv if peak.feasible else 0), rel=1e-12)
+        assert auto.iv >= max(ascending.iv, descending.iv) - slack
+    else:
+        assert auto.iv == pytest.approx(max(ascending.iv, descending.iv), rel=1e-12)
     assert free.iv >= auto.iv - slack
+    for turn in (valley, peak):
+        assert not turn.feasible or free.iv >= turn.iv - slack
     assert wider.iv >= ascending.iv - slack
 
 

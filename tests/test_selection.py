@@ -151,7 +151,8 @@ def test_rows_of_zero_weight_do_not_count():
 
 
 def test_every_stage_decides_the_candidate_it_should(coded):
-    result = select(coded)
+    # The floor is off by default; set, it is the stage that removes the noise column.
+    result = select(coded, min_iv=0.02)
     assert isinstance(result, Selection)
     assert set(result.fates) == set(coded["names"])
     assert all(isinstance(fate, Fate) and fate.stage in STAGES for fate in result.fates.values())
@@ -231,11 +232,12 @@ def test_the_cap_stops_stepwise_entry(coded):
 
 
 def test_method_all_takes_the_survivors_by_iv(coded):
-    result = select(coded, method="all")
+    # 'all' takes every survivor of the floor and the correlation stage; the floor set here.
+    result = select(coded, method="all", min_iv=0.02)
     assert result.steps == ()
     assert result.selected == ("a", "b")
     assert result.fates["reversed"].stage == "coefficient sign"
-    capped = select(coded, method="all", max_characteristics=1)
+    capped = select(coded, method="all", max_characteristics=1, min_iv=0.02)
     assert capped.selected == ("a",)
     assert capped.fates["b"].stage == "stepwise"
     assert "beyond max_characteristics 1" in capped.fates["b"].reason

@@ -95,6 +95,26 @@ def categorical_draft(name: str, groups) -> Characteristic:
     return Characteristic(name, "categorical", tuple(bins), 0.0, "", "")
 
 
+def information_starts(goods: np.ndarray, bads: np.ndarray, fine_bins: int) -> np.ndarray:
+    """First grid cell of each fine class: quantiles of the goods and, apart, of the bads.
+
+    Equal shares of all rows put a tail that holds few rows but many bads into one fine class,
+    where no coarse bin can split it; quantiles of each outcome place classes where either
+    outcome is dense, so such a tail is cut as finely as the bulk. At most ``2 * fine_bins``
+    classes; none starts on an empty cell.
+
+    Examples
+    --------
+    >>> goods = np.array([40., 30, 20, 5, 4, 1])
+    >>> bads = np.array([1., 1, 1, 4, 6, 7])
+    >>> information_starts(goods, bads, 2).tolist()
+    [0, 2, 5]
+    """
+    first = quantile_starts(goods + bads, 1)
+    return np.unique(np.concatenate([first, quantile_starts(goods, fine_bins),
+                                     quantile_starts(bads, fine_bins)]))
+
+
 def class_numeric(name: str, layout: NumericLayout, goods: np.ndarray, bads: np.ndarray,
                   *, fine_bins: int, trend: str, limits: Limits, development_range,
                   manual_cuts=None, out_of_range_bin: bool = False) -> BinningOutcome:
@@ -109,7 +129,7 @@ def class_numeric(name: str, layout: NumericLayout, goods: np.ndarray, bads: np.
         return BinningOutcome(draft, 0, "manual", "")
     if regular.sum() <= 0:
         return BinningOutcome(None, 0, trend, "no values besides missing values and sentinels")
-    starts = quantile_starts(regular, fine_bins)
+    starts = information_starts(goods[:cells], bads[:cells], fine_bins)
     fine_goods = np.add.reduceat(goods[:cells], starts)
     fine_bads = np.add.reduceat(bads[:cells], starts)
     result = optimal_bins(fine_goods, fine_bads, total_goods=goods.sum(), total_bads=bads.sum(),

@@ -13,6 +13,15 @@ in that bin. Adding a bin ``[i, j)`` needs the best partition whose last bin ``[
 lower bad rate (trend ``'rises'``); with the bins ending at ``i`` sorted by bad rate once, that is a
 running maximum read at the right place, so each step costs ``O(n^2)``.
 
+A single turn of the bad rate (``'valley'``: it falls, then rises, each at least once;
+``'peak'``: it rises, then falls) is the same programme run twice: layers of bins in the first
+direction, and layers whose last bin is in the second direction, fed by either kind through the
+same running maximum. ``trend='detect'`` takes such a turn only when the data demand it: the
+turn must raise the binomial log-likelihood of the bins over the best monotone partition by a
+likelihood-ratio statistic of at least :data:`TURN_EVIDENCE` (chi-squared with one degree of
+freedom, the turning point, at the 0.001 level), so that a monotone characteristic stays
+monotone.
+
 Ties are broken the same way every time: among partitions whose IV agree to a relative
 ``1e-12``, fewer bins win; among those with equal bin counts, the last bin starts as early as
 possible, then the bin before it, and so on towards the first.
@@ -27,6 +36,14 @@ import numpy as np
 from scorecard.constraints import MAX_BINS, TREND, TRENDS
 from scorecard.errors import InputError
 from scorecard.measures.information import iv_terms
+
+# The single-turn shapes, which the optimiser accepts beside the config's trends: the bad rate
+# moves in the first direction, then in the second.
+TURNS = {"valley": ("falls", "rises"), "peak": ("rises", "falls")}
+
+# Likelihood-ratio statistic a turn must reach over the best monotone partition for 'detect'
+# to take it: the 0.999 quantile of chi-squared with one degree of freedom.
+TURN_EVIDENCE = 10.828
 
 # IV values this close (relative) count as equal, so that rounding in the last bits never
 # decides between partitions that are equal in exact arithmetic.
@@ -44,8 +61,8 @@ class Coarsening(NamedTuple):
     starts : tuple of int
         Index of the first fine class of each coarse bin; ``starts[0] == 0``.
     trend : str
-        The bad-rate trend used: ``'rises'``, ``'falls'`` or ``'any'``. For
-        ``trend='detect'`` it is the winning direction.
+        The bad-rate trend used: ``'rises'``, ``'falls'``, ``'valley'``, ``'peak'`` or
+        ``'any'``. For ``trend='detect'`` it is the winning shape.
     iv : float
         Information value of the coarse bins (nats), with shares taken of the given totals.
     feasible : bool
@@ -106,10 +123,12 @@ def optimal_bins(
         Totals over all bins of the characteristic, including any missing or sentinel
         bins kept apart by the caller, so that IV adds up across them. Default: the sums of
         ``goods`` and ``bads``.
-    trend : {'detect', 'rises', 'falls', 'any'}, default 'detect'
+    trend : {'detect', 'rises', 'falls', 'valley', 'peak', 'any'}, default 'detect'
         ``'rises'``: the bad rate strictly increases from bin to bin; ``'falls'``: it strictly
-        decreases; ``'any'``: any order; ``'detect'``: the better of rises and falls (rises on
-        a tie).
+        decreases; ``'valley'``: it strictly falls at least once, then strictly rises at least
+        once; ``'peak'``: the mirror image; ``'any'``: any order; ``'detect'``: the better of
+        rises and falls (rises on a tie), or the better of valley and peak when that beats it
+        by the likelihood-ratio statistic :data:`TURN_EVIDENCE`.
     max_bins : int, default 6
         Largest number of bins, at least 2.
     min_bin_count, min_bin_goods, min_bin_bads : float, default 0.0
@@ -142,8 +161,9 @@ def optimal_bins(
         raise InputError(f"bads: has {bads.size} fine classes but goods has {goods.size}")
     total_goods = _total(total_goods, goods, "total_goods")
     total_bads = _total(total_bads, bads, "total_bads")
-    if not TREND.allows(trend):
-        raise InputError(f"trend: must be one of {', '.join(TRENDS)}; got {trend!r}")
+    if trend not in TURNS and not TREND.allows(trend):
+        raise InputError(f"trend: must be one of {', '.join(TRENDS + tuple(TURNS))}; "
+                         f"got {trend!r}")
     max_bins = _max_bins(max_bins)
     limits = _Limits(
         _limit(min_bin_count, "min_bin_count"),
@@ -153,6 +173,13 @@ def optimal_bins(
     cand = _candidates(goods, bads, total_goods, total_bads, limits)
     if trend == "detect":
         found, used = _better(_best(cand, max_bins, "rises"), _best(cand, max_bins, "falls"))
+        turn, shape = _better_turn(_best_turn(cand, max_bins, "valley"),
+                                   _best_turn(cand, max_bins, "peak"))
+        if turn is not None and (found is None or _evidence(cand, turn[0], found[0])
+                                 >= TURN_EVIDENCE):
+            found, used = turn, shape
+    elif trend in TURNS:
+        found, used = _best_turn(cand, max_bins, trend), trend
     else:
         found, used = _best(cand, max_bins, trend), trend
     if found is None:
@@ -356,6 +383,79 @@ def _trace(layers, key):
     return tuple(reversed(starts))
 
 
+def _best_turn(cand, max_bins, shape):
+    """The best single-turn partition as ``(starts, iv)``, or None.
+
+    ``first[k - 1][i, j]`` is the best IV of ``k`` bins over ``[0, j)`` ending in ``[i, j)``
+    with every step in the first direction; ``second[k - 1][i, j]`` the same with at least
+    one step in the first direction and then at least one in the second. A single bin is no
+    step, so ``first[0]`` feeds no turn.
+    """
+    key_first, key_second = (cand.rate if d == "rises" else -cand.rate
+                             for d in TURNS[shape])
+    first = _layers(cand.term, key_first, max_bins)
+    n_bounds = cand.term.shape[0]
+    bounds = np.arange(n_bounds)
+    order, preceding = _predecessors(key_second)
+    no_bin = np.full((1, n_bounds), -np.inf)
+    second = [np.full_like(cand.term, -np.inf)]
+    for k in range(1, len(first)):
+        before = np.maximum(first[k - 1], second[k - 1]) if k > 1 else second[0]
+        best_first = np.vstack((no_bin, np.maximum.accumulate(before[order, bounds], axis=0)))
+        second.append(best_first[preceding, bounds[:, None]] + cand.term)
+    ends = np.array([layer[:, -1].max() for layer in second[1:]])
+    if ends.size == 0 or ends.max() == -np.inf:
+        return None
+    n_bins = 2 + _first_near_max(ends)
+    end = n_bounds - 1
+    start = _first_near_max(second[n_bins - 1][:, end])
+    starts, in_second = [start], True
+    for k in range(n_bins - 2, -1, -1):
+        if in_second:
+            allowed = key_second[:, start] < key_second[start, end]
+            stay = np.where(allowed, second[k][:, start], -np.inf)
+            turn = np.where(allowed & (k > 0), first[k][:, start], -np.inf)
+            both = np.maximum(stay, turn)
+            previous = _first_near_max(both)
+            top = both[previous]
+            in_second = bool(stay[previous] >= top - _IV_TIE * abs(top))
+        else:
+            allowed = key_first[:, start] < key_first[start, end]
+            previous = _first_near_max(np.where(allowed, first[k][:, start], -np.inf))
+        start, end = previous, start
+        starts.append(start)
+    starts = tuple(reversed(starts))
+    bin_ends = starts[1:] + (end_of(cand),)
+    return starts, sum(float(cand.term[s, e]) for s, e in zip(starts, bin_ends))
+
+
+def end_of(cand):
+    return cand.term.shape[0] - 1
+
+
+def _better_turn(valley, peak):
+    """The better of the two turns and its name; valley unless beaten beyond a tie."""
+    if valley is None and peak is None:
+        return None, ""
+    if valley is None or (peak is not None and peak[1] > valley[1] + _IV_TIE * abs(valley[1])):
+        return peak, "peak"
+    return valley, "valley"
+
+
+def _log_likelihood(cand, starts):
+    """Binomial log-likelihood of the outcome given the bins starting at ``starts``."""
+    bounds = np.array(starts + (end_of(cand),))
+    g = np.diff(cand.cum_goods[bounds])
+    b = np.diff(cand.cum_bads[bounds])
+    n = g + b
+    return float(np.sum(g * np.log(g / n)) + np.sum(b * np.log(b / n)))
+
+
+def _evidence(cand, turn_starts, monotone_starts):
+    """Likelihood-ratio statistic of the turn's bins over the monotone ones."""
+    return 2.0 * (_log_likelihood(cand, turn_starts) - _log_likelihood(cand, monotone_starts))
+
+
 def _first_near_max(values):
     top = values.max()
     return int(np.argmax(values >= top - _IV_TIE * abs(top)))
@@ -421,5 +521,7 @@ def _why_no_split(cand, trend, limits):
     return {
         "rises": "no split that meets the size limits has a higher bad rate on the right",
         "falls": "no split that meets the size limits has a lower bad rate on the right",
+        "valley": "no three bins that meet the size limits have a bad rate that falls, then rises",
+        "peak": "no three bins that meet the size limits have a bad rate that rises, then falls",
         "detect": "every split that meets the size limits leaves the same bad rate on both sides",
     }[trend]

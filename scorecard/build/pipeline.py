@@ -56,6 +56,7 @@ from scorecard.engines.passes import (
 )
 from scorecard.constraints import SCALE_LIMIT
 from scorecard.errors import InputError, ResultWarning
+from scorecard.evaluation.benchmark import benchmark
 from scorecard.evaluation.fairness import compute_fairness
 from scorecard.evaluation.histograms import band_edges, gains_table, performance, score_histogram
 from scorecard.evaluation.stability import build_stability
@@ -483,13 +484,21 @@ def _build(config, engine, progress, rows: RowFacts | None = None,
     # monitoring and diffs need only the model file.
     card = replace(card, development=_development(card, histograms, perf, facts, config, ordered),
                    fates=tuple(_fate(r) for r in ordered))
+    # The same raw columns the card could use: every characteristic that was classed.
+    compared = benchmark(engine, rows, card, {c.name: layouts[c.name] for c in binned},
+                         config.samples.seed)
+    if compared is not None:
+        _say(progress, f"benchmark on {compared.compared} {compared.sample} rows: card AUC "
+                       f"{compared.card_auc:.4f}, raw logistic regression "
+                       f"{compared.logistic_auc:.4f}")
     fairness = compute_fairness(config, engine, rows, card) if fairness else None
     if fairness is not None:
         _say(progress, f"fairness check on {', '.join(config.data.protected)}: "
                        f"{len(fairness.flags)} findings")
     return BuildResult(config, card, ordered, selection, facts, histograms, perf, gains,
                        gains_sample, starts, patterns, stability, fairness=fairness,
-                       unmeasured=unmeasured, extreme_values=extreme)
+                       unmeasured=unmeasured, extreme_values=extreme,
+                       benchmark=compared)
 
 
 def _check_settings(config, engine, layouts: dict, counts: dict) -> None:

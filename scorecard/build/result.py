@@ -17,6 +17,7 @@ from scorecard.build.rejects import RejectInference
 from scorecard.card.scorecard import Characteristic, Scorecard
 from scorecard.config import Config
 from scorecard.engines.patterns import Patterns
+from scorecard.evaluation.benchmark import Benchmark
 from scorecard.evaluation.fairness import FairnessReport
 from scorecard.evaluation.histograms import ScoreHistogram
 from scorecard.evaluation.stability import StabilityComparison
@@ -70,6 +71,7 @@ class BuildResult:
     # Development against holdout, then against out of time, for those present.
     stability: tuple[StabilityComparison, ...]
     fairness: FairnessReport | None = None          # None without protected columns
+    benchmark: Benchmark | None = None              # card against a raw logistic regression
     outputs: dict[str, Path] = field(default_factory=dict)   # set by api.build (replace)
     unmeasured: dict[str, str] = field(default_factory=dict)   # sample -> why no AUC, Gini, KS
     extreme_values: dict[str, str] = field(default_factory=dict)   # column -> values far beyond

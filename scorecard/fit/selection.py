@@ -236,7 +236,11 @@ def select_characteristics(
     >>> goods = rng.binomial(10, 1 / (1 + np.exp(-(1.0 + X[:, 0])))).astype(float)
     >>> result = select_characteristics(X, goods, trials - goods, ["a", "b"], [0.5, 0.001])
     >>> result.selected, result.fates["b"].stage
-    (('a',), 'information value')
+    (('a',), 'stepwise')
+    >>> floored = select_characteristics(X, goods, trials - goods, ["a", "b"], [0.5, 0.001],
+    ...                                  min_iv=0.02)
+    >>> floored.fates["b"].stage
+    'information value'
     """
     coded = _coded(X)
     n, k = coded.n_rows, coded.n_columns

@@ -26,6 +26,17 @@ READING = ("Colour repeats what signs and words say, so a black-and-white print 
            "higher risk (negative, shown with -). Every figure names the sample it comes from: "
            "development (the fit), holdout (set aside at random) or out of time (a later period).")
 
+BENCHMARK_LABEL = "Cost of the scorecard form (AUC)"
+
+
+def benchmark_text(b) -> str:
+    """How the benchmark beside the card was made, in one sentence."""
+    return (f"The benchmark is a logistic regression on the raw columns the build classed "
+            f"(numbers standardised, missing values and sentinels at the median; categories "
+            f"one-hot), fitted on {b.fitted:,} development rows; it and the card are scored on "
+            f"the same {b.compared:,} {b.sample} rows. The gap is what the points-table form "
+            f"costs in ranking.")
+
 
 class _Page:
     """A cursor down the cover page."""
@@ -121,6 +132,11 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     for name, why in getattr(result, "unmeasured", {}).items():
         page.paragraph(f"Warning: the {name} sample {why}, so its measures are not available.",
                        style.BOLD)
+    if getattr(result, "benchmark", None) is not None:
+        b = result.benchmark
+        page.fact(BENCHMARK_LABEL, f"card {b.card_auc:.4f}; raw logistic regression "
+                                   f"{b.logistic_auc:.4f} ({b.sample})")
+        page.paragraph(benchmark_text(b))
 
     page.heading(f"Characteristics in the model ({len(card.characteristics)})")
     page.table(card_frames.model_frame(card), {"Information value": style.WOE, "Coefficient": style.WOE,
