@@ -69,7 +69,7 @@ print(json.dumps({"seconds": seconds, "peak_kb": peak_kb}))
 
 CHILD_READ = """
 import json, sys, time
-from scorecard.data.outcome import read_frame
+from scorecard.data.read import read_frame
 start = time.perf_counter()
 read_frame(sys.argv[1])
 print(json.dumps({"seconds": time.perf_counter() - start}))
