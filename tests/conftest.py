@@ -21,3 +21,17 @@ def demo_build(demo_config_path):
     """The demo scorecard built in memory (no files written)."""
     config = load_config(demo_config_path)
     return build_scorecard(config, open_engine(config))
+
+
+@pytest.fixture(scope="session")
+def demo_dir(demo_config_path):
+    """The demo folder: its data files beside the config."""
+    return demo_config_path.parent
+
+
+@pytest.fixture(scope="session")
+def model_path(demo_build, tmp_path_factory):
+    """The demo scorecard written as a model file."""
+    path = tmp_path_factory.mktemp("model") / "scorecard.json"
+    path.write_text(demo_build.card.to_json(), encoding="utf-8")
+    return path

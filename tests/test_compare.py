@@ -28,18 +28,6 @@ STATUSES = {"stable", "watch", "shift"}
 
 
 @pytest.fixture(scope="module")
-def demo_dir(demo_config_path):
-    return demo_config_path.parent
-
-
-@pytest.fixture(scope="module")
-def model_path(demo_build, tmp_path_factory):
-    path = tmp_path_factory.mktemp("model") / "scorecard.json"
-    path.write_text(demo_build.card.to_json(), encoding="utf-8")
-    return path
-
-
-@pytest.fixture(scope="module")
 def drifted(model_path, demo_dir):
     return compare(model_path, demo_dir / DATA_FILE, demo_dir / DRIFTED_FILE)
 

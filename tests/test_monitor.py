@@ -33,18 +33,6 @@ PERIOD = "applied_month"
 
 
 @pytest.fixture(scope="module")
-def demo_dir(demo_config_path):
-    return demo_config_path.parent
-
-
-@pytest.fixture(scope="module")
-def model_path(demo_build, tmp_path_factory):
-    path = tmp_path_factory.mktemp("model") / "scorecard.json"
-    path.write_text(demo_build.card.to_json(), encoding="utf-8")
-    return path
-
-
-@pytest.fixture(scope="module")
 def monthly(model_path, demo_dir):
     return monitor(model_path, demo_dir / RECENT_FILE, PERIOD, cutoff=560)
 

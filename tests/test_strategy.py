@@ -23,18 +23,6 @@ GAIN, LOSS = 1.5, 7.0
 
 
 @pytest.fixture(scope="module")
-def demo_dir(demo_config_path):
-    return demo_config_path.parent
-
-
-@pytest.fixture(scope="module")
-def model_path(demo_build, tmp_path_factory):
-    path = tmp_path_factory.mktemp("model") / "scorecard.json"
-    path.write_text(demo_build.card.to_json(), encoding="utf-8")
-    return path
-
-
-@pytest.fixture(scope="module")
 def recent(demo_dir):
     return demo_dir / DRIFTED_FILE
 
