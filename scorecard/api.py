@@ -26,7 +26,7 @@ def open_engine(config, progress=None):
     d = config.data
     if config.engine.dask is None:
         return LocalEngine(read_frame(d.source, encoding=d.encoding, delimiter=d.delimiter,
-                                      decimal=d.decimal),
+                                      decimal=d.decimal, sheet=d.sheet),
                            progress=progress)
     from scorecard.engines.dask_engine import DaskEngine
     return DaskEngine(d.source, config.engine.dask, progress=progress)

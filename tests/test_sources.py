@@ -150,3 +150,17 @@ def test_an_unknown_suffix_names_the_kinds_that_are_read(tmp_path):
     path.write_text("x\n1\n")
     with pytest.raises(Exception, match=r"unknown data format '\.dat'.*\.sas7bdat"):
         read_frame(path)
+
+
+def test_data_sheet_names_the_sheet_a_build_reads(sample):
+    folder, frame = sample
+    path = folder / "book.xlsx"
+    with pd.ExcelWriter(path) as writer:
+        notes = pd.DataFrame({"note": ["the first sheet is not the data"]})
+        notes.to_excel(writer, sheet_name="notes", index=False)
+        frame.to_excel(writer, sheet_name="applications", index=False)
+    config = folder / "sheet.yaml"
+    config.write_text(CONFIG.format(source="book.xlsx", stem="sheet").replace(
+        "  target: outcome\n", "  target: outcome\n  sheet: applications\n"))
+    model = json.loads(api.build(config).outputs["model"].read_text())
+    assert model["characteristics"] == _build(folder, "rows.csv")["characteristics"]

@@ -69,6 +69,7 @@ _DATA_SCHEMA = {
     "source": v.text, "target": v.text, "bad": _outcomes, "good": _outcomes,
     "weight": v.optional(v.text), "ignore": _columns, "protected": _columns,
     "encoding": v.encoding, "delimiter": v.delimiter, "decimal": v.choice((".", ",")),
+    "sheet": v.optional(v.text),
 }
 _SAMPLES_SCHEMA = {
     "holdout": v.optional(v.setting(c.HOLDOUT)),

@@ -106,6 +106,8 @@ class DataConfig:
         Field separator of a CSV source, one character.
     decimal : str
         Decimal mark of the numbers in a CSV source: ``.`` or ``,``.
+    sheet : str or None
+        The sheet of an ``.xlsx`` source, by name (None: the first sheet).
     """
 
     source: Path
@@ -118,6 +120,7 @@ class DataConfig:
     encoding: str = "utf-8"
     delimiter: str = ","
     decimal: str = "."
+    sheet: str | None = None
 
 
 @dataclass(frozen=True, slots=True)
