@@ -1,5 +1,5 @@
-"""Plain functions behind every command: build, score, compare, strategy, monitor, diff,
-export, init, demo.
+"""Plain functions behind every command: build, score, compare, strategy, monitor, challenge,
+diff, export, init, demo.
 
 Each takes paths and options, does the whole job and returns a result object; the click layer
 in :mod:`scorecard.cli` only parses arguments and prints. Heavy modules are imported inside the
@@ -196,6 +196,21 @@ def monitor(model, data, period, *, every="month", baseline=None, cutoff=None, b
             result = monitor_periods(model, data, period, engine=engine, **options)
     from scorecard.outputs.monitoring_workbook import write_monitoring_workbook
     _write_report(outputs, result, write_monitoring_workbook)
+    return result
+
+
+def challenge(champion, challenger, data, *, approval_rate=None, json_path=None):
+    """Champion against challenger on the rows of ``data``: AUC, Gini, KS of each, DeLong's
+    paired test of the AUC difference and the swap set; JSON written if asked.
+
+    Returns the :class:`~scorecard.evaluation.challenge.Challenge`.
+    """
+    from scorecard.evaluation.challenge import challenge as compare_cards
+    outputs = check_outputs(_report_outputs(json_path, None),
+                            {"the champion": champion, "the challenger": challenger,
+                             "the data": data})
+    result = compare_cards(champion, challenger, data, approval_rate=approval_rate)
+    _write_report(outputs, result, None)
     return result
 
 

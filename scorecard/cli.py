@@ -256,6 +256,22 @@ def monitor(model, data, period, every, baseline, cutoff, min_bads, bands, json_
         raise click.exceptions.Exit(1)
 
 
+@main.command("challenge")
+@click.argument("champion", type=click.Path(dir_okay=False, path_type=Path))
+@click.argument("challenger", type=click.Path(dir_okay=False, path_type=Path))
+@click.argument("data", type=click.Path(path_type=Path))
+@click.option("--approval-rate", type=float, default=None, metavar="RATE",
+              help="Approval rate of the swap set, in (0, 1) [default: 0.75, a placeholder].")
+@click.option("--json", "json_path", type=click.Path(dir_okay=False, path_type=Path),
+              help="Write both cards' measures, the difference and the swap set as JSON here.")
+def challenge(champion, challenger, data, approval_rate, json_path):
+    """Does CHALLENGER rank the rows of DATA better than CHAMPION (DeLong's paired test)?"""
+    from scorecard import api
+    result = api.challenge(champion, challenger, data, approval_rate=approval_rate,
+                           json_path=json_path)
+    click.echo(result.text())
+
+
 @main.command("diff")
 @click.argument("old_model", type=click.Path(dir_okay=False, path_type=Path))
 @click.argument("new_model", type=click.Path(dir_okay=False, path_type=Path))
