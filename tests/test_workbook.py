@@ -649,3 +649,12 @@ def test_rebuilding_gives_the_same_cells_except_the_run_time(demo, tmp_path):
     run_time_row = next(r for r in range(1, one["Overview"].max_row + 1)
                         if one["Overview"].cell(r, 1).value == RUN_TIME_LABEL)
     assert set(differing) <= {("Overview", f"B{run_time_row}")}
+
+
+def test_the_overview_names_files_but_no_path_of_the_build_machine(demo):
+    # A committee document carries file names and hashes, not the modeller's folders.
+    result, path, folder = demo
+    cells = [str(c) for row in load_workbook(path)["Overview"].iter_rows(values_only=True)
+             for c in row if c is not None]
+    assert not [c for c in cells if str(folder) in c or str(folder.resolve()) in c]
+    assert "applications.csv" in cells and "scorecard.yaml" in cells

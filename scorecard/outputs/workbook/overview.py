@@ -7,6 +7,7 @@ sentences in wrapped cells merged across the page width.
 from __future__ import annotations
 
 import math
+from pathlib import Path
 
 from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.worksheet import Worksheet
@@ -92,7 +93,9 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     page.paragraph(CAUTION, style.BOLD)
 
     page.heading("Data")
-    page.fact("Data file", str(config.data.source))
+    # A committee document names the files and their hashes (the run manifest), never a path
+    # of the modeller's machine.
+    page.fact("Data file", Path(config.data.source).name)
     page.fact("Rows read", samples.rows_read, style.COUNT)
     page.fact("Rows left out (outcome neither bad nor good)", samples.left_out, style.COUNT)
     page.table(frames.samples_frame(samples),
@@ -104,7 +107,7 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     inference = getattr(result, "rejects", None)
     if inference is not None:
         page.heading("Declined applications (reject inference)")
-        page.fact("Declined applications file", inference.source)
+        page.fact("Declined applications file", Path(inference.source).name)
         page.fact("Declined applications read", inference.rows, style.COUNT)
         page.fact("Reject inference method", inference.method)
         page.fact("Rejects' inferred bad rate against the accepts'",
@@ -143,7 +146,7 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
                                     "Lowest points": style.INTEGER, "Highest points": style.INTEGER})
 
     page.heading("Run manifest")
-    page.fact("Config file", manifest.config_file)
+    page.fact("Config file", Path(manifest.config_file).name)
     page.fact("Config file SHA-256", manifest.config_sha256)
     page.fact(DATA_HASH_LABEL, manifest.data_sha256)
     page.fact("Rows read", samples.rows_read, style.COUNT)
