@@ -23,7 +23,7 @@ from scorecard.card.scorecard import load_scorecard
 from scorecard.data.outcome import BAD, GOOD
 from scorecard.errors import InputError
 from scorecard.evaluation.scored_rows import outcome_labels, read_rows, score_rows
-from scorecard.evaluation.strategy import SWAP_CELLS, _nearest_cut, swap_table
+from scorecard.evaluation.strategy import SWAP_CELLS, nearest_cut, swap_table
 from scorecard.measures.ranking import Discrimination, PairedAUC, discrimination, paired_auc
 
 # The approval rate of the swap set when none is given: a common order of magnitude for
@@ -126,8 +126,8 @@ def challenge(champion_path, challenger_path, data_path, *,
     index = index.ravel()
     goods = np.bincount(index, weights=~is_bad, minlength=len(pairs))
     bads = np.bincount(index, weights=is_bad, minlength=len(pairs))
-    cut_a, _ = _nearest_cut(a, rate, len(a))
-    cut_b, _ = _nearest_cut(b, rate, len(b))
+    cut_a, _ = nearest_cut(a, rate, len(a))
+    cut_b, _ = nearest_cut(b, rate, len(b))
     swap = swap_table(b >= cut_b, a >= cut_a, label[used])
     return Challenge(
         champion=_discrimination(a, is_bad), challenger=_discrimination(b, is_bad),

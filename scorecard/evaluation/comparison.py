@@ -413,7 +413,8 @@ def _unusual(card, files: dict) -> pd.DataFrame:
     return pd.DataFrame(records)
 
 
-def _check_options(bands, watch, shift):
+def check_band_options(bands, watch, shift) -> None:
+    """InputError unless the score bands and the stability cut-offs are as declared."""
     if not SCORE_BANDS.allows(bands):
         raise InputError(f"--bands: must be {SCORE_BANDS.expected()}, got {bands!r}")
     if not (WATCH.allows(watch) and SHIFT.allows(shift) and cutoffs_in_order(watch, shift)):
@@ -465,7 +466,7 @@ def compare(model_path, baseline_path, current_path, *, bands=None, watch=None,
     bands = SCORE_BANDS.default if bands is None else bands
     watch = WATCH.default if watch is None else watch
     shift = SHIFT.default if shift is None else shift
-    _check_options(bands, watch, shift)
+    check_band_options(bands, watch, shift)
     card = load_scorecard(model_path)
     base = _count_file(card, baseline_path, read_rows(baseline_path))
     cur = _count_file(card, current_path, read_rows(current_path))

@@ -31,12 +31,13 @@ from scorecard.card.scorecard import Scorecard, load_scorecard
 from scorecard.card.scoring import bad_probability
 from scorecard.data.samples import parse_dates
 from scorecard.errors import InputError
-from scorecard.constraints import SCORE_BANDS, SHIFT, WATCH, cutoffs_in_order
+from scorecard.constraints import SCORE_BANDS, SHIFT, WATCH
 from scorecard.evaluation.comparison import (
     _count_file,
     _FileCounts,
     _finite,
     _stability,
+    check_band_options,
     counts_of_group,
 )
 from scorecard.evaluation.group_counts import GroupCounts, count_groups
@@ -301,10 +302,7 @@ def _development_summary(card: Scorecard, base: _FileCounts, cutoff) -> dict:
 def _check_options(every, bands, watch, shift, min_bads, cutoff, level):
     if every not in EVERY:
         raise InputError(f"--every {every}: must be month or quarter")
-    if not SCORE_BANDS.allows(bands):
-        raise InputError(f"--bands: must be {SCORE_BANDS.expected()}, got {bands!r}")
-    if not (WATCH.allows(watch) and SHIFT.allows(shift) and cutoffs_in_order(watch, shift)):
-        raise InputError(f"watch, shift: need 0 < watch < shift, got {watch!r}, {shift!r}")
+    check_band_options(bands, watch, shift)
     if not (isinstance(min_bads, int) and min_bads >= 2):
         raise InputError(f"--min-bads: must be a whole number of at least 2, got {min_bads!r}")
     if cutoff is not None and not isinstance(cutoff, int):

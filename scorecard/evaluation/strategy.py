@@ -191,7 +191,7 @@ def swap_table(new_approved, old_approved, label=None, expected_bad=None) -> pd.
                          "other_outcome": rows - goods - bads, "bad_rate": rate})
 
 
-def _nearest_cut(goodness: np.ndarray, target_rate: float, total: int) -> tuple[float, float]:
+def nearest_cut(goodness: np.ndarray, target_rate: float, total: int) -> tuple[float, float]:
     """The value ``t`` of ``goodness`` whose approval rate (``goodness >= t``) is nearest the
     target; missing values are never approved. Returns ``(t, approval rate)``."""
     present = goodness[~np.isnan(goodness)]
@@ -252,7 +252,7 @@ def _incumbent(frame, path, column, direction, approved_values, new_approved, la
             _incumbent_direction(column, values, label, score, kept)
         riskier = stated.startswith(HIGHER_IS_RISKIER)
         goodness = -values if riskier else values
-        cut, _ = _nearest_cut(goodness, float(new_approved.mean()), total)
+        cut, _ = nearest_cut(goodness, float(new_approved.mean()), total)
         with np.errstate(invalid="ignore"):
             old_approved = goodness >= cut
         missing = int(np.isnan(values).sum())
