@@ -15,7 +15,9 @@ from pathlib import Path
 from scorecard.build.pipeline import build_scorecard
 from scorecard.build.result import BuildResult
 from scorecard.config import check_columns, load_config
-from scorecard.data.read import read_frame
+from scorecard.config.sources import is_query
+from scorecard.data.database import rows_sha256
+from scorecard.data.read import read_source
 from scorecard.engines.local import LocalEngine
 from scorecard.errors import InputError
 from scorecard.outputs.atomic import Output, check_outputs, staged
@@ -25,8 +27,8 @@ def open_engine(config, progress=None):
     """The engine named by the config, holding the development data; use it in ``with``."""
     d = config.data
     if config.engine.dask is None:
-        return LocalEngine(read_frame(d.source, encoding=d.encoding, delimiter=d.delimiter,
-                                      decimal=d.decimal, sheet=d.sheet),
+        return LocalEngine(read_source(d.source, encoding=d.encoding, delimiter=d.delimiter,
+                                       decimal=d.decimal, sheet=d.sheet),
                            progress=progress)
     from scorecard.engines.dask_engine import DaskEngine
     return DaskEngine(d.source, config.engine.dask, progress=progress)
@@ -72,7 +74,7 @@ def open_rejects_engine(config, engine, progress=None):
     if r is None:
         return contextlib.nullcontext(None)
     if config.engine.dask is None:
-        return LocalEngine(read_frame(r.source, encoding=r.encoding, delimiter=r.delimiter),
+        return LocalEngine(read_source(r.source, encoding=r.encoding, delimiter=r.delimiter),
                            progress=progress)
     from scorecard.engines.dask_engine import DaskEngine
     return DaskEngine(r.source, engine.client.scheduler.address, progress=progress)
@@ -98,9 +100,9 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
     """
     from scorecard.outputs.workbook import write_workbook
     config = load_config(config_path)
-    inputs = {"the config": config.config_file, "the data": config.data.source}
+    inputs = {"the config": config.config_file, "the data": _input_file(config.data.source)}
     if config.rejects is not None:
-        inputs["the declined applications"] = config.rejects.source
+        inputs["the declined applications"] = _input_file(config.rejects.source)
     outputs = check_outputs(_build_outputs(config, workbook, model), inputs)
     previous = _previous_card(outputs[1].path)
     with open_engine(config, progress) as engine:
@@ -109,6 +111,9 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
             progress(f"read {engine.n_rows} rows from {config.data.source}")
         with open_rejects_engine(config, engine, progress) as rejects_engine:
             result = build_scorecard(config, engine, progress, rejects_engine)
+        if is_query(config.data.source):
+            # A query cannot be read again for the manifest: hash the rows the build read.
+            result = replace(result, rows_sha256=rows_sha256(engine.frame))
     # Both files are finished before either moves into place: a failure anywhere leaves the
     # previous pair of outputs as it was.
     book, card = outputs
@@ -118,6 +123,11 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
     if progress:
         progress(f"wrote {book.path} and {card.path}")
     return replace(result, outputs={"workbook": book.path, "model": card.path}, previous=previous)
+
+
+def _input_file(source):
+    """The file behind a source: the file itself, an SQLite query's database file, or None."""
+    return source.database_file if is_query(source) else source
 
 
 def _previous_card(model_path: Path):

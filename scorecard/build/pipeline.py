@@ -41,7 +41,7 @@ from scorecard.data.samples import (DEVELOPMENT, EXCLUDED, HOLDOUT, OUT_OF_TIME,
                                     assign_samples, parse_dates)
 from scorecard.engines.augmented import AugmentedEngine
 from scorecard.engines.local import LocalEngine
-from scorecard.data.read import read_frame
+from scorecard.data.read import read_source
 from scorecard.engines.passes import (
     RowFacts,
     bin_counts,
@@ -594,8 +594,8 @@ def _build_with_rejects(config, engine, rejects_engine, progress) -> BuildResult
     accepts_only = _build(config, engine, progress, rows)
     own = rejects_engine is None
     if own:
-        rejects_engine = LocalEngine(read_frame(r.source, encoding=r.encoding,
-                                                delimiter=r.delimiter))
+        rejects_engine = LocalEngine(read_source(r.source, encoding=r.encoding,
+                                                 delimiter=r.delimiter))
     try:
         return _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progress)
     finally:

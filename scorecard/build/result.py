@@ -77,6 +77,7 @@ class BuildResult:
     extreme_values: dict[str, str] = field(default_factory=dict)   # column -> values far beyond
     previous: Scorecard | None = None   # the model file this build replaced, when one loaded
     rejects: RejectInference | None = None   # without declined applications: None
+    rows_sha256: str | None = None   # of the rows a database query returned (set by api.build)
 
     def tables(self) -> dict:
         """Every table the workbook shows, as DataFrames keyed by the sheet's name for them.

@@ -19,6 +19,7 @@ from scorecard.config import values as v
 from scorecard.config.messages import display, message, shorten
 from scorecard.config.nodes import Source, describe, is_null
 from scorecard.config.rejects import METHOD_SETTINGS, REJECT_METHODS, RejectsConfig
+from scorecard.config.sources import FILE_SETTINGS, is_query, resolve_source, source_value
 from scorecard.config.schema import (
     BinningConfig,
     CharacteristicOverride,
@@ -51,6 +52,16 @@ def _engine(source: Source, path: tuple, node: yaml.Node) -> EngineConfig:
     return EngineConfig(**values)
 
 
+def _refuse_dask_query(source: Source, engine: EngineConfig, data: DataConfig,
+                       rejects: RejectsConfig | None) -> None:
+    if engine.dask is None:
+        return
+    for key, given in (("data", data.source), ("rejects", rejects and rejects.source)):
+        if is_query(given):
+            source.fail(("engine",), f"the Dask engine reads Parquet files, and {key}.source is a "
+                                     "database query: use engine: local")
+
+
 def _out_of_time(source: Source, path: tuple, node: yaml.Node) -> OutOfTime:
     values = v.section(source, path, node, {"column": v.text, "from": v.date})
     v.require(source, path, values, ("column", "from"))
@@ -66,7 +77,7 @@ _sentinels = v.list_of(v.sentinel, unique=True)
 _RENAMED_KEYS = {"special_values": "sentinels"}
 
 _DATA_SCHEMA = {
-    "source": v.text, "target": v.text, "bad": _outcomes, "good": _outcomes,
+    "source": source_value("data.source"), "target": v.text, "bad": _outcomes, "good": _outcomes,
     "weight": v.optional(v.text), "ignore": _columns, "protected": _columns,
     "encoding": v.encoding, "delimiter": v.delimiter, "decimal": v.choice((".", ",")),
     "sheet": v.optional(v.text),
@@ -165,6 +176,9 @@ def read_config(source: Source, root: yaml.MappingNode, base: Path, default_name
     _check_overrides(source, characteristics, reserved)
     _check_keep(source, selection, characteristics, reserved)
     engine = top.get("engine")
+    engine = EngineConfig() if engine is None else _engine(source, ("engine",), engine)
+    rejects = _read_rejects(source, top.get("rejects"), base)
+    _refuse_dask_query(source, engine, data, rejects)
     return Config(
         data=data,
         name=name,
@@ -175,7 +189,7 @@ def read_config(source: Source, root: yaml.MappingNode, base: Path, default_name
         scaling=ScalingConfig(**v.section(source, ("scaling",), top.get("scaling"),
                                          _SCALING_SCHEMA)),
         output=_read_output(source, top.get("output"), base),
-        engine=EngineConfig() if engine is None else _engine(source, ("engine",), engine),
+        engine=engine,
         scoring=ScoringConfig(**v.section(source, ("scoring",), top.get("scoring"),
                                          _SCORING_SCHEMA)),
         evaluation=EvaluationConfig(**v.section(source, ("evaluation",), top.get("evaluation"),
@@ -184,7 +198,7 @@ def read_config(source: Source, root: yaml.MappingNode, base: Path, default_name
         fairness=FairnessConfig(**v.section(source, ("fairness",), top.get("fairness"),
                                            _FAIRNESS_SCHEMA)),
         grades=_read_grades(source, top.get("grades")),
-        rejects=_read_rejects(source, top.get("rejects"), base),
+        rejects=rejects,
         config_file=source.file,
         key_lines=FrozenMapping((display(path), line) for path, line in source.lines.items()
                                 if path),
@@ -198,7 +212,8 @@ def _resolve(base: Path, written: str | Path) -> Path:
 def _read_data(source: Source, node: yaml.Node | None, base: Path) -> DataConfig:
     values = v.section(source, ("data",), node, _DATA_SCHEMA)
     v.require(source, ("data",), values, ("source", "target", "bad", "good"))
-    data = DataConfig(**{**values, "source": _resolve(base, values["source"])})
+    data = DataConfig(**{**values, "source": resolve_source(base, values["source"])})
+    _refuse_file_settings(source, ("data",), values)
     _refuse_shared(source, ("data", "good"), data.good, data.bad, "data.bad")
     _refuse_shared(source, ("data", "protected"), data.protected, data.ignore, "data.ignore")
     _refuse_shared(source, ("data", "ignore"), data.ignore, (data.target,), "data.target")
@@ -207,6 +222,16 @@ def _read_data(source: Source, node: yaml.Node | None, base: Path) -> DataConfig
         source.fail(("data", "weight"), f"'{data.weight}' is also data.target; "
                                         "the weight must be another column")
     return data
+
+
+def _refuse_file_settings(source: Source, path: tuple, values: dict) -> None:
+    """A database query has no encoding, delimiter, decimal mark or sheet: refuse them with it."""
+    if not is_query(values["source"]):
+        return
+    for key in FILE_SETTINGS:
+        if key in values:
+            source.fail(path + (key,), f"applies to a data file; {display(path + ('source',))} "
+                                       "is a database query")
 
 
 def _refuse_shared(source: Source, path: tuple, values: tuple, others: tuple, where: str) -> None:
@@ -346,7 +371,7 @@ def _read_grades(source: Source, node: yaml.Node | None) -> GradesConfig | None:
 
 
 _REJECTS_SCHEMA = {
-    "source": v.text, "method": v.choice(REJECT_METHODS), "bands": v.whole(c.Interval(2)),
+    "source": source_value("rejects.source"), "method": v.choice(REJECT_METHODS), "bands": v.whole(c.Interval(2)),
     "uplift": v.number(c.Interval(0, low_open=True)), "seed": v.optional(v.whole(c.Interval(0))),
     "cutoff": v.optional(v.finite),
     "reject_bad_rate": v.optional(v.number(c.Interval(0, 1, low_open=True, high_open=True))),
@@ -371,4 +396,5 @@ def _read_rejects(source: Source, node: yaml.Node | None, base: Path) -> Rejects
     if values.get("cutoff") is not None and values.get("reject_bad_rate") is not None:
         source.fail(path + ("reject_bad_rate",), "cannot be given with cutoff: give the score "
                                                  "or the bad rate that sets it")
-    return RejectsConfig(**{**values, "source": _resolve(base, values["source"])})
+    _refuse_file_settings(source, path, values)
+    return RejectsConfig(**{**values, "source": resolve_source(base, values["source"])})

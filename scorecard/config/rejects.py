@@ -8,6 +8,10 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from pathlib import Path
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from scorecard.config.sources import DatabaseQuery
 
 REJECT_METHODS = ("fuzzy", "parcelling", "hard_cutoff", "reweighting", "none")
 
@@ -46,9 +50,10 @@ class RejectsConfig:
 
     Attributes
     ----------
-    source : Path
+    source : Path or DatabaseQuery
         File of declined applications with the same characteristics as ``data.source`` and no
-        outcome; any format ``data.source`` reads; resolved against the config's folder.
+        outcome; any format ``data.source`` reads (a database query too); a file is resolved
+        against the config's folder.
     method : str
         ``fuzzy`` (fuzzy augmentation), ``parcelling``, ``hard_cutoff``, ``reweighting`` or
         ``none`` (the accepts-only card; the rejects are still scored and reported).
@@ -72,7 +77,7 @@ class RejectsConfig:
         Used only to check the inference in the workbook, never to build.
     """
 
-    source: Path
+    source: Path | DatabaseQuery
     method: str = "fuzzy"
     bands: int = REJECT_SETTINGS["bands"][0]
     uplift: float = REJECT_SETTINGS["uplift"][0]

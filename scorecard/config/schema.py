@@ -12,10 +12,13 @@ import datetime
 from collections.abc import Iterable, Iterator, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Generic, TypeVar, Union
+from typing import TYPE_CHECKING, Generic, TypeVar, Union
 
 from scorecard import constraints as c
 from scorecard.config.rejects import RejectsConfig
+
+if TYPE_CHECKING:
+    from scorecard.config.sources import DatabaseQuery
 
 __all__ = [
     "BinningConfig",
@@ -86,8 +89,10 @@ class DataConfig:
 
     Attributes
     ----------
-    source : Path
-        CSV or Parquet file, or a folder of Parquet files, resolved against the config's folder.
+    source : Path or DatabaseQuery
+        A data file (CSV, compressed CSV, Parquet file or folder, SAS dataset, .xlsx sheet),
+        resolved against the config's folder, or a query against a database
+        (:class:`scorecard.config.sources.DatabaseQuery`).
     target : str
         The outcome column.
     bad, good : tuple
@@ -110,7 +115,7 @@ class DataConfig:
         The sheet of an ``.xlsx`` source, by name (None: the first sheet).
     """
 
-    source: Path
+    source: Path | DatabaseQuery
     target: str
     bad: tuple[OutcomeValue, ...]
     good: tuple[OutcomeValue, ...]

@@ -1,5 +1,7 @@
 """Reading application files into frames: CSV, Parquet, statistical datasets, spreadsheets.
 
+A config's source may also be a database query: :func:`read_source` reads either kind.
+
 CSV (plain or compressed) is read with pyarrow's multithreaded reader, text columns
 dictionary-encoded so that they arrive as integer codes; Parquet files and folders of them are
 read with pyarrow too; the other kinds come through :mod:`scorecard.data.formats`. Everything
@@ -20,6 +22,7 @@ import pyarrow.csv as pacsv
 import pyarrow.dataset as pads
 import pyarrow.parquet as pq
 
+from scorecard.config.sources import is_query
 from scorecard.data.formats import (
     KNOWN,
     data_format,
@@ -248,13 +251,44 @@ def read_frame(path, columns=None, encoding="utf-8", delimiter=",", sheet=None,
     >>> frame["age"].tolist(), column_kind(frame["outcome"])
     ([31, 45], 'categorical')
     """
-    table = read_table(path, columns, encoding, delimiter, sheet, decimal)
+    return table_frame(read_table(path, columns, encoding, delimiter, sheet, decimal), path)
+
+
+def read_source(source, columns=None, encoding="utf-8", delimiter=",", sheet=None,
+                decimal=".") -> pd.DataFrame:
+    """Read a config's source into pandas: a data file (see :func:`read_frame`) or the rows of
+    a database query (a :class:`scorecard.config.sources.DatabaseQuery`, read in chunks by
+    :mod:`scorecard.data.database`; the file settings do not apply to it).
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "rows.csv"
+    >>> _ = path.write_text("age,outcome\\n31,repaid\\n")
+    >>> read_source(path)["age"].tolist()
+    [31]
+    """
+    if not is_query(source):
+        return read_frame(source, columns, encoding, delimiter, sheet, decimal)
+    from scorecard.data.database import read_query
+    frame = table_frame(read_query(source), f"{source.key}.query")
+    if columns is not None:
+        missing = [c for c in columns if c not in frame.columns]
+        if missing:
+            raise InputError(f"{source.key}.query: column {missing[0]}: not in the rows returned")
+        frame = frame[list(columns)]
+    return frame
+
+
+def table_frame(table: pa.Table, where) -> pd.DataFrame:
+    """An Arrow table of rows as pandas, text as categoricals; ``where`` names the data in
+    messages. Refuses a repeated column name and a table without rows."""
     names = table.column_names
     if len(set(names)) != len(names):
         dup = next(n for n in names if names.count(n) > 1)
-        raise InputError(f"{path}: column {dup}: the name appears more than once")
+        raise InputError(f"{where}: column {dup}: the name appears more than once")
     if table.num_rows == 0:
-        raise InputError(f"{path}: the data has column names but no rows")
+        raise InputError(f"{where}: the data has column names but no rows")
     table = pa.table({n: _dictionary_text(table.column(n)) for n in names})
     return table.to_pandas(split_blocks=True, self_destruct=True, date_as_object=False)
 

@@ -51,7 +51,8 @@ def write_workbook(result, path) -> Path:
     wb = Workbook()
     wb.remove(wb.active)
     ws = {name: wb.create_sheet(name) for name in SHEETS}
-    overview.write_overview(ws["Overview"], result, run_manifest(result.config))
+    manifest = run_manifest(result.config, rows_sha256=getattr(result, "rows_sha256", None))
+    overview.write_overview(ws["Overview"], result, manifest)
     sheets.write_characteristics(ws["Characteristics"], result)
     sheets.write_bins(ws["Bins"], result)
     sheets.write_model(ws["Model"], result)

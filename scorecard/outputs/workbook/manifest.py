@@ -3,6 +3,8 @@
 The data file is identified by its SHA-256. A folder of files (Parquet parts) is identified by
 the SHA-256 of a listing with one line ``<relative path> <SHA-256 of the file>`` per file, in
 sorted path order, so the same files give the same hash whatever order the file system lists.
+Rows from a database query are identified by the URL (which never holds the password), the
+query, and the hash of the rows the build read (:func:`scorecard.data.database.rows_sha256`).
 """
 
 from __future__ import annotations
@@ -13,7 +15,9 @@ from importlib import metadata
 from pathlib import Path
 from typing import NamedTuple
 
-PACKAGES = ("scorecard", "numpy", "pandas", "scipy", "openpyxl", "pyarrow")
+from scorecard.config.sources import is_query
+
+PACKAGES = ("scorecard", "numpy", "pandas", "scipy", "openpyxl", "pyarrow", "sqlalchemy")
 CHUNK = 1 << 20
 
 
@@ -27,6 +31,7 @@ class Manifest(NamedTuple):
     seed: int
     versions: tuple[tuple[str, str], ...]
     run_time: str
+    data_query: str = ""            # the query, when the data came from a database
 
 
 def file_sha256(path) -> str:
@@ -75,13 +80,23 @@ def package_versions(names=PACKAGES) -> tuple[tuple[str, str], ...]:
     return tuple(out)
 
 
-def run_manifest(config, now: datetime.datetime | None = None) -> Manifest:
-    """The manifest of a build from its config; ``now`` defaults to the current UTC time."""
+def run_manifest(config, now: datetime.datetime | None = None,
+                 rows_sha256: str | None = None) -> Manifest:
+    """The manifest of a build from its config; ``now`` defaults to the current UTC time.
+
+    ``rows_sha256`` is the hash of the rows a database query returned (a query cannot be read
+    again here); a data file is hashed here.
+    """
     now = now or datetime.datetime.now(datetime.timezone.utc)
     config_file = config.config_file
     config_hash = source_sha256(config_file) if config_file else "no config file (built from text)"
+    source = config.data.source
+    if is_query(source):
+        data = {"data_source": source.url, "data_query": source.query,
+                "data_sha256": rows_sha256 or "not recorded (the build did not hash the rows)"}
+    else:
+        data = {"data_source": str(source), "data_sha256": source_sha256(source)}
     return Manifest(
-        config_file=str(config_file), config_sha256=config_hash,
-        data_source=str(config.data.source), data_sha256=source_sha256(config.data.source),
+        config_file=str(config_file), config_sha256=config_hash, **data,
         seed=int(config.samples.seed), versions=package_versions(),
         run_time=now.replace(microsecond=0).isoformat())

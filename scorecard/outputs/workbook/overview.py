@@ -14,6 +14,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from scorecard.build import frames
 from scorecard.card import frames as card_frames
+from scorecard.config.sources import is_query
 from scorecard.outputs.cautions import CAUTION
 from scorecard.outputs.workbook import style
 from scorecard.outputs.workbook.manifest import Manifest
@@ -22,6 +23,7 @@ from scorecard.outputs.workbook.tables import safe_value, set_print_layout, writ
 LABEL_WIDTH, VALUE_WIDTH, VALUE_COLUMNS = 48, 14, 6
 RUN_TIME_LABEL = "Time of the run (UTC)"
 DATA_HASH_LABEL = "Data SHA-256 (of the file, or of a folder's file hashes)"
+QUERY_HASH_LABEL = "Data SHA-256 (of the rows the query returned, in order)"
 READING = ("Colour repeats what signs and words say, so a black-and-white print reads the same: "
            "a blue tint marks lower risk (positive weight of evidence, shown with +), a sand tint "
            "higher risk (negative, shown with -). Every figure names the sample it comes from: "
@@ -95,7 +97,11 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     page.heading("Data")
     # A committee document names the files and their hashes (the run manifest), never a path
     # of the modeller's machine.
-    page.fact("Data file", Path(config.data.source).name)
+    if is_query(config.data.source):
+        page.fact("Data source (database)", config.data.source.shown_url)
+        page.fact("Data query", config.data.source.query)
+    else:
+        page.fact("Data file", Path(config.data.source).name)
     page.fact("Rows read", samples.rows_read, style.COUNT)
     page.fact("Rows left out (outcome neither bad nor good)", samples.left_out, style.COUNT)
     page.table(frames.samples_frame(samples),
@@ -107,7 +113,12 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     inference = getattr(result, "rejects", None)
     if inference is not None:
         page.heading("Declined applications (reject inference)")
-        page.fact("Declined applications file", Path(inference.source).name)
+        rejects = config.rejects.source if config.rejects is not None else inference.source
+        if is_query(rejects):
+            page.fact("Declined applications (database)", rejects.shown_url)
+            page.fact("Declined applications query", rejects.query)
+        else:
+            page.fact("Declined applications file", Path(inference.source).name)
         page.fact("Declined applications read", inference.rows, style.COUNT)
         page.fact("Reject inference method", inference.method)
         page.fact("Rejects' inferred bad rate against the accepts'",
@@ -148,7 +159,7 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     page.heading("Run manifest")
     page.fact("Config file", Path(manifest.config_file).name)
     page.fact("Config file SHA-256", manifest.config_sha256)
-    page.fact(DATA_HASH_LABEL, manifest.data_sha256)
+    page.fact(QUERY_HASH_LABEL if manifest.data_query else DATA_HASH_LABEL, manifest.data_sha256)
     page.fact("Rows read", samples.rows_read, style.COUNT)
     page.fact("Rows per sample", "; ".join(f"{name} {rows:,}" for name, rows in samples.rows.items()))
     page.fact("Random seed of the holdout split", manifest.seed)
