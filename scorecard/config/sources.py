@@ -53,6 +53,9 @@ class DatabaseQuery:
         The environment variable holding the password; None when the database needs none.
     database_file : Path or None
         For an SQLite file, the file, resolved against the config's folder.
+    config_file : str or None
+        The config that gives the query, and ``lines``, the line of each of its keys: the
+        messages of a failed read name them like those of the config reader.
 
     Examples
     --------
@@ -66,6 +69,15 @@ class DatabaseQuery:
     query: str
     password_variable: str | None = None
     database_file: Path | None = None
+    config_file: str | None = None
+    lines: tuple[tuple[str, int], ...] = ()
+
+    def problem(self, key: str, what: str) -> str:
+        """A one-line message about ``key`` of the query (``url``, ``query`` ...)."""
+        where = f"{self.key}.{key}"
+        if self.config_file is None:
+            return f"{where}: {what}"
+        return message(self.config_file, where, what, dict(self.lines).get(key))
 
     def __str__(self) -> str:
         return f"{self.key} ({self.shown_url})"
@@ -101,7 +113,8 @@ def source_value(key: str):
                                   "next time, which changes every random draw made over them "
                                   "(such as the holdout sample)",
                                   source.lines.get(where)), UserWarning, stacklevel=2)
-        return DatabaseQuery(key=key, **values)
+        lines = tuple((name, source.lines[path + (name,)]) for name in values)
+        return DatabaseQuery(key=key, **values, config_file=source.file, lines=lines)
 
     return read
 

@@ -83,7 +83,7 @@ def query_batches(source: DatabaseQuery, chunk_rows: int = CHUNK_ROWS
             try:
                 # Run exactly as written: no bind parameters are looked for in its text.
                 result = connection.execution_options(
-                    stream_results=True, max_row_buffer=chunk_rows).exec_driver_sql(source.query)
+                    yield_per=chunk_rows).exec_driver_sql(source.query)
             except (exc.DBAPIError, exc.StatementError) as error:
                 _fail(source, "query", f"the database refused the query: {_reason(error)}",
                       password)
@@ -132,8 +132,9 @@ def _password(source: DatabaseQuery) -> str | None:
         return None
     value = os.environ.get(name)
     if not value:
-        raise InputError(f"{source.key}.password_variable: the environment variable {name} is "
-                         "not set; it must hold the database password")
+        raise InputError(source.problem("password_variable", f"the environment variable {name} "
+                                                             "is not set; it must hold the "
+                                                             "database password"))
     return value
 
 
@@ -180,7 +181,7 @@ def _reason(error) -> str:
 def _fail(source: DatabaseQuery, key: str, what: str, password: str | None):
     if password:
         what = what.replace(password, "***")
-    raise InputError(f"{source.key}.{key}: {what}") from None
+    raise InputError(source.problem(key, what)) from None
 
 
 def _batch(names: list[str], rows) -> pa.RecordBatch:
