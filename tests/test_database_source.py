@@ -313,3 +313,14 @@ def test_a_postgresql_query_cannot_change_the_database(demo, bad_folder, postgre
     with postgres.connect() as connection:
         assert connection.exec_driver_sql("SELECT last_value, is_called FROM lease_counter"
                                           ).one() == (1, False)
+
+
+def test_a_wrong_postgresql_password_is_one_line_without_the_password(demo, bad_folder, postgres):
+    config, _ = demo
+    source = (f"{{url: '{POSTGRES_URL}', query: SELECT * FROM applications, "
+              "password_variable: LEASE_TEST_WRONG}")
+    line, run = _refused(_bad(config, bad_folder, source),
+                         env={"LEASE_TEST_WRONG": "wrong-password-x7"})
+    assert f"data.source.url: cannot connect to {POSTGRES_URL}" in line
+    assert "password authentication failed" in line
+    assert "wrong-password-x7" not in run.output + run.stderr
