@@ -19,7 +19,6 @@ from scorecard.config import values as v
 from scorecard.config.messages import display, message, shorten
 from scorecard.config.nodes import Source, describe, is_null
 from scorecard.config.rejects import METHOD_SETTINGS, REJECT_METHODS, RejectsConfig
-from scorecard.config.sources import FILE_SETTINGS, is_query, resolve_source, source_value
 from scorecard.config.schema import (
     BinningConfig,
     CharacteristicOverride,
@@ -38,6 +37,7 @@ from scorecard.config.schema import (
     SelectionConfig,
     StabilityConfig,
 )
+from scorecard.config.sources import FILE_SETTINGS, is_query, resolve_source, source_value
 
 __all__ = ["read_config"]
 
@@ -52,11 +52,11 @@ def _engine(source: Source, path: tuple, node: yaml.Node) -> EngineConfig:
     return EngineConfig(**values)
 
 
-def _refuse_dask_query(source: Source, engine: EngineConfig, data: DataConfig,
-                       rejects: RejectsConfig | None) -> None:
-    if engine.dask is None:
+def _refuse_dask_query(source: Source, config: Config) -> None:
+    if config.engine.dask is None:
         return
-    for key, given in (("data", data.source), ("rejects", rejects and rejects.source)):
+    rejects = config.rejects
+    for key, given in (("data", config.data.source), ("rejects", rejects and rejects.source)):
         if is_query(given):
             source.fail(("engine",), f"the Dask engine reads Parquet files, and {key}.source is a "
                                      "database query: use engine: local")
@@ -176,10 +176,7 @@ def read_config(source: Source, root: yaml.MappingNode, base: Path, default_name
     _check_overrides(source, characteristics, reserved)
     _check_keep(source, selection, characteristics, reserved)
     engine = top.get("engine")
-    engine = EngineConfig() if engine is None else _engine(source, ("engine",), engine)
-    rejects = _read_rejects(source, top.get("rejects"), base)
-    _refuse_dask_query(source, engine, data, rejects)
-    return Config(
+    config = Config(
         data=data,
         name=name,
         samples=samples,
@@ -189,7 +186,7 @@ def read_config(source: Source, root: yaml.MappingNode, base: Path, default_name
         scaling=ScalingConfig(**v.section(source, ("scaling",), top.get("scaling"),
                                          _SCALING_SCHEMA)),
         output=_read_output(source, top.get("output"), base),
-        engine=engine,
+        engine=EngineConfig() if engine is None else _engine(source, ("engine",), engine),
         scoring=ScoringConfig(**v.section(source, ("scoring",), top.get("scoring"),
                                          _SCORING_SCHEMA)),
         evaluation=EvaluationConfig(**v.section(source, ("evaluation",), top.get("evaluation"),
@@ -198,11 +195,13 @@ def read_config(source: Source, root: yaml.MappingNode, base: Path, default_name
         fairness=FairnessConfig(**v.section(source, ("fairness",), top.get("fairness"),
                                            _FAIRNESS_SCHEMA)),
         grades=_read_grades(source, top.get("grades")),
-        rejects=rejects,
+        rejects=_read_rejects(source, top.get("rejects"), base),
         config_file=source.file,
         key_lines=FrozenMapping((display(path), line) for path, line in source.lines.items()
                                 if path),
     )
+    _refuse_dask_query(source, config)
+    return config
 
 
 def _resolve(base: Path, written: str | Path) -> Path:
@@ -371,7 +370,8 @@ def _read_grades(source: Source, node: yaml.Node | None) -> GradesConfig | None:
 
 
 _REJECTS_SCHEMA = {
-    "source": source_value("rejects.source"), "method": v.choice(REJECT_METHODS), "bands": v.whole(c.Interval(2)),
+    "source": source_value("rejects.source"), "method": v.choice(REJECT_METHODS),
+    "bands": v.whole(c.Interval(2)),
     "uplift": v.number(c.Interval(0, low_open=True)), "seed": v.optional(v.whole(c.Interval(0))),
     "cutoff": v.optional(v.finite),
     "reject_bad_rate": v.optional(v.number(c.Interval(0, 1, low_open=True, high_open=True))),
