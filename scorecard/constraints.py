@@ -32,7 +32,7 @@ from typing import Any
 
 __all__ = [
     "Interval", "Setting", "cutoffs_in_order",
-    "TRENDS", "KINDS", "METHODS", "UNSEEN_ACTIONS", "OUT_OF_RANGE_ACTIONS",
+    "TRENDS", "KINDS", "METHODS", "UNSEEN_ACTIONS", "OUT_OF_RANGE_ACTIONS", "EXCLUSION_CONDITIONS",
     "HOLDOUT", "SEED",
     "FINE_BINS", "MAX_BINS", "MIN_BIN_SHARE", "MIN_BIN_GOODS", "MIN_BIN_BADS", "TREND",
     "RARE_LEVEL_SHARE", "MAX_LEVELS",
@@ -160,6 +160,9 @@ KINDS = ("numeric", "categorical")
 METHODS = ("stepwise", "all")
 UNSEEN_ACTIONS = ("neutral", "worst", "reject")
 OUT_OF_RANGE_ACTIONS = ("edge", "neutral", "worst", "reject")
+# How an exclusion rule (data.exclude) catches a row: its value is one of a list, below a
+# bound, at least a bound, or missing. One condition per rule, never an expression.
+EXCLUSION_CONDITIONS = ("in", "below", "at_least", "missing")
 
 _SHARE = Interval(0, 1, low_open=True, high_open=True)
 _UP_TO_ONE = Interval(0, 1, low_open=True)

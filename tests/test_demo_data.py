@@ -41,8 +41,9 @@ COLUMNS = [
     "bike_type",
     "sales_channel",
     "phone_contract",
+    "staff_application",
 ]
-CHARACTERISTICS = COLUMNS[4:]
+CHARACTERISTICS = COLUMNS[4:-1]
 USEFUL = [name for name in CHARACTERISTICS if name != "phone_contract"]
 LEVELS = {
     "outcome": {"repaid", "defaulted", "in_arrears"},

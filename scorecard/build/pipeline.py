@@ -35,7 +35,8 @@ from scorecard.card.scorecard import (
     Scorecard,
 )
 from scorecard.data.coding import categorical_codes
-from scorecard.data.outcome import BAD, GOOD, code_outcome
+from scorecard.data.exclusions import exclusion_waterfall, first_rule
+from scorecard.data.outcome import BAD, GOOD, OTHER, code_outcome
 from scorecard.data.read import column_kind, decimal_comma_column
 from scorecard.data.samples import (DEVELOPMENT, EXCLUDED, HOLDOUT, OUT_OF_TIME, SAMPLE_NAMES,
                                     assign_samples, parse_dates)
@@ -106,32 +107,41 @@ def _refuse_decimal_commas(config, name: str, column: pd.Series) -> None:
                          f"',' (or kind: categorical under characteristics.{name} to keep text)")
 
 
-def _outcome_facts(config, engine):
+def _outcome_facts(config, engine) -> tuple[RowFacts, np.ndarray]:
+    """The per-row facts, and the number of the exclusion rule that caught each row (0: none).
+
+    Rows an exclusion rule catches are left out like rows of another outcome, before the
+    samples are drawn, so no later pass counts them.
+    """
     data = config.data
     oot = config.samples.out_of_time
 
     def per_chunk(chunk):
         if data.target not in chunk.columns:
             raise InputError(f"column {data.target}: the target column is not in the data")
+        caught = first_rule(chunk, data.exclude)
         weight = chunk[data.weight] if data.weight else None
         out = code_outcome(chunk[data.target], data.bad, data.good, weight, data.weight or "")
         late = np.zeros(len(chunk), dtype=bool)
         if oot is not None:
             dates = parse_dates(chunk[oot.column], oot.column)
             late = dates >= np.datetime64(pd.Timestamp(oot.from_date), "ns")
-        return out.label, out.weight, late
+        label = np.where(caught > 0, OTHER, out.label).astype(np.int8)
+        return label, np.where(caught > 0, 0.0, out.weight), late, caught
 
     needed = [data.target] + [c for c in (data.weight, oot.column if oot else None) if c]
-    label, weight, late = engine.collect(per_chunk, columns=needed)
+    needed += [rule.column for rule in data.exclude if rule.column not in needed]
+    label, weight, late, caught = engine.collect(per_chunk, columns=list(dict.fromkeys(needed)))
     sample = assign_samples(label, config.samples.holdout, config.samples.seed,
                             late if oot is not None else None)
-    return RowFacts(label, weight, sample)
+    return RowFacts(label, weight, sample), caught
 
 
-def _sample_facts(rows: RowFacts) -> SampleFacts:
+def _sample_facts(rows: RowFacts, excluded: int = 0) -> SampleFacts:
+    """Rows, goods and bads of each sample; ``excluded`` rows are not counted as left out."""
     masks = {name: rows.sample == code for code, name in SAMPLE_NAMES.items()}
     return SampleFacts(
-        len(rows.label), int((rows.sample == EXCLUDED).sum()),
+        len(rows.label), int((rows.sample == EXCLUDED).sum()) - excluded,
         rows={name: int(mask.sum()) for name, mask in masks.items()},
         goods={name: float(rows.weight[mask & (rows.label == GOOD)].sum())
                for name, mask in masks.items()},
@@ -387,15 +397,19 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
 
 
 def _build(config, engine, progress, rows: RowFacts | None = None,
-           fairness: bool = True) -> BuildResult:
-    """The build on the rows of ``engine``; ``rows`` gives their facts when already drawn."""
+           fairness: bool = True, caught: np.ndarray | None = None) -> BuildResult:
+    """The build on the rows of ``engine``; ``rows`` gives their facts when already drawn,
+    ``caught`` the exclusion rule of each (None: rows that are not the data file's alone)."""
     reports: dict = {}
     head = engine.sample_rows()
     kinds = _candidate_kinds(config, head, reports)
 
     if rows is None:
-        rows = _outcome_facts(config, engine)
-    facts = _sample_facts(rows)
+        rows, caught = _outcome_facts(config, engine)
+    facts = _sample_facts(rows, 0 if caught is None else int(np.count_nonzero(caught)))
+    waterfall = None if caught is None else exclusion_waterfall(
+        config.data.exclude, caught, facts.left_out,
+        {name: count for name, count in facts.rows.items() if count})
     dev_goods, dev_bads = facts.goods["development"], facts.bads["development"]
     if dev_goods <= 0 or dev_bads <= 0:
         held = engine.reduce(lambda c: column_summary(c, {config.data.target: "categorical"}, {}),
@@ -404,7 +418,9 @@ def _build(config, engine, progress, rows: RowFacts | None = None,
         raise InputError(f"column {config.data.target}: the development sample needs both goods "
                          f"and bads (found {dev_goods:g} goods, {dev_bads:g} bads); data.bad and "
                          f"data.good must name values the column holds: {shown}")
-    _say(progress, f"outcome coded: {facts.rows_read} rows, {facts.left_out} left out")
+    excluded = "" if waterfall is None or not config.data.exclude else \
+        f", {waterfall.excluded} excluded by data.exclude"
+    _say(progress, f"outcome coded: {facts.rows_read} rows{excluded}, {facts.left_out} left out")
 
     sentinels = {n: _sentinels(config, n) for n, k in kinds.items() if k == "numeric"}
     summary = engine.reduce(lambda c: column_summary(c, kinds, sentinels), merge_summaries,
@@ -483,7 +499,7 @@ def _build(config, engine, progress, rows: RowFacts | None = None,
     # The model file carries the development distributions and every column's fate, so that
     # monitoring and diffs need only the model file.
     card = replace(card, development=_development(card, histograms, perf, facts, config, ordered),
-                   fates=tuple(_fate(r) for r in ordered))
+                   fates=tuple(_fate(r) for r in ordered), exclusions=config.data.exclude)
     # The same raw columns the card could use: every characteristic that was classed.
     compared = benchmark(engine, rows, card, {c.name: layouts[c.name] for c in binned},
                          config.samples.seed)
@@ -498,7 +514,7 @@ def _build(config, engine, progress, rows: RowFacts | None = None,
     return BuildResult(config, card, ordered, selection, facts, histograms, perf, gains,
                        gains_sample, starts, patterns, stability, fairness=fairness,
                        unmeasured=unmeasured, extreme_values=extreme,
-                       benchmark=compared)
+                       benchmark=compared, waterfall=waterfall)
 
 
 def _check_settings(config, engine, layouts: dict, counts: dict) -> None:
@@ -590,8 +606,8 @@ def _build_with_rejects(config, engine, rejects_engine, progress) -> BuildResult
     Holdout and out-of-time samples stay accepts only: the inferred rejects join development.
     """
     r = config.rejects
-    rows = _outcome_facts(config, engine)
-    accepts_only = _build(config, engine, progress, rows)
+    rows, caught = _outcome_facts(config, engine)
+    accepts_only = _build(config, engine, progress, rows, caught=caught)
     own = rejects_engine is None
     if own:
         rejects_engine = LocalEngine(read_source(r.source, encoding=r.encoding,
@@ -677,7 +693,8 @@ def _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progr
             unit="weights" if config.data.weight else "rows")
         card = replace(final.card, development=_development(final.card, histograms, perf,
                                                             samples, config, reports))
-        final = replace(final, card=card, samples=samples, histograms=histograms,
+        final = replace(final, card=card, samples=samples, waterfall=accepts_only.waterfall,
+                        histograms=histograms,
                         reports=reports, performance=perf, stability=stability,
                         fairness=compute_fairness(config, engine, rows, card))
     inference = rejects.RejectInference(

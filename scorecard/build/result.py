@@ -16,6 +16,7 @@ import pandas as pd
 from scorecard.build.rejects import RejectInference
 from scorecard.card.scorecard import Characteristic, Scorecard
 from scorecard.config import Config
+from scorecard.data.exclusions import Waterfall
 from scorecard.engines.patterns import Patterns
 from scorecard.evaluation.benchmark import Benchmark
 from scorecard.evaluation.fairness import FairnessReport
@@ -78,6 +79,9 @@ class BuildResult:
     previous: Scorecard | None = None   # the model file this build replaced, when one loaded
     rejects: RejectInference | None = None   # without declined applications: None
     rows_sha256: str | None = None   # of the rows a database query returned (set by api.build)
+    # Rows read, removed by each data.exclude rule, of another outcome, used (None: not built
+    # from a data file's rows).
+    waterfall: Waterfall | None = None
 
     def tables(self) -> dict:
         """Every table the workbook shows, as DataFrames keyed by the sheet's name for them.
@@ -88,6 +92,7 @@ class BuildResult:
         from scorecard.card import frames as card_frames
         return {
             "Samples": frames.samples_frame(self.samples),
+            **({} if self.waterfall is None else {"Exclusions": self.waterfall.frame()}),
             "Discrimination": frames.discrimination_frame(self.performance),
             "Characteristics": frames.characteristics_frame(self.reports),
             "Bins": frames.bins_frame(self.reports),

@@ -7,9 +7,10 @@ config or the data. The workbook, scoring, stability reports and exports read th
 
 Beside the card, the file carries what monitoring and comparing builds need without the
 development data (all optional, so files written before them still load): the development
-score histogram and the measured AUC, Gini and KS of every sample (:class:`Development`), and
-the fate of every characteristic the build considered (:class:`Fate`). Each bin's development
-goods and bads, and each characteristic's information value, were there from the start.
+score histogram and the measured AUC, Gini and KS of every sample (:class:`Development`), the
+fate of every characteristic the build considered (:class:`Fate`) and the exclusion rules the
+build applied. Each bin's development goods and bads, and each characteristic's information
+value, were there from the start.
 """
 
 from __future__ import annotations
@@ -20,6 +21,7 @@ from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
 from scorecard.card.points import Scaling
+from scorecard.config.exclusions import ExclusionRule
 from scorecard.constraints import REASONS, SCALE_LIMIT
 from scorecard.errors import InputError
 
@@ -167,6 +169,8 @@ class Scorecard:
     # How declined applicants were brought into the build (method, settings, bad rates); empty
     # for a card built on accepts alone without declined applications.
     inference: dict = field(default_factory=dict)
+    # The rules of data.exclude the build applied, so that scoring can apply them when asked.
+    exclusions: tuple[ExclusionRule, ...] = ()
 
     @property
     def dropped(self) -> tuple[Fate, ...]:
@@ -242,6 +246,8 @@ def _extras_dict(card: Scorecard) -> dict:
                         for f in card.fates]
     if card.inference:
         out["reject_inference"] = card.inference
+    if card.exclusions:
+        out["exclusions"] = [rule.record() for rule in card.exclusions]
     return out
 
 
@@ -277,7 +283,8 @@ def _scorecard_from_dict(raw, source: str) -> Scorecard:
                          _count(raw.get("reasons", REASONS.default), "reasons"),
                          _development_from_dict(raw.get("development")),
                          tuple(_fate_from_dict(f) for f in raw.get("fates", [])),
-                         dict(raw.get("reject_inference", {})))
+                         dict(raw.get("reject_inference", {})),
+                         tuple(ExclusionRule.from_record(r) for r in raw.get("exclusions", [])))
     except (KeyError, TypeError, ValueError) as exc:
         raise InputError(f"{source}: model file is incomplete or malformed ({exc})") from None
     _check_consistent(card, source)

@@ -19,7 +19,8 @@ def check_columns(config: Config, columns: Iterable[str]) -> None:
     """Check that every column the config names is present in the data.
 
     Checked: the target, the weight, ignored and protected columns, the out-of-time date
-    column, characteristics with an override and forced-in characteristics.
+    column, characteristics with an override, forced-in characteristics and the columns of
+    exclusion rules.
 
     Parameters
     ----------
@@ -65,3 +66,5 @@ def _named_columns(config: Config) -> Iterator[tuple[tuple, str]]:
         yield ("characteristics", name), name
     for index, column in enumerate(config.selection.keep):
         yield ("selection", "keep", index), column
+    for index, rule in enumerate(data.exclude):
+        yield ("data", "exclude", index, "column"), rule.column

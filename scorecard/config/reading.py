@@ -16,6 +16,7 @@ import yaml
 
 from scorecard import constraints as c
 from scorecard.config import values as v
+from scorecard.config.exclusions import read_exclusions
 from scorecard.config.messages import display, message, shorten
 from scorecard.config.nodes import Source, describe, is_null
 from scorecard.config.rejects import METHOD_SETTINGS, REJECT_METHODS, RejectsConfig
@@ -80,7 +81,7 @@ _DATA_SCHEMA = {
     "source": source_value("data.source"), "target": v.text, "bad": _outcomes, "good": _outcomes,
     "weight": v.optional(v.text), "ignore": _columns, "protected": _columns,
     "encoding": v.encoding, "delimiter": v.delimiter, "decimal": v.choice((".", ",")),
-    "sheet": v.optional(v.text),
+    "sheet": v.optional(v.text), "exclude": read_exclusions,
 }
 _SAMPLES_SCHEMA = {
     "holdout": v.optional(v.setting(c.HOLDOUT)),

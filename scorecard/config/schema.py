@@ -17,7 +17,8 @@ from typing import TYPE_CHECKING, Generic, TypeVar, Union
 from scorecard import constraints as c
 from scorecard.config.rejects import RejectsConfig
 
-if TYPE_CHECKING:
+if TYPE_CHECKING:   # the exclusion rules' reader imports this module's value types
+    from scorecard.config.exclusions import ExclusionRule
     from scorecard.config.sources import DatabaseQuery
 
 __all__ = [
@@ -113,6 +114,9 @@ class DataConfig:
         Decimal mark of the numbers in a CSV source: ``.`` or ``,``.
     sheet : str or None
         The sheet of an ``.xlsx`` source, by name (None: the first sheet).
+    exclude : tuple of ExclusionRule
+        Rules that keep rows out of the build before anything is counted, in order: a row is
+        counted against the first rule it meets.
     """
 
     source: Path | DatabaseQuery
@@ -126,6 +130,7 @@ class DataConfig:
     delimiter: str = ","
     decimal: str = "."
     sheet: str | None = None
+    exclude: tuple[ExclusionRule, ...] = ()
 
 
 @dataclass(frozen=True, slots=True)

@@ -26,8 +26,8 @@ class Outcome(NamedTuple):
 _YES_WORDS, _NO_WORDS = ("true", "yes", "on"), ("false", "no", "off")
 
 
-def _matches(labels: list[str], values) -> np.ndarray:
-    """Which levels ``labels`` an outcome list names.
+def matching_levels(labels: list[str], values) -> np.ndarray:
+    """Which levels ``labels`` a list of values names (an outcome list, an exclusion rule).
 
     Text matches exactly as written: ``'Yes'`` is not ``yes``, ``true`` or ``on``. A number
     matches the level that reads as it (``1.0`` finds ``1``). An unquoted yes/no word, which
@@ -54,7 +54,8 @@ def code_outcome(series: pd.Series, bad, good, weight: pd.Series | None = None,
     """
     cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
     labels = level_labels(cat.cat.categories)
-    lookup = np.where(_matches(labels, bad), BAD, np.where(_matches(labels, good), GOOD, OTHER))
+    lookup = np.where(matching_levels(labels, bad), BAD,
+                      np.where(matching_levels(labels, good), GOOD, OTHER))
     codes = cat.cat.codes.to_numpy()
     label = np.where(codes < 0, OTHER, lookup[codes] if len(lookup) else OTHER).astype(np.int8)
     w = np.ones(len(series)) if weight is None else _weights(weight, weight_name)

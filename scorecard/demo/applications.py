@@ -17,6 +17,8 @@ What the design builds in, so that each step of the build has something to find:
   as a candidate so that it visibly falls below the information value floor.
 * About 2% of outcomes are the indeterminate ``in_arrears``, chosen at random, so that the
   good/bad model among the remaining rows is exactly the designed logistic model.
+* ``staff_application`` is ``yes`` for about 1.5% of rows, at random: the lender's own staff
+  lease on other terms, so the demo config excludes them from the build (``data.exclude``).
 
 ``drift=True`` draws a fresh sample (its own random stream) in which only the characteristics
 named in :data:`DRIFTED_CHARACTERISTICS` have a shifted distribution; the risk model is the same.
@@ -46,6 +48,9 @@ _OUT_OF_TIME_FROM = "2025-07-01"
 _DRIFT_STREAM = 1
 # The older score's noise has a stream of its own, so adding it changes no other column.
 _PREVIOUS_SCORE_STREAM = 2
+# So has the staff flag, for the same reason.
+_STAFF_STREAM = 3
+_STAFF_SHARE = 0.015
 
 _AGE_BANDS = ("18-25", "26-35", "36-50", "51-65", "66+")
 _AGE_SHARES = (0.16, 0.30, 0.30, 0.17, 0.07)
@@ -145,8 +150,8 @@ def make_applications(rows: int = 20_000, seed: int = 2024, drift: bool = False)
     pandas.DataFrame
         One row per application, ordered by ``decided_on``: ``application_id``,
         ``decided_on``, ``outcome`` ('repaid', 'defaulted' or 'in_arrears'), ``age_band``
-        (protected) and the characteristics. Missing values are NaN; ``late_payments_12m``
-        is -999 where the applicant has no credit file.
+        (protected), the characteristics and ``staff_application`` ('yes' or 'no'). Missing
+        values are NaN; ``late_payments_12m`` is -999 where the applicant has no credit file.
 
     Raises
     ------
@@ -157,7 +162,7 @@ def make_applications(rows: int = 20_000, seed: int = 2024, drift: bool = False)
     --------
     >>> frame = make_applications(rows=1000, seed=7)
     >>> frame.shape
-    (1000, 18)
+    (1000, 19)
     >>> sorted(frame["outcome"].unique())
     ['defaulted', 'in_arrears', 'repaid']
     """
@@ -172,8 +177,15 @@ def make_applications(rows: int = 20_000, seed: int = 2024, drift: bool = False)
             "decided_on": _FIRST_DAY + np.sort(rng.integers(0, _DAYS, size=rows)),
             "outcome": pd.Series(outcome, dtype="str"),
             **_as_columns(draws),
+            "staff_application": _staff_flags(rows, seed, drift),
         }
     )
+
+
+def _staff_flags(rows: int, seed: int, drift: bool) -> np.ndarray:
+    """'yes' for the lender's own staff, at random; drawn apart so no other column changes."""
+    rng = np.random.default_rng([seed, _STAFF_STREAM, int(drift)])
+    return np.where(rng.random(rows) < _STAFF_SHARE, "yes", "no")
 
 
 def add_previous_score(frame: pd.DataFrame, seed: int = 2024) -> pd.DataFrame:
@@ -506,7 +518,11 @@ data:
   weight: null                      # every application counts once
   # The identifier carries no information; the decision date must not become a
   # characteristic, but it still defines the out-of-time sample below.
-  ignore: [application_id, decided_on]
+  ignore: [application_id, decided_on, staff_application]
+  # Staff lease on other terms, so their applications say nothing about the customers the
+  # card will decide on: they leave the build first, and the Overview counts them.
+  exclude:
+    - {{column: staff_application, in: [yes], reason: Staff application (other lease terms)}}
   # Age may not be used to decide. It is kept out of the model and examined afterwards, to see
   # whether a characteristic acts as a stand-in for it (months_at_address partly does).
   protected: [age_band]
