@@ -141,14 +141,18 @@ def _previous_card(model_path: Path):
         return None
 
 
-def score(model, data, out, *, keep=(), reasons=None, reason_text=False):
+def score(model, data, out, *, keep=(), reasons=None, reason_text=False,
+          apply_exclusions=False):
     """Score every row of ``data`` with the model file ``model`` and write ``out``.
 
     Returns the :class:`~scorecard.outputs.scored_file.ScoringSummary` of the run;
-    ``reasons`` defaults to the model's own number of reason codes.
+    ``reasons`` defaults to the model's own number of reason codes. Every row is scored unless
+    ``apply_exclusions``: then a row one of the model's exclusion rules catches gets the rule's
+    reason in the ``exclusion_reason`` column and no score.
     """
     from scorecard.outputs.scored_file import score_file
-    return score_file(model, data, out, keep=keep, reasons=reasons, reason_text=reason_text)
+    return score_file(model, data, out, keep=keep, reasons=reasons, reason_text=reason_text,
+                      apply_exclusions=apply_exclusions)
 
 
 def compare(model, baseline, current, *, bands=None, json_path=None, workbook=None):

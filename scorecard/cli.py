@@ -148,10 +148,14 @@ def init(data, target, out):
 @click.option("--reasons", type=click.IntRange(min=0), default=None,
               help="Reason codes per row [default: the model's, from scoring.reasons].")
 @click.option("--reason-text", is_flag=True, help="Write each reason's text instead of its code.")
-def score(model, data, out, keep, reasons, reason_text):
+@click.option("--apply-exclusions", is_flag=True,
+              help="Apply the model's exclusion rules (data.exclude): a row a rule catches gets "
+                   "its reason in column exclusion_reason instead of a score.")
+def score(model, data, out, keep, reasons, reason_text, apply_exclusions):
     """Apply a built scorecard MODEL to the rows of DATA."""
     from scorecard import api
-    summary = api.score(model, data, out, keep=keep, reasons=reasons, reason_text=reason_text)
+    summary = api.score(model, data, out, keep=keep, reasons=reasons, reason_text=reason_text,
+                        apply_exclusions=apply_exclusions)
     click.echo(summary.text())
 
 

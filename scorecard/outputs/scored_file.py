@@ -9,7 +9,10 @@ Columns of the scored file, in order: the ``keep`` columns as read, ``score``,
 ``bad_probability``, ``points_<name>`` for each characteristic, ``reason_1`` ... ``reason_N``.
 A row that the scorecard refuses (a bin whose config rule is ``reject``) gets an empty score,
 an empty bad probability, empty points for the refusing characteristic and
-``REJECTED:<name>`` as its reasons. Reasons are stored dictionary-encoded: a handful of labels
+``REJECTED:<name>`` as its reasons. Asked to apply the exclusion rules the model file records
+(``apply_exclusions``), the file has an ``exclusion_reason`` column after ``score``: for a row
+a rule catches it holds the reason of the first such rule, and the score, bad probability,
+points and reasons of that row are empty. Reasons are stored dictionary-encoded: a handful of labels
 and one small integer per row.
 """
 
@@ -30,6 +33,7 @@ import pyarrow.parquet as pq
 from scorecard.card.scorecard import MISSING, OUT_OF_RANGE, UNSEEN, Scorecard, load_scorecard
 from scorecard.card.scoring import UnusualValues, apply_scorecard, bad_probability, reason_codes
 from scorecard.constraints import REASONS
+from scorecard.data.exclusions import first_rule
 from scorecard.data.formats import (
     PARQUET_SUFFIXES,
     data_format,
@@ -45,10 +49,14 @@ CHUNK_ROWS = 1 << 18
 CSV_BLOCK_BYTES = 1 << 24
 OUTPUT_SUFFIXES = (".csv", ".tsv") + PARQUET_SUFFIXES
 _TEXT = pa.dictionary(pa.int32(), pa.string())
+EXCLUSION_COLUMN = "exclusion_reason"
 
 
 class ScoringSummary(NamedTuple):
     """What ``scorecard score`` did: rows scored, refused, and unusual values per characteristic.
+
+    ``excluded`` maps the reason of each exclusion rule to the rows it caught (empty unless the
+    rules were applied); those rows are not counted as refused.
 
     ``unusual`` maps a characteristic to its :class:`~scorecard.card.scoring.UnusualValues` counts,
     ``refused`` to the rows it refused, ``treatment`` to how the scorecard scores each kind of
@@ -61,11 +69,13 @@ class ScoringSummary(NamedTuple):
     out: Path
     refused: dict
     treatment: dict
+    excluded: dict = {}
 
     def text(self) -> str:
         """Lines for the command line: the totals, then one line per characteristic affected."""
         lines = [f"scored {self.rows} rows into {self.out}" +
                  (f"; {self.rejected} refused" if self.rejected else "")]
+        lines += [f"  excluded ({reason}): {count}" for reason, count in self.excluded.items()]
         for name, counts in self.unusual.items():
             ways = self.treatment[name]
             parts = [f"{_CASE_WORDS[case]}: {count} ({ways[case]})"
@@ -81,7 +91,8 @@ _CASE_WORDS = {"unseen_levels": "levels not seen in development",
 
 
 def score_file(model, data, out, keep=(), reasons: int | None = None, *,
-               reason_text: bool = False, encoding: str = "utf-8", delimiter: str = ",",
+               reason_text: bool = False, apply_exclusions: bool = False,
+               encoding: str = "utf-8", delimiter: str = ",",
                chunk_rows: int = CHUNK_ROWS, csv_block_bytes: int = CSV_BLOCK_BYTES) -> ScoringSummary:
     """Score every row of ``data`` with a scorecard and write ``out`` (CSV or Parquet).
 
@@ -101,6 +112,10 @@ def score_file(model, data, out, keep=(), reasons: int | None = None, *,
         Reason columns per row (0 for none); the scorecard's own number when None.
     reason_text : bool
         Write each reason's text instead of its code.
+    apply_exclusions : bool
+        Apply the model's exclusion rules (``data.exclude`` of its build): a row a rule
+        catches gets the rule's reason in ``exclusion_reason`` and no score. By default every
+        row is scored.
     encoding, delimiter : str
         How to read a CSV file.
     chunk_rows : int
@@ -144,28 +159,35 @@ def score_file(model, data, out, keep=(), reasons: int | None = None, *,
         raise InputError(f"--reasons {reasons}: must be at least 0")
     if chunk_rows < 1 or csv_block_bytes < 1:
         raise ValueError("chunk_rows and csv_block_bytes must be positive")
-    counts = _Counts(card)
+    if apply_exclusions and not card.exclusions:
+        raise InputError(f"--apply-exclusions: {model if card is not model else 'the model'} "
+                         "records no exclusion rules (its build had no data.exclude)")
+    counts = _Counts(card, apply_exclusions)
     with _open_source(card, data, keep, encoding, delimiter, chunk_rows,
-                      csv_block_bytes) as (schema, batches):
-        out_schema = scored_schema(card, schema, keep, reasons)
+                      csv_block_bytes, apply_exclusions) as (schema, batches):
+        out_schema = scored_schema(card, schema, keep, reasons, apply_exclusions)
 
         def write_rows(tmp: Path) -> None:
             with _open_writer(tmp, out, out_schema) as write:
                 for batch in batches:
-                    scored, scores = scored_batch(card, batch, keep, reasons, reason_text,
-                                                  out_schema)
+                    scored, scores, caught = scored_batch(card, batch, keep, reasons, reason_text,
+                                                          out_schema, apply_exclusions)
                     write(scored)
-                    counts.add(scores)
+                    counts.add(scores, caught)
 
         with staged(target) as pending:
             pending.write("--out", write_rows)
     return counts.summary(out)
 
 
-def scored_schema(card: Scorecard, source: pa.Schema, keep=(), reasons: int = REASONS.default) -> pa.Schema:
+def scored_schema(card: Scorecard, source: pa.Schema, keep=(), reasons: int = REASONS.default,
+                  exclusions: bool = False) -> pa.Schema:
     """Schema of the scored file for input columns ``source``; InputError on a name clash."""
     fields = [source.field(k) for k in keep]
-    fields += [pa.field("score", pa.int64()), pa.field("bad_probability", pa.float64())]
+    fields.append(pa.field("score", pa.int64()))
+    if exclusions:
+        fields.append(pa.field(EXCLUSION_COLUMN, _TEXT))
+    fields.append(pa.field("bad_probability", pa.float64()))
     fields += [pa.field(f"points_{c.name}", pa.int64()) for c in card.characteristics]
     fields += [pa.field(f"reason_{i + 1}", _TEXT) for i in range(reasons)]
     names = [f.name for f in fields]
@@ -176,14 +198,26 @@ def scored_schema(card: Scorecard, source: pa.Schema, keep=(), reasons: int = RE
 
 
 def scored_batch(card: Scorecard, batch: pa.RecordBatch, keep=(), reasons: int = REASONS.default,
-                 reason_text: bool = False, schema: pa.Schema | None = None):
-    """Score one batch of rows; return the output batch and the raw :class:`Scores`."""
-    schema = schema or scored_schema(card, batch.schema, keep, reasons)
+                 reason_text: bool = False, schema: pa.Schema | None = None,
+                 exclusions: bool = False):
+    """Score one batch of rows; return the output batch, the raw :class:`Scores` and the
+    number of the exclusion rule that caught each row (0: none; all 0 unless ``exclusions``)."""
+    schema = schema or scored_schema(card, batch.schema, keep, reasons, exclusions)
     s = apply_scorecard(card, _characteristic_frame(card, batch))
+    caught = np.zeros(batch.num_rows, dtype=np.int16)
+    if exclusions:
+        columns = list(dict.fromkeys(rule.column for rule in card.exclusions))
+        caught = first_rule(batch.select(columns).to_pandas(), card.exclusions)
+    out = caught > 0
     arrays = [batch.column(k).cast(schema.field(k).type) for k in keep]
-    arrays.append(pa.array(s.score, mask=s.rejected))
-    arrays.append(pa.array(bad_probability(card, s.score), type=pa.float64(), mask=s.rejected))
-    arrays += [pa.array(np.ascontiguousarray(s.points[:, j]), mask=s.refused[:, j])
+    arrays.append(pa.array(s.score, mask=s.rejected | out))
+    if exclusions:
+        why = pa.array([rule.reason for rule in card.exclusions], type=pa.string())
+        arrays.append(pa.DictionaryArray.from_arrays(
+            pa.array(caught.astype(np.int32) - 1, mask=~out), why))
+    arrays.append(pa.array(bad_probability(card, s.score), type=pa.float64(),
+                           mask=s.rejected | out))
+    arrays += [pa.array(np.ascontiguousarray(s.points[:, j]), mask=s.refused[:, j] | out)
                for j in range(len(card.characteristics))]
     if reasons:
         ranked = reason_codes(card, s.points, reasons, s.refused, reason_text)
@@ -191,8 +225,8 @@ def scored_batch(card: Scorecard, batch: pa.RecordBatch, keep=(), reasons: int =
         for i in range(reasons):
             column = ranked.index[:, i]
             arrays.append(pa.DictionaryArray.from_arrays(
-                pa.array(column, type=pa.int32(), mask=column < 0), labels))
-    return pa.RecordBatch.from_arrays(arrays, schema=schema), s
+                pa.array(column, type=pa.int32(), mask=(column < 0) | out), labels))
+    return pa.RecordBatch.from_arrays(arrays, schema=schema), s, caught
 
 
 def _characteristic_frame(card: Scorecard, batch: pa.RecordBatch):
@@ -214,15 +248,17 @@ def _characteristic_frame(card: Scorecard, batch: pa.RecordBatch):
 class _Counts:
     """Running totals over the chunks."""
 
-    def __init__(self, card: Scorecard):
-        self.card = card
+    def __init__(self, card: Scorecard, applied: bool):
+        self.card, self.applied = card, applied
         self.rows = self.rejected = 0
         self.unusual = {c.name: UnusualValues(0, 0, 0) for c in card.characteristics}
         self.refused = {c.name: 0 for c in card.characteristics}
+        self.caught = np.zeros(len(card.exclusions) + 1, dtype=np.int64)
 
-    def add(self, scores) -> None:
+    def add(self, scores, caught: np.ndarray) -> None:
         self.rows += len(scores.score)
-        self.rejected += int(scores.rejected.sum())
+        self.rejected += int((scores.rejected & (caught == 0)).sum())
+        self.caught += np.bincount(caught, minlength=len(self.caught))
         for j, c in enumerate(self.card.characteristics):
             before, now = self.unusual[c.name], scores.unusual[c.name]
             self.unusual[c.name] = UnusualValues(*(a + b for a, b in zip(before, now)))
@@ -233,7 +269,11 @@ class _Counts:
                               "unseen_missing": _treatment(c, MISSING),
                               "out_of_range": _treatment(c, OUT_OF_RANGE)}
                      for c in self.card.characteristics}
-        return ScoringSummary(self.rows, self.rejected, self.unusual, out, self.refused, treatment)
+        excluded = {}
+        for rule, count in zip(self.card.exclusions, self.caught[1:]):
+            excluded[rule.reason] = excluded.get(rule.reason, 0) + int(count)
+        return ScoringSummary(self.rows, self.rejected, self.unusual, out, self.refused, treatment,
+                              excluded if self.applied else {})
 
 
 def _treatment(char, kind: str) -> str:
@@ -245,34 +285,37 @@ def _treatment(char, kind: str) -> str:
 
 
 @contextlib.contextmanager
-def _open_source(card, path: Path, keep, encoding, delimiter, chunk_rows, block_bytes):
-    """Yield (schema, iterator of batches of at most ``chunk_rows`` rows) for the data file."""
+def _open_source(card, path: Path, keep, encoding, delimiter, chunk_rows, block_bytes,
+                 exclusions: bool = False):
+    """Yield (schema, iterator of batches of at most ``chunk_rows`` rows) for the data file;
+    with ``exclusions`` the batches hold the columns of the model's exclusion rules too."""
     if not path.exists():
         raise InputError(f"{path}: data file not found")
+    rules = card.exclusions if exclusions else ()
     with contextlib.ExitStack() as stack:
         try:
             schema, batches = _batches(card, path, keep, encoding, delimiter, chunk_rows,
-                                       block_bytes, stack)
+                                       block_bytes, stack, rules)
         except (pa.ArrowInvalid, pa.ArrowKeyError, OSError, UnicodeDecodeError) as exc:
             raise InputError(f"{path}: cannot read the data: {first_line(exc)}") from None
         yield schema, _guarded(path, batches, chunk_rows)
 
 
-def _batches(card, path: Path, keep, encoding, delimiter, chunk_rows, block_bytes, stack):
+def _batches(card, path: Path, keep, encoding, delimiter, chunk_rows, block_bytes, stack, rules):
     # Levels are read straight into dictionaries: one string per distinct level, not per row.
     levels = [c.name for c in card.characteristics if c.kind == "categorical"]
     if path.is_dir():
         form = pads.ParquetFileFormat(dictionary_columns=levels)
         dataset = pads.dataset(path, format=form)
-        columns = _needed(card, path, dataset.schema.names, keep)
+        columns = _needed(card, path, dataset.schema.names, keep, rules)
         return dataset.schema, dataset.to_batches(columns=columns, batch_size=chunk_rows)
     kind = data_format(path)
     if kind == "parquet":
-        columns = _needed(card, path, pq.read_schema(path).names, keep)
+        columns = _needed(card, path, pq.read_schema(path).names, keep, rules)
         file = stack.enter_context(pq.ParquetFile(path, read_dictionary=levels))
         return file.schema_arrow, file.iter_batches(batch_size=chunk_rows, columns=columns)
     if kind in ("csv", "zip"):
-        reader = _csv_reader(card, path, keep, encoding, delimiter, block_bytes)
+        reader = _csv_reader(card, path, keep, encoding, delimiter, block_bytes, rules)
         stack.callback(reader.close)
         return reader.schema, reader
     if kind == "statistical":
@@ -280,11 +323,11 @@ def _batches(card, path: Path, keep, encoding, delimiter, chunk_rows, block_byte
         first = next(batches, None)
         if first is None:
             raise InputError(f"{path}: the dataset holds no rows")
-        columns = _needed(card, path, first.schema.names, keep)
+        columns = _needed(card, path, first.schema.names, keep, rules)
         rest = (b.select(columns) for b in batches)
         return first.select(columns).schema, itertools.chain([first.select(columns)], rest)
     table = read_spreadsheet(path, None)
-    columns = _needed(card, path, table.column_names, keep)
+    columns = _needed(card, path, table.column_names, keep, rules)
     table = table.select(columns)
     return table.schema, table.to_batches(max_chunksize=chunk_rows)
 
@@ -300,7 +343,7 @@ def _guarded(path: Path, batches, chunk_rows: int) -> Iterator[pa.RecordBatch]:
         raise InputError(f"{path}: cannot read the data: {first_line(exc)}") from None
 
 
-def _needed(card, path: Path, names, keep) -> list[str]:
+def _needed(card, path: Path, names, keep, rules=()) -> list[str]:
     """The columns to read; InputError naming a column that is absent or repeated."""
     names = list(names)
     for name in names:
@@ -313,10 +356,14 @@ def _needed(card, path: Path, names, keep) -> list[str]:
         if c.name not in names:
             raise InputError(f"{path}: column {c.name}: the scorecard needs it but the data "
                              "lacks it")
-    return list(dict.fromkeys(list(keep) + list(card.names)))
+    for rule in rules:
+        if rule.column not in names:
+            raise InputError(f"{path}: column {rule.column}: the exclusion rule "
+                             f"'{rule.describe()}' needs it but the data lacks it")
+    return list(dict.fromkeys(list(keep) + list(card.names) + [r.column for r in rules]))
 
 
-def _csv_reader(card, path: Path, keep, encoding, delimiter, block_bytes):
+def _csv_reader(card, path: Path, keep, encoding, delimiter, block_bytes, rules=()):
     if path.stat().st_size == 0:
         raise InputError(f"{path}: the file is empty")
     parse = pacsv.ParseOptions(delimiter="\t" if is_tab_separated(path) else delimiter)
@@ -325,10 +372,15 @@ def _csv_reader(card, path: Path, keep, encoding, delimiter, block_bytes):
                             parse_options=parse)
     names = header.schema.names
     header.close()
-    columns = _needed(card, path, names, keep)
+    columns = _needed(card, path, names, keep, rules)
     # Types are fixed for the characteristics, so that a block whose first rows are all missing
     # cannot be read as another type; levels keep their text, dictionary-encoded per block.
-    types = {c.name: pa.float64() if c.kind == "numeric" else _TEXT for c in card.characteristics}
+    # A column only exclusion rules read is a number where a rule compares it with a bound,
+    # else text (an 'in' rule matches numbers written as text by their value).
+    types = {r.column: pa.float64() if r.condition in ("below", "at_least") else _TEXT
+             for r in sorted(rules, key=lambda r: r.condition in ("below", "at_least"))}
+    types.update({c.name: pa.float64() if c.kind == "numeric" else _TEXT
+                  for c in card.characteristics})
     convert = pacsv.ConvertOptions(strings_can_be_null=True, column_types=types,
                                    include_columns=columns)
     return pacsv.open_csv(csv_source(path), read_options=pacsv.ReadOptions(encoding=encoding,

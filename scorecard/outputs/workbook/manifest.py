@@ -32,6 +32,7 @@ class Manifest(NamedTuple):
     versions: tuple[tuple[str, str], ...]
     run_time: str
     data_query: str = ""            # the query, when the data came from a database
+    exclusions: tuple[str, ...] = ()    # each rule of data.exclude with its reason, in order
 
 
 def file_sha256(path) -> str:
@@ -99,4 +100,5 @@ def run_manifest(config, now: datetime.datetime | None = None,
     return Manifest(
         config_file=str(config_file), config_sha256=config_hash, **data,
         seed=int(config.samples.seed), versions=package_versions(),
-        run_time=now.replace(microsecond=0).isoformat())
+        run_time=now.replace(microsecond=0).isoformat(),
+        exclusions=tuple(f"{rule.describe()}: {rule.reason}" for rule in config.data.exclude))

@@ -107,6 +107,10 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     page.table(frames.samples_frame(samples),
                {"Rows": style.COUNT, "Goods": style.COUNT, "Bads": style.COUNT,
                 "Bad rate": style.PERCENT})
+    waterfall = getattr(result, "waterfall", None)
+    if waterfall is not None:
+        page.heading("From rows read to rows used (exclusion waterfall)")
+        page.table(waterfall.frame(), {"Rows removed": style.COUNT, "Rows left": style.COUNT})
     for name, what in getattr(result, "extreme_values", {}).items():
         page.paragraph(f"Warning: column {name}: {what}.", style.BOLD)
 
@@ -163,6 +167,8 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     page.fact("Rows read", samples.rows_read, style.COUNT)
     page.fact("Rows per sample", "; ".join(f"{name} {rows:,}" for name, rows in samples.rows.items()))
     page.fact("Random seed of the holdout split", manifest.seed)
+    for number, rule in enumerate(manifest.exclusions, start=1):
+        page.fact(f"Exclusion rule {number} (data.exclude)", rule)
     for name, version in manifest.versions:
         page.fact(f"Version of {name}", version)
     page.fact(RUN_TIME_LABEL, manifest.run_time)
