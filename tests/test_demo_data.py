@@ -383,8 +383,10 @@ def test_config_data_section(config):
         "bad": ["defaulted"],
         "good": ["repaid"],
         "weight": None,
-        "ignore": ["application_id", "decided_on"],
+        "ignore": ["application_id", "decided_on", "staff_application"],
         "protected": ["age_band"],
+        "exclude": [{"column": "staff_application", "in": [True],
+                     "reason": "Staff application (other lease terms)"}],
     }
 
 

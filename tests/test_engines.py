@@ -129,6 +129,17 @@ def test_dask_build_gives_the_local_counts_patterns_and_scores(local_build, dask
                                local_build.selection.fit.coefficients, rtol=FLOAT_TOLERANCE)
 
 
+def test_dask_build_excludes_the_rows_the_local_build_excludes(parquet_demo, local_build,
+                                                               dask_build):
+    # The demo excludes staff applications (data.exclude); pandas on the same files is the
+    # reference for how many rows the rule catches (reference library).
+    config, folder = parquet_demo
+    staff = int((read_frame(folder)["staff_application"] == "yes").sum())
+    assert [s.removed for s in local_build.waterfall.steps] == [staff] and staff > 0
+    assert dask_build.waterfall == local_build.waterfall
+    assert dask_build.card.exclusions == local_build.card.exclusions == config.data.exclude
+
+
 def test_tiny_chunks_give_the_one_chunk_model(parquet_demo, local_build):
     config, folder = parquet_demo
     chunked = build_scorecard(config, LocalEngine(read_frame(folder), chunk_rows=997))

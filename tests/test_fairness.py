@@ -250,7 +250,7 @@ def demo(tmp_path_factory):
     config = load_config(write_demo(tmp_path_factory.mktemp("demo")))
     engine = open_engine(config)
     result = build_scorecard(config, engine)
-    rows = _outcome_facts(config, engine)
+    rows, _ = _outcome_facts(config, engine)
     return config, engine, result, rows, compute_fairness(config, engine, rows, result.card)
 
 

@@ -56,6 +56,11 @@ def test_scores_reproduce_the_builds_score_histogram_of_every_sample(demo, demo_
     oot = config.samples.out_of_time
     label = code_outcome(scored["outcome"].astype("category"), config.data.bad,
                          config.data.good).label
+    # The demo's one exclusion rule (staff applications), computed here with pandas: those
+    # rows are in no sample.
+    assert [r.describe() for r in config.data.exclude] == ["staff_application in [yes]"]
+    staff = pd.read_csv(demo[1], usecols=["staff_application"])["staff_application"] == "yes"
+    label = np.where(staff.to_numpy(), -1, label).astype(np.int8)
     late = parse_dates(scored["decided_on"], oot.column) >= np.datetime64(
         pd.Timestamp(oot.from_date), "ns")
     sample = assign_samples(label, config.samples.holdout, config.samples.seed, late)

@@ -124,7 +124,7 @@ def read_exclusions(source: Source, path: tuple, node: yaml.Node) -> tuple[Exclu
     ...     "[{column: age, below: 18, at_least: 90, reason: Out of range}]"))
     Traceback (most recent call last):
     ...
-    scorecard.errors.InputError: lease.yaml: data.exclude[0].at_least: a rule has one condition; it already has below (give a second rule instead)
+    scorecard.errors.InputError: lease.yaml: data.exclude[0].at_least: a rule has one condition; it already has below (give a second rule instead) (line 1)
     """
     rules = []
     for rule_path, rule_node in source.items(path, node):

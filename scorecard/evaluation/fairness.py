@@ -419,7 +419,8 @@ def compute_fairness(config, engine, rows, card) -> FairnessReport | None:
     >>> config = load_config(write_demo(tempfile.mkdtemp(), rows=3000))
     >>> engine = open_engine(config)
     >>> card = build_scorecard(config, engine).card
-    >>> report = compute_fairness(config, engine, _outcome_facts(config, engine), card)
+    >>> rows, _ = _outcome_facts(config, engine)
+    >>> report = compute_fairness(config, engine, rows, card)
     >>> report.sample, report.proxies["Characteristic"].iloc[0]
     ('holdout', 'months_at_address')
     """
