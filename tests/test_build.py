@@ -29,6 +29,11 @@ from scorecard.measures.information import information_value
 def _samples(config, frame):
     d = config.data
     out = code_outcome(frame[d.target], d.bad, d.good)
+    # The demo's one exclusion rule, with pandas: staff applications are in no sample.
+    assert [r.describe() for r in d.exclude] == ["staff_application in [yes]"]
+    staff = (frame["staff_application"] == "yes").to_numpy()
+    out = out._replace(label=np.where(staff, -1, out.label).astype(np.int8),
+                       weight=np.where(staff, 0.0, out.weight))
     oot = config.samples.out_of_time
     late = parse_dates(frame[oot.column], oot.column) >= np.datetime64(pd.Timestamp(oot.from_date))
     return out, assign_samples(out.label, config.samples.holdout, config.samples.seed, late)
@@ -152,7 +157,8 @@ def test_model_file_reproduces_the_scores_behind_the_workbook(demo_build, demo_c
                             card.min_score, card.max_score)
         built = demo_build.histograms[name]
         assert np.array_equal(h.goods, built.goods) and np.array_equal(h.bads, built.bads)
-    assert (sample == EXCLUDED).sum() == demo_build.samples.left_out
+    assert (sample == EXCLUDED).sum() == demo_build.samples.left_out + \
+        demo_build.waterfall.excluded
 
 
 def test_holdout_is_stratified(demo_build):

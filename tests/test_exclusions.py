@@ -155,7 +155,8 @@ def test_listed_values_match_as_outcome_values_do():
 
 
 def test_a_bound_on_a_text_column_names_the_column_and_row():
-    with pytest.raises(InputError, match=r"column deposit: row 2: 'none' is not a number"):
+    with pytest.raises(InputError, match=r"^column deposit: row 2: 'none' is not a number.*"
+                                         r"data.exclude: 'deposit below 0.05'"):
         first_rule(pd.DataFrame({"deposit": ["0.1", "none"]}),
                    (ExclusionRule("deposit", "below", 0.05, "x"),))
 

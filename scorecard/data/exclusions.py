@@ -18,6 +18,7 @@ import pandas as pd
 from scorecard.config.exclusions import ExclusionRule
 from scorecard.data.coding import level_labels, numeric_values
 from scorecard.data.outcome import matching_levels
+from scorecard.errors import InputError
 
 __all__ = ["ExclusionStep", "Waterfall", "exclusion_waterfall", "first_rule", "rule_mask"]
 
@@ -40,7 +41,11 @@ def rule_mask(series: pd.Series, rule: ExclusionRule) -> np.ndarray:
     if rule.condition == "missing":
         return series.isna().to_numpy(dtype=bool)
     if rule.condition in ("below", "at_least"):
-        x = numeric_values(series, rule.column)
+        try:
+            x = numeric_values(series, rule.column)
+        except InputError as exc:
+            raise InputError(f"{exc} (data.exclude: '{rule.describe()}' compares it with a "
+                             "number)") from None
         with np.errstate(invalid="ignore"):
             return x < rule.value if rule.condition == "below" else x >= rule.value
     # Work on the distinct levels, then look every row's level up: no Python per row.
