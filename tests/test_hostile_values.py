@@ -35,7 +35,7 @@ EXTREMES = [
     pytest.param("credit_utilisation", {5: "1e308", 9: "-1e308"}, id="plus-minus-1e308"),
     pytest.param("bike_price", {5: "99999999999999999999999", 9: "99999999999999999999999"},
                  id="integer-past-int64"),
-    pytest.param("monthly_income", {5: "1e308", 9: "1e308"}, id="largest-doubles"),
+    pytest.param("months_at_address", {5: "1e308", 9: "1e308"}, id="largest-doubles"),
     pytest.param("late_payments_12m", {5: "1e300", 9: "1e300"}, id="beside-a-special-value"),
     pytest.param("deposit_share", {1999: "-1e200", 2000: "-1e200"}, id="last-rows-negative"),
 ]

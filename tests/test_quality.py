@@ -99,3 +99,18 @@ def test_invariants_hold_on_open_tables(tmp_path, package, item, target, bad, go
         if char.kind == "numeric" and len(woe) > 1:
             assert np.all(np.diff(woe) != 0), char.name
             assert _turns(woe) == (1 if trends[char.name] in ("valley", "peak") else 0), char.name
+
+
+def test_the_benchmark_design_sets_far_values_at_the_ends_of_the_bulk():
+    # Invariant: two values of 1e308 among fitted rows leave every entry of the design finite
+    # (their sum overflows a float), and the design equals that of the same rows with the far
+    # values replaced by the largest value of the bulk (the card's end class takes them so).
+    from scorecard.binning.fine import NumericLayout
+    from scorecard.evaluation.benchmark import raw_design
+    x = np.array([1.0, 2.0, 3.0, 1e308, 1e308, 4.0])
+    layout = NumericLayout(np.array([2.5]), (), (0.0, 10.0))
+    fitted = np.ones(len(x), dtype=bool)
+    design = raw_design(pd.DataFrame({"x": x}), {"x": layout}, fitted)
+    assert np.isfinite(design).all()
+    clipped = raw_design(pd.DataFrame({"x": np.minimum(x, 4.0)}), {"x": layout}, fitted)
+    np.testing.assert_array_equal(design, clipped)

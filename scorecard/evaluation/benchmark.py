@@ -92,8 +92,10 @@ def raw_design(frame: pd.DataFrame, layouts: dict, fitted: np.ndarray) -> np.nda
             for value in layout.sentinels:
                 x[x == value] = np.nan
             # Values beyond the fitted rows' finite range (infinities too) count as its ends,
-            # as the card's end bins take them.
-            finite = x[fitted & np.isfinite(x)]
+            # as the card's end bins take them; so do the few values far beyond the rest that
+            # the layout sets apart (two of 1e308 would overflow the mean and the spread).
+            below, above = layout.extreme
+            finite = x[fitted & (x >= below) & (x <= above) & np.isfinite(x)]
             if len(finite):
                 x = np.clip(x, finite.min(), finite.max())
             known = x[fitted & ~np.isnan(x)]
