@@ -83,7 +83,9 @@ def book(demo):
 
 
 def _header(ws) -> list:
-    return [c.value for c in ws[1] if c.value is not None]
+    """The visible headings of row 1 (a hidden column holds chart data, not a heading)."""
+    return [c.value for c in ws[1] if c.value is not None
+            and not ws.column_dimensions[c.column_letter].hidden]
 
 
 def _table(ws, first_row: int = 1) -> pd.DataFrame:
@@ -318,28 +320,111 @@ def _rows_of(ref: str) -> tuple[str, int, int]:
     return m.group(2), int(m.group(3)), int(m.group(4))
 
 
-def test_each_binned_characteristic_has_a_chart_over_its_own_rows(demo, book):
+DRAWING = "{http://schemas.openxmlformats.org/drawingml/2006/spreadsheetDrawing}"
+
+
+def _bins_charts(path) -> list[dict]:
+    """Each chart of the Bins sheet: its anchor cell (1-based) and its series, in anchor order.
+
+    A series is (legend text, category range, value range, drawn with a line).
+    """
+    with zipfile.ZipFile(path) as z:
+        book = ElementTree.fromstring(z.read("xl/workbook.xml"))
+        index = [s.get("name") for s in book.iter(f"{MAIN}sheet")].index("Bins") + 1
+        sheet_rels = ElementTree.fromstring(z.read(f"xl/worksheets/_rels/sheet{index}.xml.rels"))
+        drawing = next(r.get("Target") for r in sheet_rels if "drawing" in r.get("Target"))
+        drawing = "xl/drawings/" + PurePosixPath(drawing).name
+        rels = ElementTree.fromstring(z.read(f"xl/drawings/_rels/{PurePosixPath(drawing).name}.rels"))
+        targets = {r.get("Id"): "xl/charts/" + PurePosixPath(r.get("Target")).name for r in rels}
+        out = []
+        for anchor in ElementTree.fromstring(z.read(drawing)):
+            start = anchor.find(f"{DRAWING}from")
+            chart_id = next(e.get(f"{REL}id") for e in anchor.iter(f"{CHART}chart"))
+            xml = ElementTree.fromstring(z.read(targets[chart_id]))
+            series = []
+            for ser in xml.iter(f"{CHART}ser"):
+                title = ser.find(f"{CHART}tx/{CHART}v").text
+                cat = ser.find(f"{CHART}cat//{CHART}f")
+                val = ser.find(f"{CHART}val//{CHART}f").text
+                line = ser.find(f"{CHART}spPr/{{http://schemas.openxmlformats.org/drawingml/2006/main}}ln")
+                joined = line is not None and line.find(
+                    "{http://schemas.openxmlformats.org/drawingml/2006/main}noFill") is None
+                series.append((title, None if cat is None else cat.text, val, joined))
+            blanks = xml.find(f".//{CHART}dispBlanksAs").get("val")
+            out.append({"row": int(start.find(f"{DRAWING}row").text) + 1,
+                        "col": int(start.find(f"{DRAWING}col").text) + 1,
+                        "height_emu": int(anchor.find(f"{DRAWING}ext").get("cy")),
+                        "series": series, "blanks": blanks})
+        return sorted(out, key=lambda c: c["row"])
+
+
+def test_each_characteristic_has_its_chart_beside_its_own_rows(demo, book):
+    # The printed page must show a characteristic's rows and its chart together.
     path = demo[1]
     ws = book["Bins"]
     table = _table(ws)
-    header = _header(ws)
-    letter = {name: chr(ord("A") + i) for i, name in enumerate(header)}
-    found = _chart_formulas(path, "Bins")
+    letter = {name: chr(ord("A") + i) for i, name in enumerate(_header(ws))}
+    found = _bins_charts(path)
     names = list(dict.fromkeys(table["Characteristic"]))
     assert len(found) == len(names)
-    for refs in found:
-        parsed = [_rows_of(r) for r in refs]
-        columns = {c for c, _, _ in parsed}
-        assert columns == {letter["Attribute"], letter["Bad rate"], letter["Weight of evidence"]}
-        (first, last), = {(f, l) for _, f, l in parsed}
+    breaks = {b.id for b in ws.row_breaks.brk}
+    for chart in found:
+        first = chart["row"]
         owner = ws.cell(first, 1).value
         mine = table.index[table["Characteristic"] == owner] + 2
-        # The chart starts at the characteristic's first bin and ends at its last bin with
-        # development rows; the bins after it are empty.
-        filled = [r for r in mine if table.loc[r - 2, "Rows"] > 0]
-        assert (first, last) == (mine[0], filled[-1])
+        assert first == mine[0], owner
+        # Beside the table, never over it.
+        assert chart["col"] > len(_header(ws)), owner
+        # The chart fits in the height of its rows, and no page break falls inside them.
+        rows_pt = sum(ws.row_dimensions[r].height for r in mine)
+        assert chart["height_emu"] / 12700 <= rows_pt, owner
+        assert not breaks & set(range(mine[0], mine[-1])), owner
         names.remove(owner)
     assert names == []
+
+
+def test_ranges_make_the_line_and_missing_and_sentinel_bins_stand_apart(demo, book):
+    path = demo[1]
+    ws = book["Bins"]
+    table = _table(ws)
+    letter = {name: chr(ord("A") + i) for i, name in enumerate(_header(ws))}
+    apart_col = len(_header(ws)) + 1
+    assert ws.column_dimensions[chr(ord("A") + apart_col - 1)].hidden
+    seen_apart = seen_empty_missing = 0
+    for chart in _bins_charts(path):
+        first = chart["row"]
+        owner = ws.cell(first, 1).value
+        mine = table[table["Characteristic"] == owner]
+        rows = list(mine.index + 2)
+        filled = [r for r in rows if table.loc[r - 2, "Rows"] > 0]
+        (bars, cats, values, _), ordered, *apart = chart["series"]
+        assert bars == "Bad rate" and chart["blanks"] == "gap"
+        assert _rows_of(cats) == (letter["Attribute"], first, filled[-1])
+        assert _rows_of(values) == (letter["Bad rate"], first, filled[-1])
+        kinds = mine["Kind"].tolist()
+        lead = next(i for i, k in enumerate(kinds + ["end"]) if k not in (RANGE, LEVELS))
+        # The ordered bins: a line through ranges of values, bare points for groups of levels.
+        assert _rows_of(ordered[2]) == (letter["Weight of evidence"], first, first + lead - 1)
+        assert ordered[3] == (kinds[0] == RANGE)
+        others = [r for r in rows[lead:] if r <= filled[-1]]
+        if apart:
+            (title, _, values, joined), = apart
+            assert not joined and "missing" in title
+            col, top, bottom = _rows_of(values)
+            assert (top, bottom) == (first, filled[-1])
+            seen_apart += 1
+        for r in rows:
+            value = ws.cell(r, apart_col).value
+            if r in others and table.loc[r - 2, "Rows"] > 0:
+                assert value == pytest.approx(table.loc[r - 2, "Weight of evidence"])
+            else:
+                # An empty missing bin has no weight of evidence to draw: no point at 0.
+                assert value is None
+                seen_empty_missing += (table.loc[r - 2, "Kind"] == MISSING
+                                       and table.loc[r - 2, "Rows"] == 0 and r < filled[-1])
+        assert bool(apart) == any(table.loc[r - 2, "Rows"] > 0 for r in others)
+    # The demo has both cases this test is about.
+    assert seen_apart and seen_empty_missing
 
 
 def test_score_band_and_stability_charts_read_their_tables(demo, book):

@@ -13,7 +13,13 @@ from pathlib import Path
 from openpyxl import Workbook
 
 from scorecard.outputs.atomic import save_book
-from scorecard.outputs.workbook import calculator, overview, sheets, stability_sheet
+from scorecard.outputs.workbook import (
+    bins_sheet,
+    calculator,
+    overview,
+    sheets,
+    stability_sheet,
+)
 from scorecard.outputs.workbook.manifest import run_manifest
 
 __all__ = ["SHEETS", "write_workbook"]
@@ -54,7 +60,7 @@ def write_workbook(result, path) -> Path:
     manifest = run_manifest(result.config, rows_sha256=getattr(result, "rows_sha256", None))
     overview.write_overview(ws["Overview"], result, manifest)
     sheets.write_characteristics(ws["Characteristics"], result)
-    sheets.write_bins(ws["Bins"], result)
+    bins_sheet.write_bins(ws["Bins"], result)
     sheets.write_model(ws["Model"], result)
     points_header, _ = sheets.write_points(ws["Points"], result)
     sheets.write_score_bands(ws["Score bands"], result)

@@ -112,8 +112,17 @@ def _finish(chart, title: str, x_title: str | None, y_title: str, y_format: str)
 
 
 def bad_rate_and_woe_chart(ws: Worksheet, title: str, first_row: int, last_row: int, *,
-                           label_col: int, bad_rate_col: int, woe_col: int) -> BarChart:
-    """Bars of the bad rate (left axis) and a line of the weight of evidence (right axis)."""
+                           label_col: int, bad_rate_col: int, woe_col: int, ordered_rows: int,
+                           apart_col: int | None, joined: bool = True) -> BarChart:
+    """Bars of the bad rate (left axis) and the weight of evidence as points (right axis).
+
+    The first ``ordered_rows`` bins are plotted from ``woe_col``: joined by a line when they are
+    ordered ranges of values, as bare points when they are groups of levels, which have no
+    order. The bins after them (missing, sentinel values, unseen levels) stand apart from any
+    order, so they come from ``apart_col``, a column that holds their weight of evidence and is
+    blank elsewhere (and blank for a bin without development rows, which has no weight of
+    evidence to show); they are drawn as separate points with a marker of their own.
+    """
     bars = BarChart()
     bars.type = "col"
     bars.gapWidth = 60
@@ -125,21 +134,39 @@ def bad_rate_and_woe_chart(ws: Worksheet, title: str, first_row: int, last_row: 
     _finish(bars, title, None, "Bad rate (bars)", "0%")
 
     line = LineChart()
-    woe = Series(column_ref(ws, woe_col, first_row, last_row), title="Weight of evidence")
-    woe.graphicalProperties.line.solidFill = style.GOOD_LINE
-    woe.graphicalProperties.line.width = 28575
-    woe.smooth = False
-    woe.marker.symbol = "circle"
-    woe.marker.graphicalProperties.solidFill = style.GOOD_LINE
-    line.series.append(woe)
+    word = "ranges" if joined else "levels"
+    ordered = Series(column_ref(ws, woe_col, first_row, first_row + ordered_rows - 1),
+                     title=f"Weight of evidence ({word})")
+    _woe_points(ordered, "circle", joined)
+    line.series.append(ordered)
+    if apart_col is not None:
+        apart = Series(column_ref(ws, apart_col, first_row, last_row),
+                       title="Weight of evidence (missing, sentinel)")
+        _woe_points(apart, "diamond", joined=False)
+        line.series.append(apart)
     line.y_axis.axId = 200
-    line.y_axis.title = text_title("Weight of evidence (line)", AXIS_TITLE_SIZE)
+    line.y_axis.title = text_title("Weight of evidence", AXIS_TITLE_SIZE)
     line.y_axis.number_format = "0.0"
     line.y_axis.majorGridlines = None
     line.y_axis.crosses = "max"
     line.y_axis.delete = False
     bars += line
+    # A blank cell is no point at all, never a point at 0.
+    bars.display_blanks = "gap"
     return bars
+
+
+def _woe_points(series: Series, symbol: str, joined: bool) -> None:
+    series.smooth = False
+    series.marker.symbol = symbol
+    series.marker.size = 7
+    series.marker.graphicalProperties.solidFill = style.GOOD_LINE
+    series.marker.graphicalProperties.line.solidFill = style.GOOD_LINE
+    if joined:
+        series.graphicalProperties.line.solidFill = style.GOOD_LINE
+        series.graphicalProperties.line.width = 28575
+    else:
+        series.graphicalProperties.line.noFill = True
 
 
 def bar_chart(ws: Worksheet, title: str, first_row: int, last_row: int, *, label_col: int,

@@ -1,4 +1,4 @@
-"""The table sheets: Characteristics, Bins, Model, Points and Score bands.
+"""The table sheets: Characteristics, Model, Points and Score bands (Bins has its own module).
 
 Each writer fills one worksheet with its header in row 1 and states, in a note under the
 table, which sample its figures come from.
@@ -9,7 +9,6 @@ from __future__ import annotations
 import math
 
 from openpyxl.utils import get_column_letter
-from openpyxl.worksheet.pagebreak import Break
 from openpyxl.worksheet.worksheet import Worksheet
 
 from scorecard.build import frames
@@ -78,58 +77,6 @@ def write_characteristics(ws: Worksheet, result) -> None:
     finish_table_sheet(ws, header, last, len(frame.columns))
     note(ws, last + 2, "Ranked by information value, measured on the development sample; "
                        "characteristics in the model are in bold.")
-
-
-def write_bins(ws: Worksheet, result) -> None:
-    frame = frames.bins_frame(result.reports)
-    header, last = write_table(ws, frame, formats=BIN_FORMATS)
-    tint_by_sign(ws, column_of(frame, "Weight of evidence"), header + 1, last)
-    separate_groups(ws, frame, header)
-    finish_table_sheet(ws, header, last, len(frame.columns))
-    row = note(ws, last + 2, "Counts, bad rates and weights of evidence are from the development "
-                             "sample. Positive weight of evidence (+, blue) means lower risk than "
-                             "average; negative (-, sand) higher. Points are blank for "
-                             "characteristics not in the model.")
-    row = note(ws, row, "Charts below: bad rate by attribute (bars, left axis) and weight of "
-                        "evidence (line, right axis), development sample.")
-    _bin_charts(ws, frame, header, row + 1)
-
-
-def _bin_charts(ws: Worksheet, frame, header: int, top: int) -> None:
-    """One chart per characteristic, two across and whole on each printed page, below the table.
-
-    A chart spans the characteristic's bins up to the last one with development rows: the
-    trailing bins that development never filled (unseen levels, an empty missing bin) have no
-    bad rate to draw.
-    """
-    label_col, rate_col = column_of(frame, "Attribute"), column_of(frame, "Bad rate")
-    woe_col = column_of(frame, "Weight of evidence")
-    grid = charts.chart_grid(charts.table_width_cm(ws, len(frame.columns)))
-    second_col = charts.column_after(ws, 1, grid.width_cm + 0.5)
-    for k, (first_row, last_row, name) in enumerate(_chart_spans(frame, header)):
-        chart = charts.bad_rate_and_woe_chart(ws, name, first_row, last_row, label_col=label_col,
-                                              bad_rate_col=rate_col, woe_col=woe_col)
-        chart.width, chart.height = grid.width_cm, grid.height_cm
-        grid_row = k // 2
-        row = top + grid_row * grid.rows_per_chart
-        if k % 2 == 0 and grid_row % grid.chart_rows_per_page == 0:
-            # A printed page holds whole charts only.
-            ws.row_breaks.append(Break(id=row - 1))
-        col = 1 if k % 2 == 0 else second_col
-        ws.add_chart(chart, f"{get_column_letter(col)}{row}")
-
-
-def _chart_spans(frame, header: int) -> list[tuple[int, int, str]]:
-    """(first row, last row, characteristic) of each chart, in the order of the table."""
-    names = frame["Characteristic"].tolist()
-    filled = (frame["Rows"] > 0).tolist()
-    spans, start = [], 0
-    for name in dict.fromkeys(names):
-        count = names.count(name)
-        used = [i for i in range(start, start + count) if filled[i]] or [start]
-        spans.append((header + 1 + start, header + 1 + used[-1], name))
-        start += count
-    return spans
 
 
 def write_model(ws: Worksheet, result) -> None:

@@ -135,13 +135,18 @@ def write_table(ws: Worksheet, frame: pd.DataFrame, *, start_row: int = 1, start
             elif isinstance(value, (str, CellRichText)):
                 cell.alignment = style.TEXT
         width = _fit_width(ws, col, str(name), values, fmt)
-        header_lines = max(header_lines, _lines(str(name), width))
+        header_lines = max(header_lines, wrapped_lines(str(name), width))
     # Spreadsheet programs do not grow a row for wrapped text written by another program.
-    ws.row_dimensions[header_row].height = 15 * header_lines + 2
+    ws.row_dimensions[header_row].height = header_height(header_lines)
     return header_row, header_row + len(frame)
 
 
-def _lines(text: str, width: float) -> int:
+def header_height(lines: int) -> float:
+    """Height in points of a header row of ``lines`` wrapped lines, with its padding."""
+    return style.LINE_POINTS * lines + style.HEADER_PADDING
+
+
+def wrapped_lines(text: str, width: float) -> int:
     """Lines that ``text`` takes when wrapped at word boundaries in a column ``width`` wide."""
     lines, used = 1, 0
     for word in text.split():
