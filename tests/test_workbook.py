@@ -32,11 +32,9 @@ from scorecard.card.scorecard import (
     MISSING,
     OUT_OF_RANGE,
     RANGE,
-    SENTINEL,
     UNSEEN,
     load_scorecard,
 )
-from scorecard.card.scoring import apply_scorecard
 from scorecard.demo.files import write_demo
 from scorecard.outputs.cautions import CAUTION
 from scorecard.outputs.workbook import SHEETS, write_workbook
@@ -55,7 +53,7 @@ FIRST_HEADERS = {
     "Points": card_frames.POINT_COLUMNS,
     "Score bands": ["Band", "Lowest score", "Highest score", "Rows", "Goods", "Bads"],
     "Stability": ["Baseline", "Current", "Measure", "Stability index", "Status"],
-    "Calculator": ["Characteristic", "Attribute (choose from the list)", "Points", "Check"],
+    "Calculator": ["Characteristic", "Value or attribute", "Attribute", "Points", "Check"],
 }
 INJECTIONS = ('=HYPERLINK("http://x","y")', "+1+1", "@SUM(A1)")
 MAIN = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}"
@@ -363,7 +361,6 @@ def test_each_characteristic_has_its_chart_beside_its_own_rows(demo, book):
     path = demo[1]
     ws = book["Bins"]
     table = _table(ws)
-    letter = {name: chr(ord("A") + i) for i, name in enumerate(_header(ws))}
     found = _bins_charts(path)
     names = list(dict.fromkeys(table["Characteristic"]))
     assert len(found) == len(names)
@@ -410,8 +407,7 @@ def test_ranges_make_the_line_and_missing_and_sentinel_bins_stand_apart(demo, bo
         if apart:
             (title, _, values, joined), = apart
             assert not joined and "missing" in title
-            col, top, bottom = _rows_of(values)
-            assert (top, bottom) == (first, filled[-1])
+            assert _rows_of(values) == (chr(ord("A") + apart_col - 1), first, filled[-1])
             seen_apart += 1
         for r in rows:
             value = ws.cell(r, apart_col).value
@@ -450,28 +446,78 @@ def test_score_band_and_stability_charts_read_their_tables(demo, book):
 
 # --- the calculator, recalculated by LibreOffice ----------------------------------------------
 
-def _row_value(char, b):
-    """A raw value that falls in bin ``b`` of ``char``."""
-    if b.kind == RANGE:
-        return b.lower if b.lower is not None else float(np.nextafter(b.upper, -np.inf))
-    if b.kind == SENTINEL:
-        return b.value
-    if b.kind == LEVELS:
-        return b.levels[0]
-    if b.kind == UNSEEN:
-        return "a level never seen in development"
-    if b.kind == OUT_OF_RANGE:
-        return char.development_range[1] + 1.0
-    assert b.kind == MISSING
-    return np.nan if char.kind == "numeric" else None
+UNSEEN_LEVEL = "a level never seen in development"
 
 
-def _product_score(card, chosen: dict) -> int:
-    """The product's own score of one row built to fall in the chosen bins."""
-    row = {c.name: [_row_value(c, c.bins[chosen[c.name]])] for c in card.characteristics}
-    frame = pd.DataFrame({k: pd.Series(v, dtype=float if isinstance(v[0], float) else object)
-                          for k, v in row.items()})
-    return int(apply_scorecard(card, frame).score[0])
+def _typed_values(char) -> list:
+    """Raw values that try every rule of a numeric characteristic's calculator row.
+
+    Each cut exactly (a range holds its lower bound), a number a billionth below each cut, each
+    sentinel, an empty cell where the card has a missing attribute, the ends of the development
+    range and a step beyond each end. Below a cut by less than that, the two disagree by
+    design: spreadsheet programs compare numbers to about 15 significant digits (LibreOffice
+    takes the nearest number below 3 for 3), the product's scoring compares exactly.
+    """
+    values = []
+    for cut in char.cuts:
+        values += [float(cut), float(cut) - 1e-9 * max(1.0, abs(float(cut)))]
+    values += [float(v) for v in char.sentinels]
+    if char.bin_index(MISSING) is not None:
+        values.append(None)
+    if char.development_range is not None:
+        low, high = char.development_range
+        values += [low, high, low - 1.5, high + 1.5]
+    return values
+
+
+def _chosen_levels(char) -> list[tuple[str, object]]:
+    """(attribute chosen in the calculator, a raw value of that attribute) of a categorical."""
+    labels = card_frames.attribute_labels(char)
+    raw = {LEVELS: lambda b: b.levels[0], MISSING: lambda b: None, UNSEEN: lambda b: UNSEEN_LEVEL}
+    return [(label, raw[b.kind](b)) for label, b in zip(labels, char.bins) if b.kind in raw]
+
+
+def _entries(card) -> list[dict]:
+    """Rows of entries that go through every rule of every characteristic at least once.
+
+    Each row maps a characteristic to (what is typed or chosen in the calculator, the raw
+    value the product scores).
+    """
+    options = {}
+    for c in card.characteristics:
+        if c.kind == "numeric":
+            options[c.name] = [(v, v) for v in _typed_values(c)]
+        else:
+            options[c.name] = _chosen_levels(c)
+    n = max(map(len, options.values()))
+    return [{name: opts[j % len(opts)] for name, opts in options.items()} for j in range(n)]
+
+
+def _calculator_copies(path, target, card, rows: list[dict], extra: dict) -> Path:
+    """The workbook with one copy of the Calculator per row of entries (sheets "Row 1"...),
+    and one copy per named set of wrong entries in ``extra``."""
+    wb = load_workbook(path)
+    filled = [(f"Row {j}", {k: v[0] for k, v in row.items()}) for j, row in enumerate(rows, 1)]
+    for title, entries in filled + list(extra.items()):
+        ws = wb.copy_worksheet(wb["Calculator"])
+        ws.title = title
+        for i, c in enumerate(card.characteristics, start=2):
+            assert ws.cell(i, 1).value == c.name
+            if c.name in entries:
+                ws.cell(i, 2).value = safe_value(entries[c.name])
+    wb.save(target)
+    return target
+
+
+def _product_scores(card, model, rows: list[dict], folder: Path) -> pd.DataFrame:
+    """The product's scores and points of the rows' raw values: ``scorecard score`` on a CSV."""
+    from cli_harness import assert_done, run
+    data = pd.DataFrame({c.name: pd.Series([row[c.name][1] for row in rows],
+                                           dtype=float if c.kind == "numeric" else object)
+                         for c in card.characteristics})
+    data.to_csv(folder / "typed.csv", index=False)
+    assert_done(run("score", model, folder / "typed.csv", "--out", folder / "scored.csv"))
+    return pd.read_csv(folder / "scored.csv")
 
 
 def _recalculate(paths, workdir: Path) -> list[Path]:
@@ -483,63 +529,66 @@ def _recalculate(paths, workdir: Path) -> list[Path]:
     return [out / p.name for p in paths]
 
 
-def _choose(path, target, labels: list[str]) -> Path:
-    wb = load_workbook(path)
-    ws = wb["Calculator"]
-    for row, label in enumerate(labels, start=2):
-        ws.cell(row, 2, safe_value(label))
-    wb.save(target)
-    return target
-
-
-def _check_calculator(file, card, chosen: dict) -> None:
-    ws = load_workbook(file, data_only=True)["Calculator"]
+def _check_calculator(ws, card, expected) -> None:
+    """The recalculated sheet ``ws`` against one row of ``scorecard score``'s output."""
     k = len(card.characteristics)
     for j, c in enumerate(card.characteristics, start=2):
+        entry = (ws.title, c.name, ws.cell(j, 2).value)
         assert ws.cell(j, 1).value == c.name
-        assert ws.cell(j, 3).value == c.bins[chosen[c.name]].points
-        assert ws.cell(j, 4).value == "ok"
-    total = ws.cell(k + 3, 3).value
-    assert total == _product_score(card, chosen)
+        assert ws.cell(j, 5).value == "ok", entry
+        assert ws.cell(j, 4).value == expected[f"points_{c.name}"], entry
+    total = ws.cell(k + 3, 4).value
+    assert total == expected["score"], ws.title
     s = card.scaling
-    assert ws.cell(k + 4, 3).value == pytest.approx(math.exp((total - s.offset) / s.factor), rel=1e-12)
-    assert ws.cell(k + 5, 3).value == pytest.approx(
+    assert ws.cell(k + 4, 4).value == pytest.approx(math.exp((total - s.offset) / s.factor), rel=1e-12)
+    assert ws.cell(k + 5, 4).value == pytest.approx(
         float(scorecard.card.scoring.bad_probability(card, total)), rel=1e-12)
 
 
 @pytest.mark.skipif(shutil.which("soffice") is None, reason="LibreOffice (soffice) is not installed")
-def test_libreoffice_recalculates_the_calculator_to_the_products_scores(demo, tiny, tmp_path):
-    # A real spreadsheet program is the reference: LibreOffice evaluates every formula.
-    result, path, _ = demo
-    card = result.card
-    labels = [card_frames.attribute_labels(c) for c in card.characteristics]
-    default = {c.name: max(range(len(c.bins)), key=lambda i: (c.bins[i].count, -i))
-               for c in card.characteristics}
-    worst = {c.name: min(range(len(c.bins)), key=lambda i: (c.bins[i].points, i))
-             for c in card.characteristics}
-    worst_file = _choose(path, tmp_path / "worst.xlsx",
-                         [lab[worst[c.name]] for c, lab in zip(card.characteristics, labels)])
-    wrong = [lab[0] for lab in labels]
-    wrong[0] = "not an attribute"
-    wrong_file = _choose(path, tmp_path / "wrong.xlsx", wrong)
-    original = tmp_path / "default.xlsx"
-    shutil.copy(path, original)
-    # In the small build, pick attributes whose labels look like formulas where there are any.
-    odd = {c.name: next((i for i, b in enumerate(c.bins) if b.label[:1] in "=+@"), 0)
-           for c in tiny.card.characteristics}
-    odd_file = _choose(tiny.outputs["workbook"], tmp_path / "odd.xlsx",
-                       [card_frames.attribute_labels(c)[odd[c.name]] for c in tiny.card.characteristics])
-    done = _recalculate([original, worst_file, wrong_file, odd_file], tmp_path)
-
-    _check_calculator(done[0], card, default)
-    _check_calculator(done[1], card, worst)
-    assert _product_score(card, worst) == card.min_score
-    _check_calculator(done[3], tiny.card, odd)
-    assert tiny.card.characteristics[tiny.card.names.index("channel")].bins[odd["channel"]].label[0] in "=+@"
-    ws = load_workbook(done[2], data_only=True)["Calculator"]
-    k = len(card.characteristics)
-    assert ws.cell(2, 4).value == "choose one of its attributes"
-    assert ws.cell(2, 3).value == "#N/A" and ws.cell(k + 3, 3).value == "#N/A"
+def test_libreoffice_recalculates_typed_values_to_the_scores_of_scorecard_score(demo, tiny, tmp_path):
+    # Reference: the product's own scorer (`scorecard score`) on the same raw values; a real
+    # spreadsheet program (LibreOffice) evaluates every formula of the calculator.
+    builds = [(demo[0], demo[1], "demo"), (tiny, tiny.outputs["workbook"], "tiny")]
+    files, plans = [], []
+    for result, path, name in builds:
+        card = result.card
+        rows = _entries(card)
+        numeric = next(c for c in card.characteristics if c.kind == "numeric")
+        categorical = next(c for c in card.characteristics if c.kind == "categorical")
+        extra = {"Text typed": {numeric.name: "twelve"},
+                 "Not an attribute": {categorical.name: "not an attribute"}}
+        files.append(_calculator_copies(path, tmp_path / f"{name}.xlsx", card, rows, extra))
+        (tmp_path / name).mkdir()
+        expected = _product_scores(card, result.outputs["model"], rows, tmp_path / name)
+        plans.append((card, rows, expected, numeric, categorical))
+    done = _recalculate(files, tmp_path)
+    for file, (card, rows, expected, numeric, categorical) in zip(done, plans):
+        book = load_workbook(file, data_only=True)
+        assert len(expected) == len(rows)
+        for j, scored in enumerate(expected.to_dict("records"), start=1):
+            _check_calculator(book[f"Row {j}"], card, scored)
+        k = len(card.characteristics)
+        for title, char, message in (("Text typed", numeric, "type a number"),
+                                     ("Not an attribute", categorical, "choose one of its attributes")):
+            ws = book[title]
+            row = 2 + card.names.index(char.name)
+            assert ws.cell(row, 5).value == message
+            assert ws.cell(row, 4).value == "#N/A" and ws.cell(k + 3, 4).value == "#N/A"
+        # The default entries of the calculator score as the product scores their attributes.
+        assert book["Calculator"].cell(k + 3, 4).value == sum(
+            c.bins[max(range(len(c.bins)), key=lambda i: (c.bins[i].count, -i))].points
+            for c in card.characteristics)
+    demo_card, demo_rows = plans[0][0], plans[0][1]
+    # The entries went through every kind of rule this test is about.
+    typed = [row[c.name][0] for row in demo_rows for c in demo_card.characteristics
+             if c.kind == "numeric"]
+    cuts = {float(x) for c in demo_card.characteristics for x in c.cuts}
+    assert cuts <= set(typed) and None in typed
+    assert {float(v) for c in demo_card.characteristics for v in c.sentinels} & set(typed)
+    assert any(b.kind == OUT_OF_RANGE for c in plans[1][0].characteristics for b in c.bins)
+    odd = [row for row in plans[1][1] if str(row["channel"][0])[:1] in "=+@"]
+    assert odd
 
 
 def test_calculator_lists_come_from_named_ranges_on_the_points_sheet(book):
@@ -547,7 +596,13 @@ def test_calculator_lists_come_from_named_ranges_on_the_points_sheet(book):
     rules = ws.data_validations.dataValidation
     assert len(rules) == len(_table(book["Points"])["Characteristic"].unique())
     points = book["Points"]
+    kinds = {ws.cell(int(str(r.sqref).lstrip("B")), 1).value: r.type for r in rules}
+    # Numeric characteristics take a typed number (empty means missing); the rest a list.
+    assert set(kinds.values()) == {"decimal", "list"}
     for rule in rules:
+        if rule.type == "decimal":
+            assert rule.allow_blank
+            continue
         assert rule.type == "list" and not rule.allow_blank
         name = rule.formula1.lstrip("=")
         assert re.fullmatch(r"[A-Za-z_][A-Za-z0-9_]*", name)
@@ -578,6 +633,7 @@ def _tiny_config(folder: Path) -> Path:
         "data: {source: tiny.csv, target: outcome, bad: [bad], good: [good]}\n"
         "samples: {holdout: 0.3, seed: 7}\n"
         "selection: {min_iv: 0.0, entry_p_value: 0.5}\n"
+        "scoring: {out_of_range: worst}\n"
         "output: {workbook: out/tiny.xlsx, model: out/tiny.json}\n", encoding="utf-8")
     return config
 

@@ -1,4 +1,8 @@
-"""The Calculator sheet: pick one attribute per characteristic and read the score.
+"""The Calculator sheet: a value or an attribute per characteristic, and the score.
+
+A numeric characteristic takes the raw value (its attribute is found by formula from the
+rules table under the calculator, see ``calculator_values``); a categorical one takes an
+attribute chosen from a list.
 
 The points come from the Points sheet by formula, so the sheet stays right if someone edits a
 point there. Lookups use ``EXACT`` inside ``SUMPRODUCT``: unlike ``MATCH`` it neither treats
@@ -11,17 +15,28 @@ from __future__ import annotations
 
 import re
 
+import pandas as pd
 from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.datavalidation import DataValidation
 from openpyxl.worksheet.worksheet import Worksheet
 
 from scorecard.card import frames as card_frames
+from scorecard.card.scoring import bin_codes
 from scorecard.outputs.workbook import style
-from scorecard.outputs.workbook.tables import MAX_WIDTH, safe_value, set_print_layout
+from scorecard.outputs.workbook.calculator_values import write_value_rules
+from scorecard.outputs.workbook.tables import (
+    MAX_WIDTH,
+    header_height,
+    safe_value,
+    set_print_layout,
+)
 
 POINTS_SHEET = "Points"
 ATTRIBUTE_COLUMN, POINTS_COLUMN = "B", "C"
-HEADERS = ["Characteristic", "Attribute (choose from the list)", "Points", "Check"]
+HEADERS = ["Characteristic", "Value or attribute", "Attribute", "Points", "Check"]
+# The rules table starts this many rows under the last characteristic: below the totals,
+# the scaling and the note.
+RULES_OFFSET = 16
 MAX_NAME = 200
 
 
@@ -54,6 +69,34 @@ def default_attribute(char) -> int:
     return counts.index(max(counts))
 
 
+def typical_value(char, index: int) -> float | None:
+    """A number that the product's scoring puts in bin ``index`` of a numeric characteristic.
+
+    None for the missing bin (an empty cell) or when no simple candidate lands there.
+
+    Examples
+    --------
+    >>> from scorecard.card.scorecard import Bin, Characteristic, RANGE
+    >>> bins = (Bin("< 1", RANGE, 60, 40, -0.4, 10, upper=1.0),
+    ...         Bin(">= 1", RANGE, 90, 10, 1.0, 30, lower=1.0))
+    >>> c = Characteristic("x", "numeric", bins, 1.0, "R01", "x", cuts=(1.0,),
+    ...                    development_range=(0.0, 4.0))
+    >>> typical_value(c, 0), typical_value(c, 1)
+    (0.0, 1.0)
+    """
+    b = char.bins[index]
+    low = char.development_range[0] if char.development_range else None
+    candidates = [b.value, b.lower, low, None if b.upper is None else b.upper - 1]
+    if char.development_range:
+        candidates.append(char.development_range[1] + 1)
+    for value in candidates:
+        if value is not None:
+            codes, _ = bin_codes(char, pd.Series([float(value)]))
+            if codes[0] == index:
+                return float(value)
+    return None
+
+
 def write_calculator(ws: Worksheet, card, points_header: int) -> None:
     """Fill the calculator; ``points_header`` is the header row of the Points sheet's table."""
     wb = ws.parent
@@ -62,6 +105,11 @@ def write_calculator(ws: Worksheet, card, points_header: int) -> None:
         cell = ws.cell(1, col, text)
         cell.font, cell.fill, cell.border = style.HEADER_FONT, style.HEADER_FILL, style.HEADER_BORDER
         cell.alignment = style.HEADER_RIGHT if text == "Points" else style.HEADER_LEFT
+    ws.row_dimensions[1].height = header_height(1)
+    k = len(card.characteristics)
+    labels = _totals(ws, k + 1, card.scaling)
+    value_formulas = write_value_rules(
+        ws, card, k + RULES_OFFSET, lambda prefix, c: defined_name(prefix, c.name, taken))
     first = points_header + 1
     for row, char in enumerate(card.characteristics, start=2):
         last = first + len(char.bins) - 1
@@ -71,34 +119,49 @@ def write_calculator(ws: Worksheet, card, points_header: int) -> None:
             attributes, attr_text=f"{POINTS_SHEET}!${ATTRIBUTE_COLUMN}${first}:${ATTRIBUTE_COLUMN}${last}")
         wb.defined_names[points] = DefinedName(
             points, attr_text=f"{POINTS_SHEET}!${POINTS_COLUMN}${first}:${POINTS_COLUMN}${last}")
-        _characteristic_row(ws, row, char, attributes, points, first - 1)
+        _characteristic_row(ws, row, char, attributes, points, first - 1,
+                            value_formulas.get(char.name))
         first = last + 1
-    labels = _totals(ws, len(card.characteristics) + 1, card.scaling)
     names = [c.name for c in card.characteristics]
     choices = [label for c in card.characteristics for label in card_frames.attribute_labels(c)]
     ws.column_dimensions["A"].width = min(MAX_WIDTH, max(map(len, names + labels)) + 2)
     # Room for the drop-down arrow beside the longest attribute.
-    ws.column_dimensions["B"].width = min(MAX_WIDTH, max(map(len, choices + [HEADERS[1]])) + 4)
-    ws.column_dimensions["C"].width = 12
-    ws.column_dimensions["D"].width = 30
+    ws.column_dimensions["B"].width = min(MAX_WIDTH, max(map(len, choices + ["Value or"])) + 4)
+    ws.column_dimensions["C"].width = min(MAX_WIDTH, max(map(len, choices + ["Attribute"])) + 3)
+    ws.column_dimensions["D"].width = 12
+    ws.column_dimensions["E"].width = 36
     ws.freeze_panes = "A2"
     set_print_layout(ws, repeat_rows="1:1")
 
 
-def _characteristic_row(ws, row, char, attributes, points, offset) -> None:
+def _characteristic_row(ws, row, char, attributes, points, offset, value_formula) -> None:
     labels = card_frames.attribute_labels(char)
     ws.cell(row, 1, safe_value(char.name)).alignment = style.TEXT
-    choice = ws.cell(row, 2, safe_value(labels[default_attribute(char)]))
-    choice.fill, choice.alignment = style.INPUT_FILL, style.TEXT
-    match = f"SUMPRODUCT(EXACT({attributes},B{row})*1)=1"
-    position = f"SUMPRODUCT(EXACT({attributes},B{row})*(ROW({attributes})-{offset}))"
-    ws.cell(row, 3, f"=IF({match},INDEX({points},{position}),NA())").number_format = style.INTEGER
-    ws.cell(row, 4, f'=IF({match},"ok","choose one of its attributes")').alignment = style.TEXT
-    rule = DataValidation(type="list", formula1=f"={attributes}", allow_blank=False,
-                          showErrorMessage=True, errorTitle="Not an attribute",
-                          error="Choose one of the attributes in the list.")
+    chosen = default_attribute(char)
+    entry = ws.cell(row, 2)
+    entry.fill = style.INPUT_FILL
+    if value_formula is not None:
+        entry.value = typical_value(char, chosen)
+        ws.cell(row, 3, "=" + value_formula(f"B{row}")).alignment = style.TEXT
+        rule = DataValidation(type="decimal", operator="between", formula1="-1E+307",
+                              formula2="1E+307", allow_blank=True, showErrorMessage=True,
+                              errorTitle="Not a number",
+                              error="Type a number, or leave the cell empty for a missing value.")
+        wrong = f'IF(ISBLANK(B{row}),"empty, and it has no missing attribute","type a number")'
+    else:
+        entry.value, entry.alignment = safe_value(labels[chosen]), style.TEXT
+        found = f"SUMPRODUCT(EXACT({attributes},B{row})*1)=1"
+        ws.cell(row, 3, f"=IF({found},B{row},NA())").alignment = style.TEXT
+        rule = DataValidation(type="list", formula1=f"={attributes}", allow_blank=False,
+                              showErrorMessage=True, errorTitle="Not an attribute",
+                              error="Choose one of the attributes in the list.")
+        wrong = '"choose one of its attributes"'
+    position = f"SUMPRODUCT(EXACT({attributes},C{row})*(ROW({attributes})-{offset}))"
+    ws.cell(row, 4, f"=IF(ISERROR(C{row}),NA(),INDEX({points},{position}))").number_format = \
+        style.INTEGER
+    ws.cell(row, 5, f'=IF(ISERROR(D{row}),{wrong},"ok")').alignment = style.TEXT
     ws.add_data_validation(rule)
-    rule.add(choice)
+    rule.add(entry)
 
 
 def _totals(ws, last_char_row: int, scaling) -> list[str]:
@@ -109,24 +172,26 @@ def _totals(ws, last_char_row: int, scaling) -> list[str]:
     total, odds, probability = last_char_row + 2, last_char_row + 3, last_char_row + 4
     base, base_odds, pdo, factor, offset = range(last_char_row + 7, last_char_row + 12)
     rows = [
-        (total, "Total score", f"=SUM(C2:C{last_char_row})", style.INTEGER),
-        (odds, "Good:bad odds", f"=EXP((C{total}-C{offset})/C{factor})", "#,##0.00"),
-        (probability, "Bad probability", f"=1/(1+C{odds})", "0.00%"),
+        (total, "Total score", f"=SUM(D2:D{last_char_row})", style.INTEGER),
+        (odds, "Good:bad odds", f"=EXP((D{total}-D{offset})/D{factor})", "#,##0.00"),
+        (probability, "Bad probability", f"=1/(1+D{odds})", "0.00%"),
         (base, "Base score", scaling.base_score, "0.##"),
         (base_odds, "Good:bad odds at the base score", scaling.base_odds, "0.##"),
         (pdo, "Points to double the odds", scaling.pdo, "0.##"),
-        (factor, "Factor = points to double the odds / LN(2)", f"=C{pdo}/LN(2)", style.WOE),
-        (offset, "Offset = base score - factor x LN(odds)", f"=C{base}-C{factor}*LN(C{base_odds})",
+        (factor, "Factor = points to double the odds / LN(2)", f"=D{pdo}/LN(2)", style.WOE),
+        (offset, "Offset = base score - factor x LN(odds)", f"=D{base}-D{factor}*LN(D{base_odds})",
          style.WOE),
     ]
     for row, label, value, number_format in rows:
         ws.cell(row, 1, label).font = style.BOLD
-        cell = ws.cell(row, 3, value)
+        cell = ws.cell(row, 4, value)
         cell.number_format = number_format
         if row in (total, odds, probability):
             cell.font = style.BOLD
     ws.cell(base - 1, 1, "Scaling").font = style.HEADING_FONT
-    ws.cell(offset + 2, 1, "Choose an attribute in column B from its list; the points come from "
-                           "the Points sheet. A check other than 'ok' means the choice is not "
-                           "an attribute of that characteristic.").font = style.NOTE_FONT
+    ws.cell(offset + 2, 1, "For a numeric characteristic type its value in column B (leave the "
+                           "cell empty for a missing value); the table below finds its "
+                           "attribute. For a categorical one choose an attribute from the "
+                           "list. The points come from the Points sheet; a check other than "
+                           "'ok' means the entry has no attribute.").font = style.NOTE_FONT
     return [label for _, label, _, _ in rows]

@@ -1,0 +1,121 @@
+"""How the Calculator finds, by formula, the attribute of a typed numeric value.
+
+Each numeric characteristic's rules are written as rows of a small table under the calculator,
+so a reviewer can read them and the formulas refer to them:
+
+- its ranges, whose lower bounds (the cuts) form the cut table: ``MATCH(value, cuts, 1)`` counts
+  the cuts at or below the value, which is the product's own rule (a range holds its lower
+  bound, ``lower <= value < upper``, as in ``card.scoring.bin_codes``);
+- its sentinel values, found by an exact ``MATCH``;
+- the missing attribute, for an empty cell;
+- the out-of-range attribute, when the scorecard has one, for a value outside the development
+  range.
+
+The tests run in the order of ``card.scoring.bin_codes``: an empty cell, a sentinel, out of
+range, then the ranges. Text that is not a number gives ``#N/A``.
+"""
+
+from __future__ import annotations
+
+from openpyxl.workbook.defined_name import DefinedName
+from openpyxl.worksheet.worksheet import Worksheet
+
+from scorecard.card import frames as card_frames
+from scorecard.card.scorecard import MISSING, OUT_OF_RANGE, RANGE, SENTINEL
+from scorecard.outputs.workbook import style
+from scorecard.outputs.workbook.tables import safe_value
+
+HEADERS = ["Characteristic", "Attribute", "A typed value falls here when", "From", "To"]
+FROM_COLUMN, TO_COLUMN, ATTRIBUTE_COLUMN = "D", "E", "B"
+
+
+def write_value_rules(ws: Worksheet, card, top: int, name_of) -> dict:
+    """Write the rules table with its title at row ``top``.
+
+    ``name_of(prefix, characteristic)`` returns a fresh workbook name. Returns, per numeric
+    characteristic, a function from an input cell (``"B2"``) to the formula (without ``=``) of
+    the attribute that cell's value falls in.
+    """
+    ws.cell(top, 1, "How a typed value finds its attribute").font = style.HEADING_FONT
+    header = top + 1
+    for col, text in enumerate(HEADERS, start=1):
+        cell = ws.cell(header, col, text)
+        cell.font, cell.fill, cell.border = style.HEADER_FONT, style.HEADER_FILL, style.HEADER_BORDER
+        cell.alignment = style.HEADER_RIGHT if text in ("From", "To") else style.HEADER_LEFT
+    row, formulas = header + 1, {}
+    for char in card.characteristics:
+        if char.kind == "numeric":
+            row, formulas[char.name] = _rules_of(ws, char, row, name_of)
+    return formulas
+
+
+def _rules_of(ws, char, row, name_of):
+    labels = card_frames.attribute_labels(char)
+    placed = {}                                    # bin kind -> rows, in the order of the bins
+    # The cut table holds the scorecard's own cuts, the numbers its scoring compares with.
+    ranges = [i for i, b in enumerate(char.bins) if b.kind == RANGE]
+    cut_of = dict(zip(ranges[1:], char.cuts)) if len(char.cuts) == len(ranges) - 1 else {}
+    for i, (label, b) in enumerate(zip(labels, char.bins)):
+        rule, low, high = _rule(char, b)
+        if i in cut_of:
+            low = cut_of[i]
+        if rule is None:
+            continue
+        ws.cell(row, 1, safe_value(char.name)).alignment = style.TEXT
+        ws.cell(row, 2, safe_value(label)).alignment = style.TEXT
+        ws.cell(row, 3, rule).alignment = style.TEXT
+        ws.cell(row, 4, low)
+        ws.cell(row, 5, high)
+        placed.setdefault(b.kind, []).append(row)
+        row += 1
+    ranges = placed.get(RANGE, [])
+    attribute = _range_attribute(ws.parent, char, ranges, name_of)
+    if OUT_OF_RANGE in placed:
+        r = placed[OUT_OF_RANGE][0]
+        attribute = (f"IF(OR({{cell}}<${FROM_COLUMN}${r},{{cell}}>${TO_COLUMN}${r}),"
+                     f"${ATTRIBUTE_COLUMN}${r},{attribute})")
+    if SENTINEL in placed:
+        rows = placed[SENTINEL]
+        values = _name(ws.parent, name_of("sentinels", char), FROM_COLUMN, rows[0], rows[-1])
+        named = _name(ws.parent, name_of("sentinel_attributes", char), ATTRIBUTE_COLUMN,
+                      rows[0], rows[-1])
+        attribute = f"IFERROR(INDEX({named},MATCH({{cell}},{values},0)),{attribute})"
+    missing = (f"${ATTRIBUTE_COLUMN}${placed[MISSING][0]}" if MISSING in placed else "NA()")
+    template = f"IF(ISBLANK({{cell}}),{missing},IF(ISNUMBER({{cell}}),{attribute},NA()))"
+    return row, lambda cell: template.replace("{cell}", cell)
+
+
+def _range_attribute(wb, char, rows, name_of) -> str:
+    """Formula text of the range attribute of ``{cell}``: the cut table looked up by MATCH."""
+    if len(rows) == 1:
+        return f"${ATTRIBUTE_COLUMN}${rows[0]}"
+    cuts = _name(wb, name_of("cuts", char), FROM_COLUMN, rows[1], rows[-1])
+    ranges = _name(wb, name_of("ranges", char), ATTRIBUTE_COLUMN, rows[0], rows[-1])
+    # Below the first cut MATCH finds nothing: the first range.
+    return f"INDEX({ranges},IFERROR(MATCH({{cell}},{cuts},1),0)+1)"
+
+
+def _name(wb, name: str, column: str, first: int, last: int) -> str:
+    wb.defined_names[name] = DefinedName(
+        name, attr_text=f"Calculator!${column}${first}:${column}${last}")
+    return name
+
+
+def _rule(char, b) -> tuple[str | None, float | None, float | None]:
+    """The words of a bin's rule and its bounds, or (None, ...) for a bin no value reaches."""
+    if b.kind == RANGE:
+        if b.lower is None and b.upper is None:
+            return "any other number", None, None
+        if b.lower is None:
+            return "value < To", None, b.upper
+        if b.upper is None:
+            return "value >= From", b.lower, None
+        return "From <= value < To", b.lower, b.upper
+    if b.kind == SENTINEL:
+        return "value = From (a sentinel)", b.value, None
+    if b.kind == MISSING:
+        return "the cell is empty", None, None
+    if b.kind == OUT_OF_RANGE and char.development_range is not None:
+        low, high = char.development_range
+        return "value < From or value > To (outside development)", low, high
+    return None, None, None
