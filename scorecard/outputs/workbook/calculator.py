@@ -34,9 +34,6 @@ from scorecard.outputs.workbook.tables import (
 POINTS_SHEET = "Points"
 ATTRIBUTE_COLUMN, POINTS_COLUMN = "B", "C"
 HEADERS = ["Characteristic", "Value or attribute", "Attribute", "Points", "Check"]
-# The rules table starts this many rows under the last characteristic: below the totals,
-# the scaling and the note.
-RULES_OFFSET = 16
 MAX_NAME = 200
 
 
@@ -108,8 +105,8 @@ def write_calculator(ws: Worksheet, card, points_header: int) -> None:
     ws.row_dimensions[1].height = header_height(1)
     k = len(card.characteristics)
     labels = _totals(ws, k + 1, card.scaling)
-    value_formulas = write_value_rules(
-        ws, card, k + RULES_OFFSET, lambda prefix, c: defined_name(prefix, c.name, taken))
+    value_formulas = write_value_rules(ws, card,
+                                       lambda prefix, c: defined_name(prefix, c.name, taken))
     first = points_header + 1
     for row, char in enumerate(card.characteristics, start=2):
         last = first + len(char.bins) - 1
@@ -129,7 +126,7 @@ def write_calculator(ws: Worksheet, card, points_header: int) -> None:
     ws.column_dimensions["B"].width = min(MAX_WIDTH, max(map(len, choices + ["Value or"])) + 4)
     ws.column_dimensions["C"].width = min(MAX_WIDTH, max(map(len, choices + ["Attribute"])) + 3)
     ws.column_dimensions["D"].width = 12
-    ws.column_dimensions["E"].width = 36
+    ws.column_dimensions["E"].width = 34
     ws.freeze_panes = "A2"
     set_print_layout(ws, repeat_rows="1:1")
 
@@ -189,9 +186,14 @@ def _totals(ws, last_char_row: int, scaling) -> list[str]:
         if row in (total, odds, probability):
             cell.font = style.BOLD
     ws.cell(base - 1, 1, "Scaling").font = style.HEADING_FONT
-    ws.cell(offset + 2, 1, "For a numeric characteristic type its value in column B (leave the "
-                           "cell empty for a missing value); the table below finds its "
-                           "attribute. For a categorical one choose an attribute from the "
-                           "list. The points come from the Points sheet; a check other than "
-                           "'ok' means the entry has no attribute.").font = style.NOTE_FONT
+    how = ws.cell(offset + 2, 1, "For a numeric characteristic type its value in column B "
+                                 "(leave the cell empty for a missing value); the table on the "
+                                 "right finds its attribute. For a categorical one choose an "
+                                 "attribute from the list. The points come from the Points "
+                                 "sheet; a check other than 'ok' means the entry has no "
+                                 "attribute.")
+    how.font, how.alignment = style.NOTE_FONT, style.WRAP
+    # The rules table fills the columns to the right, so the note wraps within the calculator.
+    ws.merge_cells(start_row=offset + 2, start_column=1, end_row=offset + 2, end_column=5)
+    ws.row_dimensions[offset + 2].height = 3 * style.LINE_POINTS
     return [label for _, label, _, _ in rows]

@@ -17,6 +17,7 @@ range, then the ranges. Text that is not a number gives ``#N/A``.
 
 from __future__ import annotations
 
+from openpyxl.utils import get_column_letter
 from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.worksheet import Worksheet
 
@@ -26,19 +27,21 @@ from scorecard.outputs.workbook import style
 from scorecard.outputs.workbook.tables import safe_value
 
 HEADERS = ["Characteristic", "Attribute", "A typed value falls here when", "From", "To"]
-FROM_COLUMN, TO_COLUMN, ATTRIBUTE_COLUMN = "D", "E", "B"
+# The table stands to the right of the calculator with its header in row 1, the row printed
+# on every page, so each printed page of it carries its own headings.
+FIRST_COLUMN = 7
+ATTRIBUTE_COLUMN, FROM_COLUMN, TO_COLUMN = (get_column_letter(FIRST_COLUMN + k) for k in (1, 3, 4))
 
 
-def write_value_rules(ws: Worksheet, card, top: int, name_of) -> dict:
-    """Write the rules table with its title at row ``top``.
+def write_value_rules(ws: Worksheet, card, name_of) -> dict:
+    """Write the rules table, its header in row 1 from column ``FIRST_COLUMN``.
 
     ``name_of(prefix, characteristic)`` returns a fresh workbook name. Returns, per numeric
     characteristic, a function from an input cell (``"B2"``) to the formula (without ``=``) of
     the attribute that cell's value falls in.
     """
-    ws.cell(top, 1, "How a typed value finds its attribute").font = style.HEADING_FONT
-    header = top + 1
-    for col, text in enumerate(HEADERS, start=1):
+    header = 1
+    for col, text in enumerate(HEADERS, start=FIRST_COLUMN):
         cell = ws.cell(header, col, text)
         cell.font, cell.fill, cell.border = style.HEADER_FONT, style.HEADER_FILL, style.HEADER_BORDER
         cell.alignment = style.HEADER_RIGHT if text in ("From", "To") else style.HEADER_LEFT
@@ -46,6 +49,12 @@ def write_value_rules(ws: Worksheet, card, top: int, name_of) -> dict:
     for char in card.characteristics:
         if char.kind == "numeric":
             row, formulas[char.name] = _rules_of(ws, char, row, name_of)
+    for k, text in enumerate(HEADERS):
+        longest = max([len(str(ws.cell(r, FIRST_COLUMN + k).value or "")) for r in range(2, row)]
+                      + [len(text) if k < 3 else 8])
+        ws.column_dimensions[get_column_letter(FIRST_COLUMN + k)].width = min(60, longest + 3)
+    # A narrow gap between the calculator and the table.
+    ws.column_dimensions[get_column_letter(FIRST_COLUMN - 1)].width = 3
     return formulas
 
 
@@ -61,11 +70,12 @@ def _rules_of(ws, char, row, name_of):
             low = cut_of[i]
         if rule is None:
             continue
-        ws.cell(row, 1, safe_value(char.name)).alignment = style.TEXT
-        ws.cell(row, 2, safe_value(label)).alignment = style.TEXT
-        ws.cell(row, 3, rule).alignment = style.TEXT
-        ws.cell(row, 4, low)
-        ws.cell(row, 5, high)
+        first = FIRST_COLUMN
+        ws.cell(row, first, safe_value(char.name)).alignment = style.TEXT
+        ws.cell(row, first + 1, safe_value(label)).alignment = style.TEXT
+        ws.cell(row, first + 2, rule).alignment = style.TEXT
+        ws.cell(row, first + 3, low)
+        ws.cell(row, first + 4, high)
         placed.setdefault(b.kind, []).append(row)
         row += 1
     ranges = placed.get(RANGE, [])

@@ -85,7 +85,7 @@ def write_model(ws: Worksheet, result) -> None:
     formats = {"Coefficient": style.WOE, "Standard error": style.WOE, "z": "0.00",
                "p-value": "0.00E+00", "VIF": "0.00"}
     header, last = write_table(ws, coefficients, formats=formats)
-    finish_table_sheet(ws, header, last, len(coefficients.columns))
+    finish_table_sheet(ws, header, last, len(coefficients.columns), more_tables=True)
     fit = selection.fit
     row = note(ws, last + 2, f"Logistic regression of the log-odds of good on weight-of-evidence "
                              f"coded characteristics, fitted on the development sample. "
@@ -124,7 +124,7 @@ def write_score_bands(ws: Worksheet, result) -> None:
     sample = result.gains_sample
     gains = result.gains
     header, last = write_table(ws, gains, formats=GAINS_FORMATS)
-    finish_table_sheet(ws, header, last, len(gains.columns))
+    finish_table_sheet(ws, header, last, len(gains.columns), more_tables=True)
     rows = result.samples.rows.get(sample, 0)
     row = note(ws, last + 2, f"Sample: {sample} ({rows:,} rows). Band 1 is the highest risk; "
                              f"bands hold about equal shares of the sample. The predicted bad "

@@ -51,7 +51,7 @@ def write_stability(ws: Worksheet, comparisons, *, watch: float, shift: float) -
         fill = STATUS_FILLS.get(ws.cell(row, status_col).value)
         if fill is not None:
             ws.cell(row, status_col).fill = fill
-    finish_table_sheet(ws, header, last, len(summary.columns))
+    finish_table_sheet(ws, header, last, len(summary.columns), more_tables=bool(comparisons))
     row = note(ws, last + 2, f"Status by the index: below {watch:g} stable, from {watch:g} "
                              f"watch, from {shift:g} shift. Beyond chance: the index exceeds "
                              f"what two samples of these sizes from one population show 95% "

@@ -23,6 +23,8 @@ from scorecard.outputs.workbook import style
 
 MAX_CELL_TEXT = 32767
 MIN_WIDTH, MAX_WIDTH = 8, 60
+# Rows of a table that surely fit on the first printed page, under a title and notes.
+ROWS_ON_A_PAGE = 30
 # Characters that the file format cannot hold in a cell (control characters but tab and newline).
 _ILLEGAL = re.compile(r"[\000-\010\013\014\016-\037]")
 # Leading characters that some spreadsheet programs read as the start of a formula.
@@ -181,8 +183,11 @@ def _shown_length(value, fmt: str | None) -> int:
 
 
 def finish_table_sheet(ws: Worksheet, header_row: int, last_row: int, n_columns: int,
-                       *, start_col: int = 1) -> None:
-    """Make a one-table sheet readable: frozen header, filter, landscape print fitted to width.
+                       *, start_col: int = 1, more_tables: bool = False) -> None:
+    """Make a table sheet readable: frozen header, filter, landscape print fitted to width.
+
+    The header row is printed on every page, unless ``more_tables`` follow the table and it
+    fits on the first page: its header would then head pages of other tables.
 
     Examples
     --------
@@ -197,7 +202,8 @@ def finish_table_sheet(ws: Worksheet, header_row: int, last_row: int, n_columns:
     last = get_column_letter(start_col + max(n_columns, 1) - 1)
     ws.freeze_panes = ws.cell(header_row + 1, start_col).coordinate
     ws.auto_filter.ref = f"{first}{header_row}:{last}{max(last_row, header_row)}"
-    set_print_layout(ws, repeat_rows=f"{header_row}:{header_row}")
+    repeat = not more_tables or last_row - header_row > ROWS_ON_A_PAGE
+    set_print_layout(ws, repeat_rows=f"{header_row}:{header_row}" if repeat else None)
 
 
 def set_print_layout(ws: Worksheet, *, repeat_rows: str | None = None) -> None:
