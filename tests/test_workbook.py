@@ -427,6 +427,21 @@ def test_ranges_make_the_line_and_missing_and_sentinel_bins_stand_apart(demo, bo
     assert seen_apart and seen_empty_missing
 
 
+def test_the_score_tables_after_the_charts_start_a_printed_page(book):
+    # Their headings then head them in print, where no repeated row would.
+    ws = book["Score bands"]
+    title = next(r for r in range(1, ws.max_row + 1)
+                 if ws.cell(r, 1).value == "Score, odds and bad probability")
+    assert title - 1 in {b.id for b in ws.row_breaks.brk}
+
+
+def test_the_fairness_tables_by_group_start_a_printed_page(book):
+    ws = book["Fairness"]
+    title = next(r for r in range(1, ws.max_row + 1)
+                 if str(ws.cell(r, 1).value).startswith("Approval rate by group"))
+    assert {b.id for b in ws.row_breaks.brk} == {title - 1}
+
+
 def test_score_band_and_stability_charts_read_their_tables(demo, book):
     path = demo[1]
     score_charts = _chart_formulas(path, "Score bands")

@@ -25,6 +25,7 @@ from scorecard.card.scoring import bin_codes
 from scorecard.outputs.workbook import style
 from scorecard.outputs.workbook.calculator_values import write_value_rules
 from scorecard.outputs.workbook.tables import (
+    FIRST_ROW_HEIGHT,
     MAX_WIDTH,
     header_height,
     safe_value,
@@ -103,6 +104,7 @@ def write_calculator(ws: Worksheet, card, points_header: int) -> None:
         cell.font, cell.fill, cell.border = style.HEADER_FONT, style.HEADER_FILL, style.HEADER_BORDER
         cell.alignment = style.HEADER_RIGHT if text == "Points" else style.HEADER_LEFT
     ws.row_dimensions[1].height = header_height(1)
+    ws.row_dimensions[2].height = FIRST_ROW_HEIGHT
     k = len(card.characteristics)
     labels = _totals(ws, k + 1, card.scaling)
     value_formulas = write_value_rules(ws, card,
@@ -193,7 +195,7 @@ def _totals(ws, last_char_row: int, scaling) -> list[str]:
                                  "sheet; a check other than 'ok' means the entry has no "
                                  "attribute.")
     how.font, how.alignment = style.NOTE_FONT, style.WRAP
-    # The rules table fills the columns to the right, so the note wraps within the calculator.
-    ws.merge_cells(start_row=offset + 2, start_column=1, end_row=offset + 2, end_column=5)
-    ws.row_dimensions[offset + 2].height = 3 * style.LINE_POINTS
+    # The rules table fills the columns to the right, so the note wraps within the calculator,
+    # over three rows of their own height: a taller row would open a gap in that table.
+    ws.merge_cells(start_row=offset + 2, start_column=1, end_row=offset + 4, end_column=5)
     return [label for _, label, _, _ in rows]

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from openpyxl.worksheet.pagebreak import Break
 from openpyxl.worksheet.worksheet import Worksheet
 
 from scorecard.evaluation.fairness import FairnessReport
@@ -15,6 +16,9 @@ NO_FINDINGS = ("No characteristic reaches the proxy limit and no group falls bel
                "of the most favoured group's approval rate at these cut-offs.")
 # The caution spans the width of the widest table, so it reads as one paragraph above them.
 _CAUTION_COLUMNS = 8
+
+
+GROUP_TABLES = 2           # index of the first table by group
 
 
 def write_fairness_sheet(ws: Worksheet, report: FairnessReport) -> int:
@@ -66,8 +70,12 @@ def write_fairness_sheet(ws: Worksheet, report: FairnessReport) -> int:
           "Bad rate": style.PERCENT, "Predicted bad rate": style.PERCENT,
           "Average score": "0.0"}),
     )
-    for frame, title, formats in tables:
-        used = {k: v for k, v in formats.items() if k in frame.columns}
+    for k, (frame, title, formats) in enumerate(tables):
+        if k == GROUP_TABLES:
+            # The tables by group are the long ones: they start a printed page with their
+            # headings rather than run on from the first page without them.
+            ws.row_breaks.append(Break(id=row))
+        used = {name: f for name, f in formats.items() if name in frame.columns}
         _, row = write_table(ws, frame, start_row=row + 1, formats=used, title=title)
         row += 1
     set_print_layout(ws)

@@ -9,6 +9,7 @@ from __future__ import annotations
 import math
 
 from openpyxl.utils import get_column_letter
+from openpyxl.worksheet.pagebreak import Break
 from openpyxl.worksheet.worksheet import Worksheet
 
 from scorecard.build import frames
@@ -138,6 +139,8 @@ def write_score_bands(ws: Worksheet, result) -> None:
     grid = charts.chart_grid(charts.table_width_cm(ws, len(gains.columns)))
     chart_row = row + 1
     table_row = chart_row + grid.rows_per_chart + 1
+    # The two long tables start a printed page, so their headings head them in print too.
+    ws.row_breaks.append(Break(id=table_row - 1))
     odds = card_frames.odds_frame(result.card)
     write_table(ws, odds, start_row=table_row, title="Score, odds and bad probability",
                 formats={"Score": style.INTEGER, "Good:bad odds": "[<10]0.000;#,##0.0",

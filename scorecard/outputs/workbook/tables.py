@@ -23,6 +23,7 @@ from scorecard.outputs.workbook import style
 
 MAX_CELL_TEXT = 32767
 MIN_WIDTH, MAX_WIDTH = 8, 60
+FIRST_ROW_HEIGHT = style.LINE_POINTS + 4
 # Rows of a table that surely fit on the first printed page, under a title and notes.
 ROWS_ON_A_PAGE = 30
 # Characters that the file format cannot hold in a cell (control characters but tab and newline).
@@ -140,6 +141,10 @@ def write_table(ws: Worksheet, frame: pd.DataFrame, *, start_row: int = 1, start
         header_lines = max(header_lines, wrapped_lines(str(name), width))
     # Spreadsheet programs do not grow a row for wrapped text written by another program.
     ws.row_dimensions[header_row].height = header_height(header_lines)
+    if len(frame):
+        # Room between the dark header band and the first row's text, which sits at the
+        # bottom of its cell.
+        ws.row_dimensions[header_row + 1].height = FIRST_ROW_HEIGHT
     return header_row, header_row + len(frame)
 
 
