@@ -811,10 +811,13 @@ def test_rebuilding_gives_the_same_cells_except_the_run_time(demo, tmp_path):
     assert set(differing) <= {("Overview", f"B{run_time_row}")}
 
 
-def test_the_overview_names_files_but_no_path_of_the_build_machine(demo):
+def test_no_sheet_names_a_path_of_the_build_machine(demo):
     # A committee document carries file names and hashes, not the modeller's folders.
     result, path, folder = demo
-    cells = [str(c) for row in load_workbook(path)["Overview"].iter_rows(values_only=True)
-             for c in row if c is not None]
-    assert not [c for c in cells if str(folder) in c or str(folder.resolve()) in c]
+    book = load_workbook(path)
+    for ws in book:
+        cells = [str(c) for row in ws.iter_rows(values_only=True) for c in row if c is not None]
+        assert not [c for c in cells if str(folder) in c or str(folder.resolve()) in c], ws.title
+    cells = [str(c) for row in book["Overview"].iter_rows(values_only=True) for c in row]
     assert "applications.csv" in cells and "scorecard.yaml" in cells
+    assert "declined.csv" in [c.value for c in book["Reject inference"]["B"]]

@@ -7,6 +7,8 @@ score band of the accepts-only card, and the two cards side by side.
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import pandas as pd
 from openpyxl.worksheet.worksheet import Worksheet
 
@@ -133,7 +135,10 @@ def _settings(inference) -> pd.DataFrame:
     rows = [(name, "null" if value is None else value,
              "null" if REJECT_SETTINGS[name][0] is None else REJECT_SETTINGS[name][0],
              REJECT_SETTINGS[name][1]) for name, value in inference.settings.items()]
-    rows.insert(0, ("source", inference.source, "", "The declined applications, no outcome."))
+    # The file's name only, as on the Overview: the build machine's folders stay out of a
+    # committee document (the run manifest holds the file's hash).
+    rows.insert(0, ("source", Path(inference.source).name, "",
+                    "The declined applications, no outcome."))
     return pd.DataFrame(rows, columns=["Setting", "Value", "Default", "Why the default"])
 
 
