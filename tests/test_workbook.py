@@ -38,7 +38,7 @@ from scorecard.card.scorecard import (
 from scorecard.demo.files import write_demo
 from scorecard.outputs.cautions import CAUTION
 from scorecard.outputs.workbook import SHEETS, write_workbook
-from scorecard.outputs.workbook.calculator import defined_name
+from scorecard.outputs.workbook.calculator import defined_name, typical_value
 from scorecard.outputs.workbook.manifest import source_sha256
 from scorecard.outputs.workbook.overview import DATA_HASH_LABEL, RUN_TIME_LABEL
 from scorecard.outputs.workbook.tables import ROWS_ON_A_PAGE, safe_value, write_table
@@ -512,6 +512,16 @@ def _entries(card) -> list[dict]:
     return [{name: opts[j % len(opts)] for name, opts in options.items()} for j in range(n)]
 
 
+def _worst_entries(card) -> dict:
+    """Per characteristic, the entry (a typed value or a label) of its fewest points."""
+    entries = {}
+    for c in card.characteristics:
+        worst = min(range(len(c.bins)), key=lambda i: (c.bins[i].points, i))
+        entries[c.name] = typical_value(c, worst) if c.kind == "numeric" \
+            else card_frames.attribute_labels(c)[worst]
+    return entries
+
+
 def _calculator_copies(path, target, card, rows: list[dict], extra: dict) -> Path:
     """The workbook with one copy of the Calculator per row of entries (sheets "Row 1"...),
     and one copy per named set of wrong entries in ``extra``."""
@@ -576,7 +586,8 @@ def test_libreoffice_recalculates_typed_values_to_the_scores_of_scorecard_score(
         numeric = next(c for c in card.characteristics if c.kind == "numeric")
         categorical = next(c for c in card.characteristics if c.kind == "categorical")
         extra = {"Text typed": {numeric.name: "twelve"},
-                 "Not an attribute": {categorical.name: "not an attribute"}}
+                 "Not an attribute": {categorical.name: "not an attribute"},
+                 "Worst": _worst_entries(card)}
         files.append(_calculator_copies(path, tmp_path / f"{name}.xlsx", card, rows, extra))
         (tmp_path / name).mkdir()
         expected = _product_scores(card, result.outputs["model"], rows, tmp_path / name)
@@ -594,6 +605,9 @@ def test_libreoffice_recalculates_typed_values_to_the_scores_of_scorecard_score(
             row = 2 + card.names.index(char.name)
             assert ws.cell(row, 5).value == message
             assert ws.cell(row, 4).value == "#N/A" and ws.cell(k + 3, 4).value == "#N/A"
+        # The worst entry of every characteristic gives the card's lowest score.
+        assert book["Worst"].cell(k + 3, 4).value == card.min_score
+        assert {book["Worst"].cell(r, 5).value for r in range(2, k + 2)} == {"ok"}
         # The default entries of the calculator score as the product scores their attributes.
         assert book["Calculator"].cell(k + 3, 4).value == sum(
             c.bins[max(range(len(c.bins)), key=lambda i: (c.bins[i].count, -i))].points
