@@ -825,9 +825,19 @@ def test_rebuilding_gives_the_same_cells_except_the_run_time(demo, tmp_path):
     assert set(differing) <= {("Overview", f"B{run_time_row}")}
 
 
+def test_a_declined_source_is_shown_without_folders_whether_file_or_query(tmp_path):
+    from scorecard.config.sources import DatabaseQuery
+    from scorecard.outputs.workbook.rejects_sheet import shown_source
+    query = DatabaseQuery("rejects.source", f"sqlite:///{tmp_path}/declined.db",
+                          "SELECT * FROM declined ORDER BY id",
+                          database_file=tmp_path / "declined.db")
+    assert shown_source(query) == "rejects.source (sqlite:///declined.db)"
+    assert shown_source(str(tmp_path / "declined.csv")) == "declined.csv"
+
+
 def test_no_sheet_names_a_path_of_the_build_machine(demo):
     # A committee document carries file names and hashes, not the modeller's folders.
-    result, path, folder = demo
+    _, path, folder = demo
     book = load_workbook(path)
     for ws in book:
         cells = [str(c) for row in ws.iter_rows(values_only=True) for c in row if c is not None]

@@ -14,6 +14,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from scorecard.build.rejects import EXPECTED_RATIO, HAND_HENLEY
 from scorecard.config.rejects import REJECT_SETTINGS
+from scorecard.config.sources import is_query
 from scorecard.outputs.cautions import CAUTION
 from scorecard.outputs.workbook import style
 from scorecard.outputs.workbook.tables import safe_value, set_print_layout, write_table
@@ -59,7 +60,10 @@ def write_rejects_sheet(ws: Worksheet, inference, final_result) -> int:
     _, row = write_table(ws, _rates(inference), start_row=row + 1,
                          formats={"Value": "0.0000"}, title="Bad rates (weights)")
     _format_rates(ws, row, inference)
-    header, row = write_table(ws, _settings(inference), start_row=row + 2,
+    config = getattr(final_result, "config", None)
+    source = config.rejects.source if config is not None and config.rejects is not None \
+        else inference.source
+    header, row = write_table(ws, _settings(inference, source), start_row=row + 2,
                               title=f"Settings of the method ({inference.method})")
     for r in range(header + 1, row + 1):
         # The reasons are sentences: wrapped in their cell, not spilling across the page.
@@ -131,14 +135,24 @@ def _format_rates(ws: Worksheet, last_row: int, inference) -> None:
             cell.number_format = "0.00"
 
 
-def _settings(inference) -> pd.DataFrame:
+def shown_source(source) -> str:
+    """A source as a committee document shows it: a file by its name, a query by its URL.
+
+    The build machine's folders stay out, as on the Overview; the run manifest holds the hash.
+
+    Examples
+    --------
+    >>> shown_source("/home/modeller/leases/declined.csv")
+    'declined.csv'
+    """
+    return str(source) if is_query(source) else Path(source).name
+
+
+def _settings(inference, source) -> pd.DataFrame:
     rows = [(name, "null" if value is None else value,
              "null" if REJECT_SETTINGS[name][0] is None else REJECT_SETTINGS[name][0],
              REJECT_SETTINGS[name][1]) for name, value in inference.settings.items()]
-    # The file's name only, as on the Overview: the build machine's folders stay out of a
-    # committee document (the run manifest holds the file's hash).
-    rows.insert(0, ("source", Path(inference.source).name, "",
-                    "The declined applications, no outcome."))
+    rows.insert(0, ("source", shown_source(source), "", "The declined applications, no outcome."))
     return pd.DataFrame(rows, columns=["Setting", "Value", "Default", "Why the default"])
 
 
