@@ -1,6 +1,6 @@
 """A build where nearly every row is its own pattern, timed from the shell as a user runs it.
 
-    python benchmarks/bench_hard.py [--dir DIR] [--rows 1000000] [--runs 3]
+    python benchmarks/bench_hard.py [--dir DIR] [--rows 1000000] [--runs 3] [--baseline ROOT]
 
 Use ``--rows 5000000`` for the larger case. It needs the test extras (statsmodels). Every
 figure comes from a fresh process, started the way a shell starts it, so the interpreter's
@@ -17,7 +17,9 @@ e. the peak resident memory of each, from the operating system's account of the 
    child (``os.wait4``).
 
 The commands run in turn, A B C A B C ..., so a drift of the machine's speed touches each
-alike; the table gives the median of the runs. The data (see ``hard_data.py``; fixed seed) are
+alike; the table gives the median of the runs. With ``--baseline ROOT`` (the root folder of a
+checkout of another version, such as an export of the main branch) each command of the package
+also runs from there, right after this checkout's, for a before and after in one run. The data (see ``hard_data.py``; fixed seed) are
 kept in ``--dir`` for the next run.
 """
 
@@ -67,10 +69,14 @@ class Run(NamedTuple):
 
 
 def run(command: list[str], env: dict) -> Run:
-    """Run ``command`` to its end; its wall time and its own peak resident memory."""
+    """Run ``command`` to its end; its wall time and its own peak resident memory.
+
+    It runs in the system's temporary folder: ``python -m`` and ``-c`` put the working folder
+    first on the import path, which would shadow the version that PYTHONPATH names.
+    """
     start = time.perf_counter()
     child = subprocess.Popen(command, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE,
-                             text=True, env=env)
+                             text=True, env=env, cwd=tempfile.gettempdir())
     stderr = child.stderr.read()
     _, status, usage = os.wait4(child.pid, 0)
     seconds = time.perf_counter() - start
@@ -133,18 +139,42 @@ def stage_table(build: Run, import_seconds: float) -> list[tuple[str, float]]:
     return stages
 
 
-def table(rows: list) -> str:
-    lines = [f"{'measure':46s} {'value':>12s}  {'target':>10s}  met", "-" * 80]
-    for name, value, note in rows:
+PRODUCT = ("scorecard build (s)", "scorecard --help (s)", 'python -c "import scorecard.cli" (s)',
+           "scorecard score, 1000 rows (s)")
+
+
+def summary(runs: dict, shared: dict) -> dict:
+    """Medians, peaks and ratios of one version of the package."""
+    median = {name: statistics.median(r.seconds for r in done)
+              for name, done in {**shared, **runs}.items()}
+    peak = {name: max(r.peak_bytes for r in done) for name, done in {**shared, **runs}.items()}
+    out = {name: (median[name], peak[name]) for name in median}
+    build = median["scorecard build (s)"]
+    out["build / read"] = (build / median["read with pyarrow (s)"], None)
+    if "reference pipeline (s)" in median:
+        out["reference / build"] = (median["reference pipeline (s)"] / build, None)
+    out["build peak memory (GB)"] = (peak["scorecard build (s)"] / 1e9, None)
+    return out
+
+
+def table(versions: dict) -> str:
+    labels = list(versions)
+    lines = [f"{'measure':40s}" + "".join(f"{label:>16s}" for label in labels)
+             + f"  {'target':>10s}  met", "-" * (56 + 16 * len(labels))]
+    for name in versions[labels[0]]:
+        cells = [versions[label].get(name, (float("nan"), None)) for label in labels]
+        line = f"{name:40s}" + "".join(f"{value:16,.3f}" for value, _ in cells)
         target = TARGETS.get(name)
         if target:
             sign, limit = target
+            value = cells[0][0]
             met = value <= limit if sign == "<=" else value >= limit
-            lines.append(f"{name:46s} {value:12,.3f}  {sign} {limit:<7,g}  {'yes' if met else 'NO'}")
-        else:
-            lines.append(f"{name:46s} {value:12,.3f}")
-        if note:
-            lines.append(f"{'':4s}{note}")
+            line += f"  {sign} {limit:<7,g}  {'yes' if met else 'NO'}"
+        lines.append(line)
+        peaks = [peak for _, peak in cells]
+        if any(peak is not None for peak in peaks):
+            lines.append(f"{'    peak memory (GB)':40s}"
+                         + "".join(f"{(peak or 0) / 1e9:16,.2f}" for peak in peaks))
     return "\n".join(lines)
 
 
@@ -155,42 +185,57 @@ def main(argv=None) -> int:
     parser.add_argument("--runs", type=int, default=3, help="runs of each command (default 3)")
     parser.add_argument("--no-reference", action="store_true",
                         help="skip the reference pipeline (it takes a minute or more)")
+    parser.add_argument("--baseline", type=Path,
+                        help="a checkout of another version of the package (its root folder): "
+                             "its commands run in turn with this checkout's, for a before and "
+                             "after measured in one run")
     args = parser.parse_args(argv)
     # The package is imported from this checkout, as the tests import it.
-    root = str(Path(__file__).resolve().parent.parent)
-    env = dict(os.environ, PYTHONPATH=os.pathsep.join(
-        [root] + [p for p in os.environ.get("PYTHONPATH", "").split(os.pathsep) if p]))
+    roots = {"this checkout": HERE.parent}
+    if args.baseline:
+        roots["baseline"] = args.baseline.resolve()
+    inherited = [p for p in os.environ.get("PYTHONPATH", "").split(os.pathsep) if p]
+    envs = {label: dict(os.environ, PYTHONPATH=os.pathsep.join([str(root)] + inherited))
+            for label, root in roots.items()}
+    here = envs["this checkout"]
     with tempfile.TemporaryDirectory() as tmp:
-        paths = prepare(args.dir or Path(tmp), args.rows, env)
+        paths = prepare(args.dir or Path(tmp), args.rows, here)
         every = commands(paths)
         if args.no_reference:
             del every["reference pipeline (s)"]
-        # The build runs first, once, so that the model exists for scoring and caches are warm.
-        first = run(every["scorecard build (s)"], env)
-        runs = {name: [] for name in every}
+        # Each version builds once first, so that the model exists for scoring and caches are
+        # warm.
+        fastest = {label: run(every["scorecard build (s)"], env) for label, env in envs.items()}
+        shared = {name: [] for name in every if name not in PRODUCT}
+        runs = {label: {name: [] for name in PRODUCT} for label in envs}
         for i in range(args.runs):
             for name, command in every.items():
-                if name == "reference pipeline (s)" and i > 0:
-                    continue  # one run of a minute-long pipeline is plenty
-                runs[name].append(run(command, env))
-                print(f"  run {i + 1}: {name} {runs[name][-1].seconds:.2f}", file=sys.stderr)
-    median = {name: statistics.median(r.seconds for r in done) for name, done in runs.items()}
-    peak = {name: max(r.peak_bytes for r in done) for name, done in runs.items()}
-    rows = [(name, median[name], f"peak memory {peak[name] / 1e9:.2f} GB")
-            for name in every]
-    read, build = median["read with pyarrow (s)"], median["scorecard build (s)"]
-    rows.append(("build / read", build / read, "whole processes, medians"))
-    if "reference pipeline (s)" in median:
-        rows.append(("reference / build", median["reference pipeline (s)"] / build, ""))
-    rows.append(("build peak memory (GB)", peak["scorecard build (s)"] / 1e9, ""))
-    stages = stage_table(min(runs["scorecard build (s)"] + [first], key=lambda r: r.seconds),
-                         median['python -c "import scorecard.cli" (s)'])
-    print(f"{args.rows:,} rows, {args.runs} runs of each command, medians\n")
-    print(table(rows))
-    print("\nstages of the fastest build (from its progress lines)\n")
-    print(f"{'stage':66s} {'seconds':>8s}")
-    for name, seconds in stages:
-        print(f"{name[:66]:66s} {seconds:8.2f}")
+                if name not in PRODUCT:
+                    if name == "reference pipeline (s)" and i > 0:
+                        continue  # one run of a minute-long pipeline is plenty
+                    shared[name].append(run(command, here))
+                    print(f"  run {i + 1}: {name} {shared[name][-1].seconds:.2f}",
+                          file=sys.stderr)
+                    continue
+                for label, env in envs.items():
+                    runs[label][name].append(run(command, env))
+                    print(f"  run {i + 1}: {label}: {name} {runs[label][name][-1].seconds:.2f}",
+                          file=sys.stderr)
+    versions = {label: summary(runs[label], shared) for label in envs}
+    print(f"{args.rows:,} rows, {args.runs} runs of each command (the reference pipeline once), "
+          "medians of whole processes\n")
+    print(table(versions))
+    stages = {}
+    for label in envs:
+        best = min(runs[label]["scorecard build (s)"] + [fastest[label]], key=lambda r: r.seconds)
+        stages[label] = stage_table(best, versions[label]['python -c "import scorecard.cli" (s)'][0])
+    print("\nstages of the fastest build of each version (from its progress lines), seconds\n")
+    labels = list(stages)
+    print(f"{'stage':58s}" + "".join(f"{label:>16s}" for label in labels))
+    for i, (name, _) in enumerate(stages[labels[0]]):
+        cells = [stages[label][i][1] if i < len(stages[label]) else float("nan")
+                 for label in labels]
+        print(f"{name[:58]:58s}" + "".join(f"{value:16.2f}" for value in cells))
     return 0
 
 
