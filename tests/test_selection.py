@@ -254,11 +254,11 @@ def test_grouped_and_row_designs_select_and_fit_alike(coded, monkeypatch, settin
     # Invariant: grouping rows that share codes leaves the likelihood unchanged, so the
     # choice between grouping and fitting on the rows (by the share of distinct patterns)
     # must not change what is selected, nor the fit beyond rounding.
-    import scorecard.fit.selection as selection
+    from scorecard.fit import selection as selection_module
 
     results = []
     for share in (2.0, 0.0):      # never on the rows; always on the rows
-        monkeypatch.setattr(selection, "_UNGROUPED_SHARE", share)
+        monkeypatch.setattr(selection_module, "_UNGROUPED_SHARE", share)
         results.append(select(coded, **settings_))
     grouped, rows = results
     assert grouped.selected == rows.selected and grouped.fates == rows.fates

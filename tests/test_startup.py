@@ -6,6 +6,7 @@ modules are loaded, in a fresh interpreter, not how long anything takes.
 """
 
 import json
+import os
 import subprocess
 import sys
 
@@ -38,3 +39,17 @@ def test_scoring_loads_neither_scipy_nor_the_workbook_writer():
     # Scoring needs numpy, pandas and pyarrow; the statistics and the workbook belong to builds.
     loaded = loaded_after("import scorecard.outputs.scored_file")
     assert "scipy" not in loaded and "openpyxl" not in loaded and "dask" not in loaded
+
+
+def _blas_threads_after_import(**settings) -> str:
+    env = {k: v for k, v in os.environ.items()
+           if k not in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")}
+    script = "import os, scorecard.cli; print(os.environ.get('OPENBLAS_NUM_THREADS'))"
+    return subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
+                          check=True, env={**env, **settings}).stdout.strip()
+
+
+def test_the_command_asks_for_one_blas_thread_unless_the_user_chose():
+    assert _blas_threads_after_import() == "1"
+    assert _blas_threads_after_import(OPENBLAS_NUM_THREADS="3") == "3"
+    assert _blas_threads_after_import(OMP_NUM_THREADS="2") == "None"
