@@ -137,7 +137,10 @@ def prepare(folder: Path, rows: int, dask_rows: int | None) -> dict:
 
 
 def reference_pipeline(frame: pd.DataFrame, sentinel=synthetic.SENTINEL) -> dict:
-    """The plain way: decile bins, crosstab WoE, one Logit on every WoE column, points."""
+    """The plain way: decile bins, crosstab WoE, one Logit on every WoE column, points.
+
+    ``sentinel`` is one value or a list of values that get a bin of their own.
+    """
     import statsmodels.api as sm
 
     from scorecard.card.points import scaling
@@ -149,7 +152,7 @@ def reference_pipeline(frame: pd.DataFrame, sentinel=synthetic.SENTINEL) -> dict
         if isinstance(column.dtype, pd.CategoricalDtype):
             labels = column.cat.add_categories(["missing"]).fillna("missing")
         else:
-            is_sentinel = column == sentinel
+            is_sentinel = column.isin(np.atleast_1d(sentinel))
             deciles = pd.qcut(column.where(~is_sentinel), 10, duplicates="drop").astype(str)
             labels = deciles.where(column.notna(), "missing").where(~is_sentinel, "sentinel")
         table = pd.crosstab(labels, is_bad) + 0.5

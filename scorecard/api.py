@@ -11,22 +11,21 @@ from __future__ import annotations
 import contextlib
 from dataclasses import replace
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-from scorecard.build.pipeline import build_scorecard
-from scorecard.build.result import BuildResult
-from scorecard.config import check_columns, load_config
-from scorecard.config.sources import is_query
-from scorecard.data.database import rows_sha256
-from scorecard.data.read import read_source
-from scorecard.engines.local import LocalEngine
 from scorecard.errors import InputError
 from scorecard.outputs.atomic import Output, check_outputs, staged
+
+if TYPE_CHECKING:
+    from scorecard.build.result import BuildResult
 
 
 def open_engine(config, progress=None):
     """The engine named by the config, holding the development data; use it in ``with``."""
     d = config.data
     if config.engine.dask is None:
+        from scorecard.data.read import read_source
+        from scorecard.engines.local import LocalEngine
         return LocalEngine(read_source(d.source, encoding=d.encoding, delimiter=d.delimiter,
                                        decimal=d.decimal, sheet=d.sheet),
                            progress=progress)
@@ -74,6 +73,8 @@ def open_rejects_engine(config, engine, progress=None):
     if r is None:
         return contextlib.nullcontext(None)
     if config.engine.dask is None:
+        from scorecard.data.read import read_source
+        from scorecard.engines.local import LocalEngine
         return LocalEngine(read_source(r.source, encoding=r.encoding, delimiter=r.delimiter),
                            progress=progress)
     from scorecard.engines.dask_engine import DaskEngine
@@ -98,6 +99,10 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
         The scorecard (``.card``), the facts behind it (``.stability`` among them: what the
         workbook's Stability sheet shows) and the paths written (``.outputs``).
     """
+    from scorecard.build.pipeline import build_scorecard
+    from scorecard.config import check_columns, load_config
+    from scorecard.config.sources import is_query
+    from scorecard.data.database import rows_sha256
     from scorecard.outputs.workbook import write_workbook
     config = load_config(config_path)
     inputs = {"the config": config.config_file, "the data": _input_file(config.data.source)}
@@ -127,6 +132,7 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
 
 def _input_file(source):
     """The file behind a source: the file itself, an SQLite query's database file, or None."""
+    from scorecard.config.sources import is_query
     return source.database_file if is_query(source) else source
 
 

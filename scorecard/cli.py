@@ -16,6 +16,16 @@ import click
 from scorecard.errors import InputError, ResultWarning
 from scorecard.progress import StageLog
 
+# The products with the design are tall and narrow (rows by a dozen columns) and bound by
+# memory, so BLAS threads add little; on a machine shared with other work they contend for the
+# cores, and a build ran about 1.5 times as long with them (benchmarks/bench_hard.py, 2 cores
+# under load). One BLAS thread, unless
+# the user chose otherwise; numpy reads this when it is first imported, which in the command
+# happens after this module, inside the command that needs it.
+_BLAS_THREAD_SETTINGS = ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")
+if not any(name in os.environ for name in _BLAS_THREAD_SETTINGS):
+    os.environ["OPENBLAS_NUM_THREADS"] = "1"
+
 
 class _Terminated(Exception):
     """SIGTERM, raised as an exception so that every ``finally`` removes its temporary files."""

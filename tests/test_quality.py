@@ -114,3 +114,21 @@ def test_the_benchmark_design_sets_far_values_at_the_ends_of_the_bulk():
     assert np.isfinite(design).all()
     clipped = raw_design(pd.DataFrame({"x": np.minimum(x, 4.0)}), {"x": layout}, fitted)
     np.testing.assert_array_equal(design, clipped)
+
+
+# --- The benchmark's sample of rows.
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+from scorecard.evaluation.benchmark import _smallest  # noqa: E402
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.integers(0, 4), min_size=1, max_size=60), st.integers(1, 70))
+def test_the_benchmark_rows_are_the_head_of_a_stable_sort(draws, cap):
+    # Reference: numpy's stable argsort (reference library); ties are frequent on purpose.
+    draw = np.array(draws, dtype=float)
+    members = np.arange(len(draw)) * 3 + 1
+    expected = np.sort(members[np.argsort(draw, kind="stable")[:cap]])
+    assert _smallest(members, draw, cap).tolist() == expected.tolist()

@@ -249,6 +249,27 @@ def test_selection_is_deterministic(coded):
     np.testing.assert_array_equal(first.fit.coefficients, second.fit.coefficients)
 
 
+@pytest.mark.parametrize("settings_", [{}, {"keep": ["noise"]}, {"method": "all"}])
+def test_grouped_and_row_designs_select_and_fit_alike(coded, monkeypatch, settings_):
+    # Invariant: grouping rows that share codes leaves the likelihood unchanged, so the
+    # choice between grouping and fitting on the rows (by the share of distinct patterns)
+    # must not change what is selected, nor the fit beyond rounding.
+    from scorecard.fit import selection as selection_module
+
+    results = []
+    for share in (2.0, 0.0):      # never on the rows; always on the rows
+        monkeypatch.setattr(selection_module, "_UNGROUPED_SHARE", share)
+        results.append(select(coded, **settings_))
+    grouped, rows = results
+    assert grouped.selected == rows.selected and grouped.fates == rows.fates
+    assert [s["entered"] for s in grouped.steps] == [s["entered"] for s in rows.steps]
+    np.testing.assert_allclose([s["p_value"] for s in rows.steps],
+                               [s["p_value"] for s in grouped.steps], rtol=1e-7, atol=1e-300)
+    np.testing.assert_allclose(rows.fit.coefficients, grouped.fit.coefficients, rtol=1e-9)
+    np.testing.assert_allclose(rows.fit.standard_errors, grouped.fit.standard_errors, rtol=1e-8)
+    assert rows.fit.log_likelihood == pytest.approx(grouped.fit.log_likelihood, rel=1e-12)
+
+
 # --- Collinearity stage and ties.
 
 

@@ -58,9 +58,25 @@ def chosen_rows(rows: RowFacts, seed: int, cap: int = ROW_CAP) -> RowFacts:
     sample = np.full(len(rows.sample), EXCLUDED, dtype=np.int8)
     for code in (DEVELOPMENT, HOLDOUT):
         members = np.flatnonzero(rows.sample == code)
-        kept = members[np.argsort(draw[members], kind="stable")[:cap]]
-        sample[kept] = code
+        sample[_smallest(members, draw[members], cap)] = code
     return RowFacts(rows.label, rows.weight, sample)
+
+
+def _smallest(members: np.ndarray, draw: np.ndarray, cap: int) -> np.ndarray:
+    """The ``cap`` members of smallest draw, ties going to the earlier member: the first
+    ``cap`` of a stable sort by draw, found by one partition instead of a sort of them all.
+
+    Examples
+    --------
+    >>> _smallest(np.arange(5), np.array([0.5, 0.1, 0.5, 0.9, 0.5]), 3).tolist()
+    [0, 1, 2]
+    """
+    if cap >= len(members):
+        return members
+    threshold = np.partition(draw, cap - 1)[cap - 1]
+    below = draw < threshold
+    at = np.flatnonzero(draw == threshold)[: cap - int(below.sum())]
+    return members[np.sort(np.concatenate([np.flatnonzero(below), at]))]
 
 
 def raw_rows(frame: pd.DataFrame, rows: RowFacts, columns) -> tuple[pd.DataFrame, RowFacts]:

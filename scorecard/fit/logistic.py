@@ -18,7 +18,9 @@ import warnings
 from typing import NamedTuple
 
 import numpy as np
-from scipy import special, stats
+# scipy.special, not scipy.stats: the same functions that scipy.stats' normal and chi-square
+# distributions call, without the second of imports that scipy.stats costs every command.
+from scipy import special
 
 from scorecard.errors import InputError
 
@@ -146,7 +148,7 @@ def fit_logistic(X, successes, failures, names=None, start=None) -> LogisticFit:
         coefficients=coefficients,
         standard_errors=standard_errors,
         z_values=z_values,
-        p_values=2.0 * stats.norm.sf(np.abs(z_values)),
+        p_values=2.0 * special.ndtr(-np.abs(z_values)),
         log_likelihood=_log_likelihood(X1 @ coefficients, s, f),
         converged=converged,
         iterations=iterations,
@@ -210,14 +212,17 @@ def penalised_fit(X, successes, failures, penalty: float) -> np.ndarray:
     return _newton(X1, s, f, None, weights).coefficients
 
 
-def newton_fit(X1, s, f, start=None, tolerance=_STEP_TOLERANCE) -> tuple[np.ndarray, np.ndarray, float]:
+def newton_fit(X1, s, f, start=None, tolerance=_STEP_TOLERANCE, *,
+               hessian=None) -> tuple[np.ndarray, np.ndarray, float]:
     """The unchecked core of :func:`fit_logistic_fast`, for designs prepared once.
 
     ``X1`` holds the intercept column and only rows of positive weight. Returns the
     coefficients, the information matrix of the last full Newton step (close to the one at the
-    optimum) and the log-likelihood at the optimum.
+    optimum) and the log-likelihood at the optimum. ``hessian``, when given, is the information
+    matrix at ``start``, which a caller may already hold (forward selection's score test does);
+    the first step then makes no pass over the design for it.
     """
-    optimum = _newton(X1, s, f, start, np.zeros(X1.shape[1]), tolerance)
+    optimum = _newton(X1, s, f, start, np.zeros(X1.shape[1]), tolerance, hessian)
     if not optimum.converged:
         warnings.warn(
             f"fast logistic fit did not converge after {optimum.iterations} iterations "
@@ -304,7 +309,7 @@ def score_statistics_from_sums(score, own, cross, information):
     # What is left of a candidate after projecting out the model can be rounding noise only.
     informative = variance > 1e-10 * np.maximum(own, np.finfo(float).tiny)
     statistics = np.where(informative, score**2 / np.where(informative, variance, 1.0), 0.0)
-    return statistics, stats.chi2.sf(statistics, 1)
+    return statistics, special.chdtrc(1, statistics)
 
 
 def log_likelihood(X, successes, failures, coefficients) -> float:
@@ -447,11 +452,12 @@ def _log_likelihood(eta, s, f) -> float:
     return float((s * eta - (s + f) * np.logaddexp(0.0, eta)).sum())
 
 
-def _newton(X1, s, f, start, penalty, tolerance=_STEP_TOLERANCE) -> _Optimum:
+def _newton(X1, s, f, start, penalty, tolerance=_STEP_TOLERANCE, hessian=None) -> _Optimum:
     """Maximise the log-likelihood minus ``sum(penalty * b**2) / 2`` by damped Newton steps.
 
     The linear predictor of each accepted iterate is kept, so each iteration costs one
     product with the design for the predictor and one for the information matrix.
+    ``hessian``, when given, is the information matrix at ``start``.
     """
     n = s + f
     if start is None:
@@ -467,7 +473,7 @@ def _newton(X1, s, f, start, penalty, tolerance=_STEP_TOLERANCE) -> _Optimum:
         # Near the optimum the information matrix barely changes, so the last one is reused:
         # the gradient is exact, so the iterates still converge to the exact optimum, and each
         # step costs two products with the design instead of a weighted cross product.
-        if last_step > _CHECKED_STEP ** 2:
+        if last_step > _CHECKED_STEP ** 2 and not (iteration == 1 and hessian is not None):
             hessian = information_at(X1, n, eta)
         try:
             step = np.linalg.solve(hessian + np.diag(penalty), gradient)

@@ -260,6 +260,8 @@ def select_characteristics(
         iv=_information_values(information_values, names),
         kept=tuple(names.index(name) for name in keep),
         correlation=correlation,
+        spread=[],
+        fitted={},
     )
     _require_estimable(data)
 
@@ -281,9 +283,12 @@ def select_characteristics(
 
     chosen = tuple(names[j] for j in selected)
     # The final fit runs on one row per distinct pattern of the chosen columns: the same
-    # likelihood as on every row, on far fewer rows.
-    grouped = data.grouped(data.coded.group(selected))
-    fit = fit_logistic(grouped.design[:, 1:], grouped.successes, grouped.failures, names=chosen)
+    # likelihood as on every row, on far fewer rows (or on the rows, where patterns are not
+    # fewer). It starts from the selection's own fit of these columns: the same optimum, reached
+    # in a step or two.
+    grouped = data.design(selected)
+    fit = fit_logistic(grouped.design[:, 1:], grouped.successes, grouped.failures, names=chosen,
+                       start=data.fitted.get(tuple(selected)))
     _warn_about_outcome(fit, chosen, keep)
     vif = data.vif(selected)
     for j in selected:
@@ -307,6 +312,12 @@ class _Grouped(NamedTuple):
     failures: np.ndarray
 
 
+# Grouping rows by their codes pays while the groups are far fewer than the rows. Past this
+# share, factorizing the codes and gathering one design row per group cost more than they save,
+# and the fits and score tests run on the rows (the patterns of all candidates) themselves.
+_UNGROUPED_SHARE = 0.5
+
+
 class _Candidates(NamedTuple):
     coded: CodedColumns          # rows of positive weight only
     successes: np.ndarray
@@ -315,6 +326,8 @@ class _Candidates(NamedTuple):
     iv: np.ndarray
     kept: tuple[int, ...]
     correlation: np.ndarray
+    spread: list                 # column sets whose groups are hardly fewer than the rows
+    fitted: dict                 # columns (in order) -> coefficients of their fast fit
 
     def grouped(self, groups: Groups) -> _Grouped:
         # Filled in place: one design-sized array, however many columns are chosen.
@@ -325,32 +338,80 @@ class _Candidates(NamedTuple):
                                for w in (self.successes, self.failures))
         return _Grouped(design, successes, failures)
 
+    def row_design(self, columns, capacity: int = 0) -> np.ndarray:
+        """The design of ``columns`` on the rows, intercept first, with room for more columns.
+
+        Column-major, so that each column is filled and read contiguously and a model of the
+        first ``k`` columns is a view of the first ``k`` of them.
+        """
+        design = np.empty((self.coded.n_rows, max(capacity, 1 + len(columns))), order="F")
+        design[:, 0] = 1.0
+        for i, j in enumerate(columns):
+            np.take(self.coded.values[j], self.coded.codes[:, j], out=design[:, 1 + i])
+        return design
+
+    def is_spread(self, columns) -> bool:
+        """Whether rows grouped by ``columns`` are known to be hardly fewer than the rows: as
+        they are for any set of columns holding one known to be so."""
+        return any(known <= set(columns) for known in self.spread)
+
+    def design(self, columns) -> _Grouped:
+        """The design of ``columns`` on grouped rows, or on the rows where groups hardly
+        compress them."""
+        columns = tuple(columns)
+        if not self.is_spread(columns):
+            groups = self.coded.group(columns)
+            if groups.count <= _UNGROUPED_SHARE * self.coded.n_rows:
+                return self.grouped(groups)
+            self.spread.append(frozenset(columns))
+        return _Grouped(self.row_design(columns), self.successes, self.failures)
+
     def fast_fit(self, columns, start=None):
         """Coefficients, information matrix and log-likelihood of the model on ``columns``."""
-        return newton_fit(*self.grouped(self.coded.group(columns)), start, SELECTION_TOLERANCE)
+        columns = tuple(columns)
+        if start is None:
+            start = self.fitted.get(columns)
+        out = newton_fit(*self.design(columns), start, SELECTION_TOLERANCE)
+        self.fitted[columns] = out[0]
+        return out
 
-    def score(self, groups: Groups, grouped: _Grouped, coefficients, columns):
-        """Score-test statistics and p-values of ``columns``, each against the fitted model.
+    def score(self, model: _Model, coefficients, columns):
+        """Score-test statistics and p-values of ``columns``, each against the fitted model,
+        and the information matrix of the model and the candidates at its optimum.
 
         The model's fitted probability is a function of the group, so the sums over rows that
-        the test needs are made block by block from the codes.
+        the test needs are made block by block from the codes. Returns the statistics, the
+        p-values and the sums (:class:`_Sums`).
         """
-        eta = grouped.design @ coefficients
+        design, groups = model.grouped.design, model.groups
+        eta = design @ coefficients
         p, q = special.expit(eta), special.expit(-eta)
-        information = information_at(grouped.design, grouped.successes + grouped.failures, eta)
         n = self.successes + self.failures
-        fitted = p[groups.index]
-        residual = self.successes - n * fitted
-        variance_weight = n * fitted * q[groups.index]
+        if groups is None:
+            # One design row per row: the sums are products with the design itself.
+            residual = self.successes - n * p
+            variance_weight = n * p * q
+            weighted = design * variance_weight[:, None]
+            information = weighted.T @ design
+        else:
+            information = information_at(design, model.grouped.successes
+                                         + model.grouped.failures, eta)
+            fitted = p[groups.index]
+            residual = self.successes - n * fitted
+            variance_weight = n * fitted * q[groups.index]
         m = len(columns)
         score, own = np.zeros(m), np.zeros(m)
-        cross = np.zeros((grouped.design.shape[1], m))
+        cross = np.zeros((design.shape[1], m))
         for start, stop, block in self.coded.blocks(columns):
             v = variance_weight[start:stop]
             score += block.T @ residual[start:stop]
             own += (block * block).T @ v
-            cross += (grouped.design[groups.index[start:stop]] * v[:, None]).T @ block
-        return score_statistics_from_sums(score, own, cross, information)
+            if groups is None:
+                cross += weighted[start:stop].T @ block
+            else:
+                cross += (design[groups.index[start:stop]] * v[:, None]).T @ block
+        return (*score_statistics_from_sums(score, own, cross, information),
+                _Sums(information, cross, own))
 
     def vif(self, columns) -> np.ndarray:
         """VIF from the correlation matrix computed once: no pass over the patterns."""
@@ -419,17 +480,73 @@ def _prune_correlated(data: _Candidates, candidates, correlation, max_correlatio
     return retained[len(data.kept) :]
 
 
+class _Sums(NamedTuple):
+    """Sums over rows at a fitted model, weights ``w = n p (1 - p)``: ``information`` is
+    ``X1' W X1``, ``cross`` is ``X1' W Z`` and ``own`` the diagonal of ``Z' W Z`` for the
+    candidate columns ``Z``."""
+
+    information: np.ndarray
+    cross: np.ndarray
+    own: np.ndarray
+
+    def with_column(self, i: int) -> np.ndarray:
+        """The information matrix of the model with candidate ``i`` added, at the same
+        coefficients (the candidate's at zero): where the next Newton fit starts."""
+        k = self.information.shape[0]
+        out = np.empty((k + 1, k + 1))
+        out[:k, :k] = self.information
+        out[:k, k] = out[k, :k] = self.cross[:, i]
+        out[k, k] = self.own[i]
+        return out
+
+
+class _Model:
+    """The design of the model that forward selection grows one column at a time.
+
+    Rows are grouped by their codes on the model's columns while that compresses them; once
+    the groups pass ``_UNGROUPED_SHARE`` of the rows, the design holds the rows themselves and
+    each entering column is filled into it, with no grouping at all.
+    """
+
+    def __init__(self, data: _Candidates, columns, capacity: int):
+        self.data, self.columns, self.capacity = data, list(columns), capacity
+        self.groups = data.coded.group(self.columns)
+        self._settle()
+
+    def add(self, column: int) -> None:
+        self.columns.append(column)
+        if self.groups is None:
+            k = len(self.columns)
+            np.take(self.data.coded.values[column], self.data.coded.codes[:, column],
+                    out=self.buffer[:, k])
+            self.grouped = _Grouped(self.buffer[:, : k + 1], *self.grouped[1:])
+            return
+        self.groups = self.data.coded.refine(self.groups, column)
+        self._settle()
+
+    def _settle(self) -> None:
+        data = self.data
+        if self.groups.count <= _UNGROUPED_SHARE * data.coded.n_rows:
+            self.grouped = data.grouped(self.groups)
+            return
+        data.spread.append(frozenset(self.columns))
+        self.groups = None
+        self.buffer = data.row_design(self.columns, self.capacity)
+        self.grouped = _Grouped(self.buffer[:, : 1 + len(self.columns)], data.successes,
+                                data.failures)
+
+
 def _forward(data: _Candidates, candidates, entry_p_value, cap, fates):
     names = data.names
     chosen = list(data.kept)
-    groups = data.coded.group(chosen)
-    grouped = data.grouped(groups)
-    coefficients, _, _ = newton_fit(*grouped, None, SELECTION_TOLERANCE)
+    model = _Model(data, chosen, 1 + min(cap, len(chosen) + len(candidates)))
+    coefficients, _, _ = newton_fit(*model.grouped, None, SELECTION_TOLERANCE)
+    data.fitted[tuple(chosen)] = coefficients
     remaining = sorted(candidates, key=lambda j: names[j])
     last_p: dict[int, float] = {}
     steps = []
     while remaining and len(chosen) < cap:
-        statistics, p_values = data.score(groups, grouped, coefficients, remaining)
+        statistics, p_values, sums = data.score(model, coefficients, remaining)
         last_p = dict(zip(remaining, p_values))
         # The largest statistic is the smallest p-value, without the p-values' underflow to 0;
         # `remaining` is sorted by name, so argmax breaks ties by name.
@@ -438,10 +555,10 @@ def _forward(data: _Candidates, candidates, entry_p_value, cap, fates):
             break
         entering = remaining.pop(best)
         chosen.append(entering)
-        groups = data.coded.refine(groups, entering)
-        grouped = data.grouped(groups)
-        coefficients, _, fitted = newton_fit(*grouped, np.append(coefficients, 0.0),
-                                             SELECTION_TOLERANCE)
+        model.add(entering)
+        coefficients, _, fitted = newton_fit(*model.grouped, np.append(coefficients, 0.0),
+                                             SELECTION_TOLERANCE, hessian=sums.with_column(best))
+        data.fitted[tuple(chosen)] = coefficients
         steps.append(
             {
                 "step": len(steps) + 1,

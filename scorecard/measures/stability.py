@@ -6,7 +6,9 @@ import math
 from typing import NamedTuple
 
 import numpy as np
-from scipy import stats
+# scipy.special, not scipy.stats: the same functions that scipy.stats' normal and chi-square
+# distributions call, without the second of imports that scipy.stats costs every command.
+from scipy import special
 
 from scorecard.constraints import SHIFT, WATCH, cutoffs_in_order
 from scorecard.measures.checks import (
@@ -120,7 +122,7 @@ def stability_critical_value(n_baseline, n_current, n_bins, level=0.95):
         raise ValueError(f"n_bins: must be an integer >= 2, got {n_bins!r}")
     if not 0 < level < 1:
         raise ValueError(f"level: must lie strictly between 0 and 1, got {level!r}")
-    return float((1 / n_baseline + 1 / n_current) * stats.chi2.ppf(level, n_bins - 1))
+    return float((1 / n_baseline + 1 / n_current) * _chi2_quantile(level, n_bins - 1))
 
 
 def stability_status(index, watch=WATCH.default, shift=SHIFT.default):
@@ -154,3 +156,8 @@ def stability_status(index, watch=WATCH.default, shift=SHIFT.default):
     if index >= watch:
         return "watch"
     return "stable"
+
+
+def _chi2_quantile(level: float, dof: int) -> float:
+    """Quantile of the chi-square distribution, as ``scipy.stats.chi2.ppf`` computes it."""
+    return 2.0 * float(special.gammaincinv(dof / 2, level))

@@ -1,0 +1,55 @@
+"""The command layer starts without the heavy libraries: each command imports what it needs.
+
+Common practice for command-line tools (click's own advice on lazy loading of subcommands):
+``scorecard --help`` should not pay for pandas, scipy, openpyxl or Dask. These check which
+modules are loaded, in a fresh interpreter, not how long anything takes.
+"""
+
+import json
+import os
+import subprocess
+import sys
+
+import pytest
+
+HEAVY = ("pandas", "scipy", "statsmodels", "openpyxl", "dask", "pyarrow")
+
+
+def loaded_after(statement: str) -> list[str]:
+    """The heavy top-level packages that a fresh interpreter holds after ``statement``."""
+    script = (f"import sys, json; {statement}; "
+              f"print(json.dumps(sorted(m for m in {HEAVY!r} if m in sys.modules)))")
+    out = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
+                         check=True).stdout
+    return json.loads(out)
+
+
+@pytest.mark.parametrize("module", ["scorecard.cli", "scorecard.api"])
+def test_importing_the_command_layer_loads_no_heavy_library(module):
+    assert loaded_after(f"import {module}") == []
+
+
+def test_help_loads_no_heavy_library():
+    statement = ("from click.testing import CliRunner; from scorecard.cli import main; "
+                 "assert CliRunner().invoke(main, ['--help']).exit_code == 0")
+    assert loaded_after(statement) == []
+
+
+def test_scoring_loads_neither_scipy_nor_the_workbook_writer():
+    # Scoring needs numpy, pandas and pyarrow; the statistics and the workbook belong to builds.
+    loaded = loaded_after("import scorecard.outputs.scored_file")
+    assert "scipy" not in loaded and "openpyxl" not in loaded and "dask" not in loaded
+
+
+def _blas_threads_after_import(**settings) -> str:
+    env = {k: v for k, v in os.environ.items()
+           if k not in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")}
+    script = "import os, scorecard.cli; print(os.environ.get('OPENBLAS_NUM_THREADS'))"
+    return subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
+                          check=True, env={**env, **settings}).stdout.strip()
+
+
+def test_the_command_asks_for_one_blas_thread_unless_the_user_chose():
+    assert _blas_threads_after_import() == "1"
+    assert _blas_threads_after_import(OPENBLAS_NUM_THREADS="3") == "3"
+    assert _blas_threads_after_import(OMP_NUM_THREADS="2") == "None"
