@@ -34,7 +34,7 @@ __all__ = [
     "Interval", "Setting", "cutoffs_in_order",
     "TRENDS", "KINDS", "METHODS", "UNSEEN_ACTIONS", "OUT_OF_RANGE_ACTIONS", "EXCLUSION_CONDITIONS",
     "HOLDOUT", "SEED",
-    "FINE_BINS", "MAX_BINS", "MIN_BIN_SHARE", "MIN_BIN_GOODS", "MIN_BIN_BADS", "TREND",
+    "FINE_BINS", "MAX_BINS", "MIN_BIN_SHARE", "MIN_BIN_GOODS", "MIN_BIN_BADS", "PRIOR_ROWS", "TREND",
     "RARE_LEVEL_SHARE", "MAX_LEVELS",
     "MIN_IV", "MAX_CORRELATION", "MAX_VIF", "METHOD", "ENTRY_P_VALUE", "MAX_CHARACTERISTICS",
     "SCALE_LIMIT", "BASE_SCORE", "BASE_ODDS", "PDO",
@@ -175,12 +175,16 @@ SEED = Setting(2024, Interval(0), whole=True)
 # ---- binning ---------------------------------------------------------------------------------
 FINE_BINS = Setting(40, Interval(2), whole=True)
 MAX_BINS = Setting(6, Interval(2), whole=True)
-# The goods and bads minimums make a bin's weight of evidence precise enough (its standard
-# error sqrt(1/goods + 1/bads) is at most 0.45 at the defaults); the share only guards against
-# slivers. A 5% share kept strong small attributes, and the top of a risky tail, out of cards.
+# Precision comes from the prior: every bin's weight of evidence is shrunk toward 0 as if it
+# held PRIOR_ROWS more rows at the overall bad rate, so a small bin keeps only the evidence its
+# size supports. 20 pseudo-rows weigh as much as the smallest bin a rule of 10 goods and 10 bads
+# admitted (standard error of its WoE about 0.45, at an even rate). Hard minimums of 10 goods and
+# 10 bads instead kept strong small levels (a level of 30 rows, nearly all bad) out of cards.
+# The share only guards against slivers; a 5% share kept the top of a risky tail out too.
 MIN_BIN_SHARE = Setting(0.01, Interval(0, 0.5, high_open=True))
-MIN_BIN_GOODS = Setting(10, Interval(0), whole=True)
-MIN_BIN_BADS = Setting(10, Interval(0), whole=True)
+MIN_BIN_GOODS = Setting(1, Interval(0), whole=True)
+MIN_BIN_BADS = Setting(1, Interval(0), whole=True)
+PRIOR_ROWS = Setting(20.0, Interval(0))
 TREND = Setting("detect", choices=TRENDS, renamed=(
     ("auto", "detect"), ("ascending", "rises"), ("descending", "falls"), ("free", "any")))
 RARE_LEVEL_SHARE = Setting(0.01, Interval(0, 0.5, high_open=True))

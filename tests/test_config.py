@@ -190,8 +190,8 @@ def test_minimal_config_takes_every_default():
         good=("repaid",), weight=None, ignore=(), protected=(), encoding="utf-8", delimiter=",")
     assert config.samples == SamplesConfig(holdout=0.3, seed=2024, out_of_time=None)
     assert config.binning == BinningConfig(
-        fine_bins=40, max_bins=6, min_bin_share=0.01, min_bin_goods=10, min_bin_bads=10,
-        trend="detect", sentinels=(), rare_level_share=0.01, max_levels=50)
+        fine_bins=40, max_bins=6, min_bin_share=0.01, min_bin_goods=1, min_bin_bads=1,
+        prior_rows=20.0, trend="detect", sentinels=(), rare_level_share=0.01, max_levels=50)
     assert dict(config.characteristics) == {}
     assert config.selection == SelectionConfig(
         min_iv=0.0, max_correlation=0.6, max_vif=5.0, method="stepwise", entry_p_value=0.05,

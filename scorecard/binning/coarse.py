@@ -29,9 +29,10 @@ from scorecard.card.scorecard import (
 from scorecard.card.scoring import bin_codes
 from scorecard.data.coding import grid_cells
 from scorecard.errors import InputError
-from scorecard.measures.information import woe_of_shares
+from scorecard.measures.information import shrunk_woe, woe_of_shares
 
 OTHER_LEVELS = "other levels"
+UNSEEN_NOTE = "not seen in development: weight of evidence 0 (average risk)"
 
 
 class BinningOutcome(NamedTuple):
@@ -44,12 +45,13 @@ class BinningOutcome(NamedTuple):
 
 
 class Limits(NamedTuple):
-    """Size limits of a coarse bin, in development weight."""
+    """Size limits of a coarse bin, in development weight, and the prior on its WoE."""
 
     max_bins: int
     min_count: float
     min_goods: float
     min_bads: float
+    prior_rows: float = 0.0
 
 
 def format_number(value: float) -> str:
@@ -134,7 +136,8 @@ def class_numeric(name: str, layout: NumericLayout, goods: np.ndarray, bads: np.
     fine_bads = np.add.reduceat(bads[:cells], starts)
     result = optimal_bins(fine_goods, fine_bads, total_goods=goods.sum(), total_bads=bads.sum(),
                           trend=trend, max_bins=limits.max_bins, min_bin_count=limits.min_count,
-                          min_bin_goods=limits.min_goods, min_bin_bads=limits.min_bads)
+                          min_bin_goods=limits.min_goods, min_bin_bads=limits.min_bads,
+                          prior_rows=limits.prior_rows)
     if not result.feasible:
         reason = "a single value" if len(starts) == 1 else result.reason
         return BinningOutcome(None, len(starts), result.trend, f"cannot form two bins: {reason}")
@@ -176,7 +179,7 @@ def class_categorical(name: str, levels, goods: np.ndarray, bads: np.ndarray, *,
     result = optimal_bins(fine_goods, fine_bads, total_goods=goods.sum(), total_bads=bads.sum(),
                           trend="rises", max_bins=limits.max_bins,
                           min_bin_count=limits.min_count, min_bin_goods=limits.min_goods,
-                          min_bin_bads=limits.min_bads)
+                          min_bin_bads=limits.min_bads, prior_rows=limits.prior_rows)
     if not result.feasible:
         reason = "a single level" if len(classes) == 1 else result.reason
         return BinningOutcome(None, len(classes), "rises", f"cannot form two bins: {reason}")
@@ -223,20 +226,29 @@ def bins_of_fine_classes(char: Characteristic, layout) -> np.ndarray | None:
 
 
 def limits_from(total_weight: float, max_bins: int, min_share: float, min_goods: float,
-                min_bads: float) -> Limits:
-    return Limits(max_bins, min_share * total_weight, max(min_goods, 1.0), max(min_bads, 1.0))
+                min_bads: float, prior_rows: float = 0.0) -> Limits:
+    return Limits(max_bins, min_share * total_weight, max(min_goods, 1.0), max(min_bads, 1.0),
+                  prior_rows)
 
 
 def bin_weights_of_evidence(goods: np.ndarray, bads: np.ndarray, kinds, limits: Limits,
                             ) -> tuple[np.ndarray, list[str]]:
     """WoE of each bin, with the documented fallbacks and a note per bin.
 
-    A range or group bin with no goods or no bads (possible only with manual cuts or groups) gets
+    With a prior (``limits.prior_rows > 0``) every bin's WoE is shrunk toward 0 by it
+    (:func:`scorecard.measures.information.shrunk_woe`), which is finite for any bin with rows,
+    however small or one-sided, and 0 for a bin with none. Without a prior, a range or group bin with no goods or no bads (possible only with manual cuts or groups) gets
     0.5 added to its goods and bads. A missing, sentinel, unseen or out-of-range bin with
     fewer goods or bads than the bin limits is too small to estimate and gets WoE 0, the average
     risk of the development sample.
     """
     kinds = np.asarray(kinds, dtype=object)
+    if limits.prior_rows > 0:
+        unseen = goods + bads <= 0
+        woe = np.where(unseen, 0.0, shrunk_woe(goods, bads, goods.sum(), bads.sum(),
+                                               limits.prior_rows))
+        notes = np.where(unseen, UNSEEN_NOTE, "")
+        return woe, notes.tolist()
     grouped = np.isin(kinds, (RANGE, LEVELS))
     one_sided = grouped & ((goods <= 0) | (bads <= 0))
     unseen = ~grouped & (goods + bads <= 0)
@@ -249,6 +261,6 @@ def bin_weights_of_evidence(goods: np.ndarray, bads: np.ndarray, kinds, limits: 
     notes = np.select(
         [one_sided, unseen, too_small],
         ["no goods or no bads: 0.5 added to each before the weight of evidence",
-         "not seen in development: weight of evidence 0 (average risk)",
+         UNSEEN_NOTE,
          "too few rows to estimate: weight of evidence 0 (average risk)"], "")
     return woe, notes.tolist()

@@ -22,6 +22,11 @@ likelihood-ratio statistic of at least :data:`TURN_EVIDENCE` (chi-squared with o
 freedom, the turning point, at the 0.001 level), so that a monotone characteristic stays
 monotone.
 
+With ``prior_rows`` each bin's weight of evidence is shrunk toward 0 by a beta prior centred on
+the overall bad rate (:func:`scorecard.measures.information.shrunk_woe`), and the IV weighs the
+shares by the shrunk weight of evidence. Each bin's term still depends on its own counts and
+the totals only, so the programme stays exact; small bins simply earn less.
+
 Ties are broken the same way every time: among partitions whose IV agree to a relative
 ``1e-12``, fewer bins win; among those with equal bin counts, the last bin starts as early as
 possible, then the bin before it, and so on towards the first.
@@ -29,13 +34,16 @@ possible, then the bin before it, and so on towards the first.
 
 from __future__ import annotations
 
+import math
 from typing import NamedTuple
 
 import numpy as np
 
 from scorecard.constraints import MAX_BINS, TREND, TRENDS
 from scorecard.errors import InputError
-from scorecard.measures.information import iv_terms
+from scipy import special
+
+from scorecard.measures.information import iv_terms, shrunk_woe
 
 # The single-turn shapes, which the optimiser accepts beside the config's trends: the bad rate
 # moves in the first direction, then in the second.
@@ -105,14 +113,16 @@ def optimal_bins(
     min_bin_count=0.0,
     min_bin_goods=0.0,
     min_bin_bads=0.0,
+    prior_rows=0.0,
 ) -> Coarsening:
     """Merge adjacent fine classes into the coarse bins of highest information value.
 
     Each bin is a run of adjacent fine classes with ``goods + bads >= min_bin_count``,
     ``goods >= min_bin_goods``, ``bads >= min_bin_bads`` and a positive (weighted) count of
-    both goods and bads, so that its weight of evidence is finite. The IV of a partition is
-    ``sum((g / G - b / B) * ln((g / G) / (b / B)))`` over its bins, where ``G`` and ``B`` are
-    the totals. The result is the exact maximum; see the module notes for how ties are broken.
+    both goods and bads, so that its weight of evidence is finite (with a prior, of rows). The
+    IV of a partition is ``sum((g / G - b / B) * WoE)`` over its bins, where ``G`` and ``B``
+    are the totals and ``WoE = ln((g / G) / (b / B))``, or its shrunk value with a prior. The
+    result is the exact maximum; see the module notes for how ties are broken.
 
     Parameters
     ----------
@@ -133,6 +143,9 @@ def optimal_bins(
         Largest number of bins, at least 2.
     min_bin_count, min_bin_goods, min_bin_bads : float, default 0.0
         Smallest weighted count of cases, goods and bads in each bin.
+    prior_rows : float, default 0.0
+        Pseudo-rows at the overall bad rate that shrink each bin's weight of evidence toward 0;
+        the trend then holds for the shrunk bad rates. 0: no shrinkage.
 
     Returns
     -------
@@ -170,7 +183,7 @@ def optimal_bins(
         _limit(min_bin_goods, "min_bin_goods"),
         _limit(min_bin_bads, "min_bin_bads"),
     )
-    cand = _candidates(goods, bads, total_goods, total_bads, limits)
+    cand = _candidates(goods, bads, total_goods, total_bads, limits, _prior(prior_rows))
     if trend == "detect":
         found, used = _better(_best(cand, max_bins, "rises"), _best(cand, max_bins, "falls"))
         turn, shape = _better_turn(_best_turn(cand, max_bins, "valley"),
@@ -282,17 +295,32 @@ def _limit(value, name):
     return limit
 
 
-def _candidates(goods, bads, total_goods, total_bads, limits):
-    """Counts, validity, IV term and bad rate of every run of fine classes."""
+def _prior(value):
+    try:
+        prior = float(value)
+    except (TypeError, ValueError):
+        raise InputError(f"prior_rows: must be a number; got {value!r}") from None
+    if not (math.isfinite(prior) and prior >= 0):
+        raise InputError(f"prior_rows: must be finite and non-negative; got {value!r}")
+    return prior
+
+
+def _candidates(goods, bads, total_goods, total_bads, limits, prior_rows=0.0):
+    """Counts, validity, IV term and bad rate of every run of fine classes.
+
+    With a prior, the IV term weighs the shares by the shrunk weight of evidence and the rate
+    is the shrunk bad rate, so that the trend holds for the weights of evidence the bins get;
+    a bin then needs rows, but not both outcomes, for its weight of evidence to be finite.
+    """
     cum_goods = np.concatenate(([0.0], np.cumsum(goods)))
     cum_bads = np.concatenate(([0.0], np.cumsum(bads)))
     g = cum_goods[None, :] - cum_goods[:, None]
     b = cum_bads[None, :] - cum_bads[:, None]
     n_bounds = cum_goods.size
+    estimable = ((g > 0) & (b > 0)) if prior_rows == 0 else (g + b > 0)
     valid = (
         np.triu(np.ones((n_bounds, n_bounds), dtype=bool), k=1)
-        & (g > 0)
-        & (b > 0)
+        & estimable
         & (g + b >= limits.count)
         & (g >= limits.goods)
         & (b >= limits.bads)
@@ -301,9 +329,11 @@ def _candidates(goods, bads, total_goods, total_bads, limits):
     # the costly logarithm skips the empty, reversed and too-small bins.
     g, b = g[valid], b[valid]
     term = np.full((n_bounds, n_bounds), -np.inf)
-    term[valid] = iv_terms(g / total_goods, b / total_bads)
+    woe = shrunk_woe(g, b, total_goods, total_bads, prior_rows)
+    term[valid] = iv_terms(g / total_goods, b / total_bads, woe)
     rate = np.full((n_bounds, n_bounds), np.nan)
-    rate[valid] = b / (g + b)
+    shrunk = prior_rows * total_bads / (total_goods + total_bads) if prior_rows else 0.0
+    rate[valid] = (b + shrunk) / (g + b + prior_rows)
     return _Candidates(cum_goods, cum_bads, valid, term, rate)
 
 
@@ -448,7 +478,7 @@ def _log_likelihood(cand, starts):
     g = np.diff(cand.cum_goods[bounds])
     b = np.diff(cand.cum_bads[bounds])
     n = g + b
-    return float(np.sum(g * np.log(g / n)) + np.sum(b * np.log(b / n)))
+    return float(np.sum(special.xlogy(g, g / n)) + np.sum(special.xlogy(b, b / n)))
 
 
 def _evidence(cand, turn_starts, monotone_starts):

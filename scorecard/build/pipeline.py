@@ -230,7 +230,7 @@ def _with_counts(draft: Characteristic, table: np.ndarray, limits) -> Characteri
     woe, notes = binning.bin_weights_of_evidence(goods, bads, [b.kind for b in draft.bins], limits)
     bins = tuple(replace(b, goods=float(g), bads=float(bd), woe=float(w), note=n)
                  for b, g, bd, w, n in zip(draft.bins, goods, bads, woe, notes))
-    return replace(draft, bins=bins)
+    return replace(draft, bins=bins, prior_rows=limits.prior_rows)
 
 
 def _unseen_rules(char: Characteristic, rules, coefficient: float = 1.0) -> Characteristic:
@@ -433,7 +433,7 @@ def _build(config, engine, progress, rows: RowFacts | None = None,
 
     b = config.binning
     limits = binning.limits_from(dev_goods + dev_bads, b.max_bins, b.min_bin_share,
-                                 b.min_bin_goods, b.min_bin_bads)
+                                 b.min_bin_goods, b.min_bin_bads, b.prior_rows)
     drafts = _class_all(config, layouts, counts, limits, reports)
     if not drafts:
         raise InputError(f"{config.data.source}: no characteristic could be binned")

@@ -80,6 +80,7 @@ class Characteristic:
     sentinels: tuple[float, ...] = ()
     development_range: tuple[float, float] | None = None
     information_value: float = 0.0
+    prior_rows: float = 0.0
 
     @property
     def max_points(self) -> int:
@@ -355,7 +356,9 @@ def _characteristic_from_dict(raw: dict) -> Characteristic:
         sentinels=tuple(float(x) for x in raw.get("sentinels", raw.get(_OLD_SENTINELS_KEY, ()))),
         development_range=None if rng is None else (_number(rng[0], "development_range"),
                                                      _number(rng[1], "development_range")),
-        information_value=float(raw.get("information_value", 0.0)))
+        information_value=float(raw.get("information_value", 0.0)),
+        # Files written before the prior existed had none.
+        prior_rows=_number(raw.get("prior_rows", 0.0), "prior_rows"))
 
 
 def _check_consistent(card: Scorecard, source: str) -> None:

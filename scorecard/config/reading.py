@@ -92,6 +92,7 @@ _BINNING_SCHEMA = {
     "fine_bins": v.setting(c.FINE_BINS), "max_bins": v.setting(c.MAX_BINS),
     "min_bin_share": v.setting(c.MIN_BIN_SHARE),
     "min_bin_goods": v.setting(c.MIN_BIN_GOODS), "min_bin_bads": v.setting(c.MIN_BIN_BADS),
+    "prior_rows": v.setting(c.PRIOR_ROWS),
     "trend": v.setting(c.TREND), "sentinels": _sentinels,
     "rare_level_share": v.setting(c.RARE_LEVEL_SHARE),
     "max_levels": v.setting(c.MAX_LEVELS),

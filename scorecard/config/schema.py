@@ -177,9 +177,13 @@ class BinningConfig:
     min_bin_share : float
         Smallest share of rows in a merged class: a guard against slivers only.
     min_bin_goods, min_bin_bads : int
-        Fewest goods and bads in a merged class: the rule that makes each bin's weight of
-        evidence precise enough, its standard error ``sqrt(1/goods + 1/bads)`` being at most
-        0.45 at the defaults, whatever the share of rows the bin holds.
+        Fewest goods and bads in a merged class.
+    prior_rows : float
+        Weight of the prior that shrinks each bin's weight of evidence toward 0 (average risk):
+        the bin counts as if it held this many more rows at the development sample's bad rate.
+        Large bins barely move; small ones keep only the evidence their size supports. 0 turns
+        the shrinkage off (a bin then needs goods and bads, and small missing or sentinel bins
+        get weight of evidence 0).
     trend : str
         How the bad rate moves with the value: ``detect`` (found from the data), ``rises``,
         ``falls`` or ``any`` (no order).
@@ -198,6 +202,7 @@ class BinningConfig:
     min_bin_share: float = c.MIN_BIN_SHARE.default
     min_bin_goods: int = c.MIN_BIN_GOODS.default
     min_bin_bads: int = c.MIN_BIN_BADS.default
+    prior_rows: float = c.PRIOR_ROWS.default
     trend: str = c.TREND.default
     sentinels: tuple[SentinelValue, ...] = ()
     rare_level_share: float = c.RARE_LEVEL_SHARE.default

@@ -143,7 +143,8 @@ def starter_config(data, target: str, out=None, *, encoding: str = "utf-8",
     lines += ["binning:", f"  fine_bins: {d.FINE_BINS.default}",
               f"  max_bins: {d.MAX_BINS.default}", f"  min_bin_share: {d.MIN_BIN_SHARE.default}",
               f"  min_bin_goods: {d.MIN_BIN_GOODS.default}",
-              f"  min_bin_bads: {d.MIN_BIN_BADS.default}", f"  trend: {d.TREND.default}",
+              f"  min_bin_bads: {d.MIN_BIN_BADS.default}",
+              f"  prior_rows: {d.PRIOR_ROWS.default:g}", f"  trend: {d.TREND.default}",
               "  sentinels: []", "characteristics:" + ("" if chars else " {}")]
     lines += [f"  {_scalar(n)}: {{kind: {role}}}            # {why}" for n, role, why in chars]
     lines += ["selection:", f"  min_iv: {d.MIN_IV.default}",

@@ -79,6 +79,12 @@ def write_bins(ws: Worksheet, result) -> None:
                              "sample. Positive weight of evidence (+, blue) means lower risk than "
                              "average; negative (-, sand) higher. Points are blank for "
                              "characteristics not in the model.")
+    prior = result.config.binning.prior_rows
+    if prior > 0:
+        row = note(ws, row, f"Each weight of evidence is shrunk toward 0 (average risk) as if its "
+                            f"bin held {prior:g} more rows at the development sample's bad rate "
+                            "(a beta prior), so a small bin keeps only the evidence its size "
+                            "supports; the bad rate column is the bin's own.")
     note(ws, row, "Beside each characteristic: bad rate by attribute (bars, left axis) and weight "
                   "of evidence (right axis): a line through the value ranges, separate diamonds "
                   "for missing and sentinel values; a bin without development rows is not drawn.")
