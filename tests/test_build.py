@@ -7,7 +7,6 @@ points) and reproducibility (the model file alone reproduces the scores behind t
 from __future__ import annotations
 
 import dataclasses
-import warnings
 
 import numpy as np
 import pandas as pd
@@ -23,7 +22,7 @@ from scorecard.data.read import read_frame
 from scorecard.data.samples import EXCLUDED, assign_samples, parse_dates
 from scorecard.evaluation.histograms import score_histogram
 from scorecard.fit.selection import select_characteristics
-from scorecard.measures.information import information_value
+from scorecard.measures.information import iv_terms, shrunk_woe
 
 
 def _samples(config, frame):
@@ -83,7 +82,11 @@ def test_bins_meet_the_limits_and_follow_the_trend(demo_build):
         for x in ordered:
             assert x.count >= b.min_bin_share * total - 1e-9
             assert x.goods >= b.min_bin_goods and x.bads >= b.min_bin_bads
-        rates = np.array([x.bads / x.count for x in ordered])
+        # The trend holds for the rates the bins are scored with: shrunk by the prior toward
+        # the characteristic's overall rate, as its weights of evidence are.
+        goods, bads = (sum(getattr(x, k) for x in char.bins) for k in ("goods", "bads"))
+        prior_bads = char.prior_rows * bads / (goods + bads)
+        rates = np.array([(x.bads + prior_bads) / (x.count + char.prior_rows) for x in ordered])
         woe = np.array([x.woe for x in ordered])
         if rep.trend == "rises":
             assert np.all(np.diff(rates) > 0) and np.all(np.diff(woe) < 0)
@@ -93,19 +96,23 @@ def test_bins_meet_the_limits_and_follow_the_trend(demo_build):
 
 def test_woe_matches_its_definition(demo_build):
     # WoE = ln(share of goods / share of bads): the trade's definition (Siddiqi 2006, published,
-    # from memory).
+    # from memory), with each bin's counts raised by the prior's pseudo-rows at the overall
+    # rate (the beta-binomial posterior: Gelman et al., Bayesian Data Analysis, published).
     char = demo_build.card.characteristics[0]
+    assert char.prior_rows == demo_build.config.binning.prior_rows == 20
     g = np.array([b.goods for b in char.bins])
     bd = np.array([b.bads for b in char.bins])
+    share = char.prior_rows / (g.sum() + bd.sum())
     for b in char.bins:
         if b.kind == RANGE:
-            assert b.woe == pytest.approx(np.log((b.goods / g.sum()) / (b.bads / bd.sum())))
+            assert b.woe == pytest.approx(np.log(((b.goods + share * g.sum()) / g.sum())
+                                                 / ((b.bads + share * bd.sum()) / bd.sum())))
 
 
 def test_reported_iv_is_the_measure_of_the_bins_where_no_fallback_applies(demo_build):
     # One implementation: IV = sum((g_i / G - b_i / B) * WoE_i) (Siddiqi 2006, published, from
-    # memory), exactly as measures.information_value gives it. A bin without cases adds 0 whatever
-    # its WoE, so only a fallback on a bin with cases (0.5 added, too few rows) sets them apart.
+    # memory), with each bin's WoE shrunk by the prior as the model codes it. A bin without cases
+    # adds 0 whatever its WoE, so only a fallback on a bin with cases sets them apart.
     checked = 0
     for rep in demo_build.reports:
         char = rep.characteristic
@@ -113,11 +120,10 @@ def test_reported_iv_is_the_measure_of_the_bins_where_no_fallback_applies(demo_b
             continue
         g = np.array([b.goods for b in char.bins])
         bd = np.array([b.bads for b in char.bins])
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore", UserWarning)  # bins without cases: WoE nan, term 0
-            expected = information_value(g, bd).total
-        assert rep.information_value == expected
-        assert char.information_value == expected
+        shrunk = shrunk_woe(g, bd, g.sum(), bd.sum(), char.prior_rows)
+        expected = float(np.sum(iv_terms(g / g.sum(), bd / bd.sum(), shrunk)))
+        assert rep.information_value == pytest.approx(expected, rel=1e-12)
+        assert char.information_value == rep.information_value
         checked += 1
     assert checked >= 10
 

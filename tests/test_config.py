@@ -180,9 +180,10 @@ def test_design_example_parses_to_the_values_it_states():
 
 def test_minimal_config_takes_every_default():
     # Expected defaults: published (the task contract lists each default value), except
-    # min_bin_share (0.05 -> 0.01) and min_iv (0.02 -> 0), changed on the evidence of
-    # benchmarks/bench_quality.py: the goods/bads minimums are the precision rule of a bin, and
-    # the stepwise test, not a flat IV floor, decides entry.
+    # min_bin_share (0.05 -> 0.01), min_bin_goods and min_bin_bads (10 -> 1) with prior_rows
+    # (new, 20) and min_iv (0.02 -> 0), changed on the evidence of benchmarks/bench_quality.py:
+    # the prior on each bin's WoE is the precision rule, and the stepwise test, not a flat IV
+    # floor, decides entry.
     config = parse(MINIMAL)
     assert config.name == "lease"
     assert config.data == DataConfig(

@@ -496,3 +496,74 @@ def test_bad_input_names_the_key(kwargs, message):
 def test_bad_starts(starts, n_fine, message):
     with pytest.raises(InputError, match=message):
         bin_of_fine_class(starts, n_fine)
+
+
+# --- with a prior on each bin's weight of evidence --------------------------------------------
+
+
+def shrunk_bins(bins, total_goods, total_bads, prior):
+    """Each bin's shrunk bad rate and IV term, written from the beta-prior definition."""
+    share = prior / (total_goods + total_bads)
+    out = []
+    for g, b in bins:
+        posterior_goods, posterior_bads = g + share * total_goods, b + share * total_bads
+        woe = math.log(posterior_goods / total_goods) - math.log(posterior_bads / total_bads)
+        out.append((posterior_bads / (posterior_goods + posterior_bads),
+                    (g / total_goods - b / total_bads) * woe))
+    return out
+
+
+def brute_best_shrunk(goods, bads, trend, max_bins, total_goods, total_bads, prior, min_count):
+    n = len(goods)
+    best = None
+    for n_cuts in range(1, n):
+        for cuts in itertools.combinations(range(1, n), n_cuts):
+            bins = bin_counts(goods, bads, (0,) + cuts)
+            if len(bins) > max_bins or any(g + b <= 0 or g + b < min_count for g, b in bins):
+                continue
+            rated = shrunk_bins(bins, total_goods, total_bads, prior)
+            rates = [r for r, _ in rated]
+            steps = [right - left for left, right in zip(rates, rates[1:])]
+            if trend == "rises" and not all(s > 0 for s in steps):
+                continue
+            if trend == "falls" and not all(s < 0 for s in steps):
+                continue
+            iv = sum(term for _, term in rated)
+            best = iv if best is None else max(best, iv)
+    return best
+
+
+@pytest.mark.parametrize("trend", ["rises", "falls", "any"])
+@settings(max_examples=60, deadline=None)
+@given(case=small_cases(), prior=st.sampled_from([0.5, 5.0, 20.0, 100.0]))
+def test_with_a_prior_matches_exhaustive_search(case, trend, prior):
+    # Reference optimum: exhaustive search over all compositions, with each bin's IV term
+    # weighed by its beta-posterior WoE and the trend on the posterior bad rates (the shrunk
+    # rates the bins are scored with). Bins need rows, not both outcomes.
+    assume(case["total_goods"] > 0 and case["total_bads"] > 0)
+    case = {**case, "min_bin_goods": 0.0, "min_bin_bads": 0.0}
+    result = optimal_bins(**case, trend=trend, prior_rows=prior)
+    best = brute_best_shrunk(case["goods"], case["bads"], trend, case["max_bins"],
+                             case["total_goods"], case["total_bads"], prior,
+                             case["min_bin_count"])
+    assert result.feasible == (best is not None)
+    if best is not None:
+        assert result.iv == pytest.approx(best, rel=1e-9, abs=1e-12)
+        bins = bin_counts(case["goods"], case["bads"], result.starts)
+        rated = shrunk_bins(bins, case["total_goods"], case["total_bads"], prior)
+        assert sum(t for _, t in rated) == pytest.approx(result.iv, rel=1e-9, abs=1e-12)
+
+
+def test_a_prior_lets_a_small_one_sided_bin_stand():
+    # Without a prior a bin needs goods and bads; with one, 12 rows that are all bad form a bin
+    # of their own, and its weight of evidence is finite.
+    plain = optimal_bins([400.0, 0.0], [40.0, 12.0], trend="rises")
+    shrunk = optimal_bins([400.0, 0.0], [40.0, 12.0], trend="rises", prior_rows=20.0)
+    assert not plain.feasible
+    assert shrunk.feasible and shrunk.starts == (0, 1) and math.isfinite(shrunk.iv)
+
+
+def test_prior_must_be_finite_and_non_negative():
+    for value in (-1.0, math.inf, "x"):
+        with pytest.raises(InputError, match="prior_rows"):
+            optimal_bins([1.0, 2.0], [1.0, 1.0], prior_rows=value)

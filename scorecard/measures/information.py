@@ -243,9 +243,10 @@ def shrunk_woe(goods, bads, total_goods, total_bads, prior_rows):
         return np.zeros(np.broadcast(goods, bads).shape)[()]
     if prior_rows == 0:
         return woe_of_shares(np.divide(goods, total_goods), np.divide(bads, total_bads))
-    share = prior_rows / (total_goods + total_bads)
-    return woe_of_shares((goods + share * total_goods) / total_goods,
-                         (bads + share * total_bads) / total_bads)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        share = np.divide(prior_rows, np.add(total_goods, total_bads))
+        return woe_of_shares((goods + share * total_goods) / total_goods,
+                             (bads + share * total_bads) / total_bads)
 
 
 def _smoothed_shares(goods, bads, smoothing):
