@@ -237,7 +237,7 @@ def shrunk_woe(goods, bads, total_goods, total_bads, prior_rows):
     >>> shrunk_woe(np.array([30.0, 3.0]), np.array([10.0, 1.0]), 60.0, 40.0, 0.0).round(4)
     array([0.6931, 0.6931])
     >>> shrunk_woe(np.array([30.0, 3.0]), np.array([10.0, 1.0]), 60.0, 40.0, 10.0).round(4)
-    array([0.5596, 0.1955])
+    array([0.539 , 0.1823])
     """
     if np.isinf(prior_rows):
         return np.zeros(np.broadcast(goods, bads).shape)[()]
