@@ -2,9 +2,9 @@
 mutual information and Cramér's V (see the package docstring for the conventions).
 
 The one home of the weight of evidence and information value formulas: :func:`woe_of_shares`,
-:func:`iv_terms` and :func:`woe_standard_error` are the element-wise kernels, unchecked so that
-the exact optimiser can call them on whole arrays of candidate bins; every other stage calls
-them or the checked functions built on them.
+:func:`shrunk_woe`, :func:`iv_terms` and :func:`woe_standard_error` are the element-wise
+kernels, unchecked so that the exact optimiser can call them on whole arrays of candidate bins;
+every other stage calls them or the checked functions built on them.
 """
 
 from __future__ import annotations
