@@ -194,10 +194,12 @@ def test_a_perfectly_separating_characteristic_is_reported_not_binned(tmp_path):
     assert "x" in result.card.names
 
 
-def test_a_forced_perfect_separation_fits_with_a_warning_and_sane_numbers(tmp_path):
+@pytest.mark.parametrize("prior", [0, 20])
+def test_a_forced_perfect_separation_fits_with_a_warning_and_sane_numbers(tmp_path, prior):
     frame = make_frame()
     frame["oracle"] = np.where(frame["y"] == "bad", 1.0, 0.0)
-    extra = "characteristics: {oracle: {cuts: [0.5]}}\nselection: {keep: [oracle]}\n"
+    extra = ("characteristics: {oracle: {cuts: [0.5]}}\nselection: {keep: [oracle]}\n"
+             f"binning: {{prior_rows: {prior}}}\n")
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         result = build(via_csv(frame, tmp_path), tmp_path, extra)
@@ -208,7 +210,12 @@ def test_a_forced_perfect_separation_fits_with_a_warning_and_sane_numbers(tmp_pa
     # separation it must not run away.
     assert np.abs(fit.coefficients[1:]).max() < 5
     char = next(c for c in result.card.characteristics if c.name == "oracle")
-    assert [b.note.startswith("no goods or no bads") for b in char.bins[:2]] == [True, True]
+    if prior:
+        # The prior keeps one-sided bins finite: no fallback is needed.
+        assert [b.note for b in char.bins[:2]] == ["", ""]
+        assert np.isfinite([b.woe for b in char.bins[:2]]).all()
+    else:
+        assert [b.note.startswith("no goods or no bads") for b in char.bins[:2]] == [True, True]
     assert all(isinstance(b.points, int) for b in char.bins)
 
 
