@@ -559,7 +559,8 @@ def test_shrunk_woe_without_a_prior_is_the_raw_weight_of_evidence():
 
 
 @settings(max_examples=60, deadline=None)
-@given(goods=st.floats(0, 500), bads=st.floats(0, 500), extra_goods=st.floats(1, 5000),
+@given(goods=st.integers(0, 2000).map(lambda q: q / 4),
+       bads=st.integers(0, 2000).map(lambda q: q / 4), extra_goods=st.floats(1, 5000),
        extra_bads=st.floats(1, 5000), prior=st.floats(0.5, 200))
 def test_shrunk_woe_keeps_the_sign_and_never_exceeds_the_raw_value(goods, bads, extra_goods,
                                                                     extra_bads, prior):
