@@ -5,7 +5,7 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import assume, given, settings
+from hypothesis import assume, example, given, settings
 from hypothesis import strategies as st
 from scipy.optimize import isotonic_regression
 
@@ -260,6 +260,13 @@ def test_reversal_swaps_the_directions(case):
 
 @settings(max_examples=40, deadline=None)
 @given(case=larger_cases())
+# Found by hypothesis: a peak with a higher likelihood but a lower IV than 'falls' was taken.
+@example(case={
+    "goods": np.array([0, 0, 0, 0, 0, 0, 0, 0, 0, 28, 0, 75, 0, 0, 0, 0, 0, 0, 68, 0, 0, 0,
+                       32, 14, 0, 0, 81], dtype=float),
+    "bads": np.array([0, 0, 0, 0, 0, 0, 0, 0, 0, 1, 11, 14, 0, 0, 0, 46, 22, 0, 2, 0, 0, 0,
+                      2, 2, 17, 8, 2], dtype=float),
+    "max_bins": 3, "min_bin_count": 0.0, "min_bin_goods": 0.0, "min_bin_bads": 0.0})
 def test_looser_constraints_never_lose_information_value(case):
     ascending = optimal_bins(**case, trend="rises")
     descending = optimal_bins(**case, trend="falls")

@@ -17,10 +17,10 @@ A single turn of the bad rate (``'valley'``: it falls, then rises, each at least
 ``'peak'``: it rises, then falls) is the same programme run twice: layers of bins in the first
 direction, and layers whose last bin is in the second direction, fed by either kind through the
 same running maximum. ``trend='detect'`` takes such a turn only when the data demand it: the
-turn must raise the binomial log-likelihood of the bins over the best monotone partition by a
-likelihood-ratio statistic of at least :data:`TURN_EVIDENCE` (chi-squared with one degree of
-freedom, the turning point, at the 0.001 level), so that a monotone characteristic stays
-monotone.
+turn must have the higher information value, and it must raise the binomial log-likelihood of
+the bins over the best monotone partition by a likelihood-ratio statistic of at least
+:data:`TURN_EVIDENCE` (chi-squared with one degree of freedom, the turning point, at the 0.001
+level), so that a monotone characteristic stays monotone.
 
 With ``prior_rows`` each bin's weight of evidence is shrunk toward 0 by a beta prior centred on
 the overall bad rate (:func:`scorecard.measures.information.shrunk_woe`), and the IV weighs the
@@ -137,8 +137,9 @@ def optimal_bins(
         ``'rises'``: the bad rate strictly increases from bin to bin; ``'falls'``: it strictly
         decreases; ``'valley'``: it strictly falls at least once, then strictly rises at least
         once; ``'peak'``: the mirror image; ``'any'``: any order; ``'detect'``: the better of
-        rises and falls (rises on a tie), or the better of valley and peak when that beats it
-        by the likelihood-ratio statistic :data:`TURN_EVIDENCE`.
+        rises and falls (rises on a tie), or the better of valley and peak when that has the
+        higher information value and beats it by the likelihood-ratio statistic
+        :data:`TURN_EVIDENCE`.
     max_bins : int, default 6
         Largest number of bins, at least 2.
     min_bin_count, min_bin_goods, min_bin_bads : float, default 0.0
@@ -188,8 +189,12 @@ def optimal_bins(
         found, used = _better(_best(cand, max_bins, "rises"), _best(cand, max_bins, "falls"))
         turn, shape = _better_turn(_best_turn(cand, max_bins, "valley"),
                                    _best_turn(cand, max_bins, "peak"))
-        if turn is not None and (found is None or _evidence(cand, turn[0], found[0])
-                                 >= TURN_EVIDENCE):
+        # The turn must win on both counts: the likelihood-ratio evidence, and the information
+        # value the optimiser maximises (more bins can raise the likelihood while merging
+        # away the contrast that the IV measures).
+        if turn is not None and (found is None or (
+                turn[1] > found[1] + _IV_TIE * abs(found[1])
+                and _evidence(cand, turn[0], found[0]) >= TURN_EVIDENCE)):
             found, used = turn, shape
     elif trend in TURNS:
         found, used = _best_turn(cand, max_bins, trend), trend
