@@ -114,8 +114,12 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
         check_columns(config, engine.columns)
         if progress:
             progress(f"read {engine.n_rows} rows from {config.data.source}")
-        with open_rejects_engine(config, engine, progress) as rejects_engine:
-            result = build_scorecard(config, engine, progress, rejects_engine)
+        if config.segments is not None:
+            from scorecard.build.segments import build_segmented
+            result = build_segmented(config, engine, progress)
+        else:
+            with open_rejects_engine(config, engine, progress) as rejects_engine:
+                result = build_scorecard(config, engine, progress, rejects_engine)
         if is_query(config.data.source):
             # A query cannot be read again for the manifest: hash the rows the build read.
             result = replace(result, rows_sha256=rows_sha256(engine.frame))
@@ -140,9 +144,9 @@ def _previous_card(model_path: Path):
     """The model file a build is about to replace, if there is one that loads; else None."""
     if not model_path.is_file():
         return None
-    from scorecard.card.scorecard import load_scorecard
+    from scorecard.card.segmented import load_model
     try:
-        return load_scorecard(model_path)
+        return load_model(model_path)
     except InputError:
         return None
 

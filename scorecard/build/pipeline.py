@@ -76,6 +76,8 @@ def _candidate_kinds(config, head: pd.DataFrame, reports: dict) -> dict:
     reserved = {data.target, data.weight} | set(data.ignore) | set(data.protected)
     if config.samples.out_of_time is not None:
         reserved.add(config.samples.out_of_time.column)
+    if config.segments is not None:
+        reserved.add(config.segments.column)
     kinds = {}
     for name in head.columns:
         if name in reserved:

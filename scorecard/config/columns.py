@@ -62,6 +62,8 @@ def _named_columns(config: Config) -> Iterator[tuple[tuple, str]]:
             yield ("data", key, index), column
     if config.samples.out_of_time is not None:
         yield ("samples", "out_of_time", "column"), config.samples.out_of_time.column
+    if config.segments is not None:
+        yield ("segments", "column"), config.segments.column
     for name in config.characteristics:
         yield ("characteristics", name), name
     for index, column in enumerate(config.selection.keep):

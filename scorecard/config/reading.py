@@ -20,6 +20,7 @@ from scorecard.config.exclusions import read_exclusions
 from scorecard.config.messages import display, message, shorten
 from scorecard.config.nodes import Source, describe, is_null
 from scorecard.config.rejects import METHOD_SETTINGS, REJECT_METHODS, RejectsConfig
+from scorecard.config.segments import read_segments
 from scorecard.config.schema import (
     BinningConfig,
     CharacteristicOverride,
@@ -134,6 +135,7 @@ _FAIRNESS_SCHEMA = {
 _TOP_KEYS = (
     "name", "data", "samples", "binning", "characteristics", "selection", "scaling", "output",
     "engine", "scoring", "evaluation", "stability", "fairness", "grades", "rejects",
+    "segments",
 )
 _GRADES_SCHEMA = {
     "count": v.whole(c.Interval(2)),
@@ -174,7 +176,12 @@ def read_config(source: Source, root: yaml.MappingNode, base: Path, default_name
     characteristics = _read_characteristics(source, top.get("characteristics"))
     selection = SelectionConfig(**v.section(source, ("selection",), top.get("selection"),
                                            _SELECTION_SCHEMA))
-    reserved = _reserved_columns(data, samples)
+    segments = read_segments(source, top.get("segments"))
+    reserved = _reserved_columns(data, samples, segments)
+    if segments is not None and reserved[segments.column] != "segments.column":
+        source.fail(("segments", "column"), f"'{segments.column}' is named in "
+                                            f"{reserved[segments.column]}; a segment column "
+                                            "must have no other role")
     _check_overrides(source, characteristics, reserved)
     _check_keep(source, selection, characteristics, reserved)
     engine = top.get("engine")
@@ -197,7 +204,8 @@ def read_config(source: Source, root: yaml.MappingNode, base: Path, default_name
         fairness=FairnessConfig(**v.section(source, ("fairness",), top.get("fairness"),
                                            _FAIRNESS_SCHEMA)),
         grades=_read_grades(source, top.get("grades")),
-        rejects=_read_rejects(source, top.get("rejects"), base),
+        rejects=_read_rejects(source, top.get("rejects"), base, segments),
+        segments=segments,
         config_file=source.file,
         key_lines=FrozenMapping((display(path), line) for path, line in source.lines.items()
                                 if path),
@@ -300,9 +308,10 @@ def _check_groups(source: Source, path: tuple, groups: tuple[tuple[str, ...], ..
             first_at[level] = where
 
 
-def _reserved_columns(data: DataConfig, samples: SamplesConfig) -> dict[str, str]:
+def _reserved_columns(data: DataConfig, samples: SamplesConfig, segments=None) -> dict[str, str]:
     """Columns that can never be characteristics, each with the key that reserves it."""
-    reserved = {column: "data.protected" for column in data.protected}
+    reserved = {} if segments is None else {segments.column: "segments.column"}
+    reserved.update({column: "data.protected" for column in data.protected})
     reserved.update({column: "data.ignore" for column in data.ignore})
     if samples.out_of_time is not None:
         reserved[samples.out_of_time.column] = "samples.out_of_time.column"
@@ -381,11 +390,15 @@ _REJECTS_SCHEMA = {
 }
 
 
-def _read_rejects(source: Source, node: yaml.Node | None, base: Path) -> RejectsConfig | None:
+def _read_rejects(source: Source, node: yaml.Node | None, base: Path,
+                  segments=None) -> RejectsConfig | None:
     """The rejects section, or None when absent; a setting of another method is refused."""
     if node is None or is_null(node):
         return None
     path = ("rejects",)
+    if segments is not None:
+        source.fail(path, "cannot be given with segments yet: build each segment's card with "
+                          "its own config to infer its rejects")
     values = v.section(source, path, node, _REJECTS_SCHEMA)
     v.require(source, path, values, ("source",))
     method = values.get("method", "fuzzy")

@@ -373,6 +373,28 @@ class GradesConfig:
 
 
 @dataclass(frozen=True, slots=True)
+class SegmentsConfig:
+    """How rows are split into segments, each with its own card.
+
+    Attributes
+    ----------
+    column : str
+        The column that picks the segment; never a characteristic of any card.
+    groups : tuple of (name, tuple of levels), or None
+        Named groups of the column's levels, in the order the cards are listed.
+    cuts : tuple of float, or None
+        Cuts of a numeric column: ``len(cuts) + 1`` segments, each ``lower <= x < upper``.
+    names : tuple of str
+        Names of the segments, in order (given, or made from the cuts).
+    """
+
+    column: str
+    groups: tuple[tuple[str, tuple[str, ...]], ...] | None = None
+    cuts: tuple[float, ...] | None = None
+    names: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True, slots=True)
 class Config:
     """A validated scorecard config.
 
@@ -397,6 +419,7 @@ class Config:
     fairness: FairnessConfig = field(default_factory=FairnessConfig)
     grades: GradesConfig | None = None
     rejects: RejectsConfig | None = None
+    segments: SegmentsConfig | None = None
     config_file: str = field(default="", compare=False)
     key_lines: FrozenMapping[str, int] = field(
         default_factory=FrozenMapping, compare=False, repr=False

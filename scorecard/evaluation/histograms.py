@@ -77,3 +77,24 @@ def gains_table(hist: ScoreHistogram, starts: np.ndarray, scale: Scaling) -> pd.
         })
     table["Gap (KS)"] = table["Cumulative share of bads"] - table["Cumulative share of goods"]
     return table
+
+
+def pooled_histogram(hists) -> ScoreHistogram:
+    """One histogram of several on the same scale (segments' cards), over the union of scores.
+
+    Examples
+    --------
+    >>> a = ScoreHistogram(10, np.array([1.0, 2.0]), np.array([0.0, 1.0]))
+    >>> b = ScoreHistogram(11, np.array([3.0]), np.array([1.0]))
+    >>> pooled = pooled_histogram([a, b])
+    >>> pooled.low, pooled.goods.tolist(), pooled.bads.tolist()
+    (10, [1.0, 5.0], [0.0, 2.0])
+    """
+    hists = list(hists)
+    low = min(h.low for h in hists)
+    high = max(h.low + len(h.goods) for h in hists)
+    goods, bads = np.zeros(high - low), np.zeros(high - low)
+    for h in hists:
+        goods[h.low - low:h.low - low + len(h.goods)] += h.goods
+        bads[h.low - low:h.low - low + len(h.bads)] += h.bads
+    return ScoreHistogram(low, goods, bads)

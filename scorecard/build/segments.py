@@ -1,0 +1,165 @@
+"""The build of a segmented model: one card per segment, every card on the config's one scale.
+
+The outcome pass codes the rows and draws the samples once over the whole file, as for one
+card; one more pass codes each row's segment. Each segment's card is then built by the same
+passes as a single card, on the rows of that segment only: the other rows are marked as outside
+every sample in the per-row facts (a small int8 array per segment), so each pass skips them
+while reading the same chunks. No copy of the data is made; the passes run once per segment.
+
+A segment too small to build is refused with one line naming it and its counts.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from scorecard.build.pipeline import _build, _outcome_facts
+from scorecard.build.result import BuildResult
+from scorecard.card.segmented import NO_SEGMENT, SegmentedScorecard, SegmentRule
+from scorecard.config import Config
+from scorecard.data.outcome import BAD, GOOD
+from scorecard.data.samples import DEVELOPMENT, EXCLUDED, SAMPLE_NAMES
+from scorecard.engines.passes import RowFacts
+from scorecard.errors import InputError
+from scorecard.evaluation.histograms import performance, pooled_histogram
+from scorecard.measures.ranking import Discrimination
+
+POOLED = "all segments"
+
+
+@dataclass(frozen=True)
+class SegmentedBuildResult:
+    """A segmented build: the model, each segment's own build and the pooled measures.
+
+    ``segments`` maps a segment's name to the :class:`BuildResult` of its card (its workbook
+    sheets, counts and samples); ``pooled`` holds each sample's AUC, Gini and KS over every
+    segment's rows scored by their own card (the cards share one scale, so their scores pool).
+    """
+
+    config: Config
+    card: SegmentedScorecard
+    segments: dict[str, BuildResult]
+    pooled: dict[str, Discrimination]
+    outputs: dict[str, Path] = field(default_factory=dict)   # set by api.build (replace)
+    previous: object = None
+
+    @property
+    def performance(self) -> dict[str, Discrimination]:
+        return self.pooled
+
+    def segment_table(self) -> pd.DataFrame:
+        """One row per segment and one for all: rows, goods, bads, bad rate, characteristics
+        in the card and the AUC of every sample measured."""
+        return segment_table(self.segments, self.pooled)
+
+    def tables(self) -> dict:
+        """The Segments table, then each segment's tables under ``"<segment>: <table>"``."""
+        out = {"Segments": self.segment_table()}
+        for name, result in self.segments.items():
+            out.update({f"{name}: {key}": table for key, table in result.tables().items()})
+        return out
+
+
+def segment_table(segments: dict, pooled: dict) -> pd.DataFrame:
+    samples = [s for s in SAMPLE_NAMES.values()
+               if any(s in r.performance for r in segments.values())]
+    rows = []
+    for name, r in segments.items():
+        f = r.samples
+        goods, bads = sum(f.goods.values()), sum(f.bads.values())
+        rows.append({"Segment": name, "Rows": f.rows_read, "Goods": goods, "Bads": bads,
+                     "Bad rate": bads / (goods + bads) if goods + bads else np.nan,
+                     "Characteristics": len(r.card.characteristics),
+                     **{f"AUC {s}": r.performance[s].auc if s in r.performance else np.nan
+                        for s in samples}})
+    total = {k: sum(row[k] for row in rows) for k in ("Rows", "Goods", "Bads")}
+    rows.append({"Segment": POOLED, **total,
+                 "Bad rate": total["Bads"] / max(total["Goods"] + total["Bads"], 1e-300),
+                 "Characteristics": np.nan,
+                 **{f"AUC {s}": pooled[s].auc if s in pooled else np.nan for s in samples}})
+    return pd.DataFrame(rows)
+
+
+def segment_rule(config: Config) -> SegmentRule:
+    s = config.segments
+    if s.cuts is not None:
+        return SegmentRule(s.column, s.names, cuts=s.cuts)
+    return SegmentRule(s.column, s.names, groups=tuple(levels for _, levels in s.groups))
+
+
+def build_segmented(config: Config, engine, progress=None) -> SegmentedBuildResult:
+    """Build one card per segment of ``config.segments`` on the rows of ``engine``.
+
+    Each card has its own binning, selection and fit; every card takes the config's scaling.
+    """
+    rule = segment_rule(config)
+    rows = _outcome_facts(config, engine)
+    segment = engine.collect(lambda chunk: (rule.codes(chunk[rule.column]),),
+                             columns=[rule.column])[0]
+    _refuse_rows_without_segment(config, engine, rule, segment)
+    results = {}
+    for index, name in enumerate(rule.names):
+        own = RowFacts(rows.label, rows.weight,
+                       np.where(segment == index, rows.sample, EXCLUDED).astype(np.int8))
+        _refuse_if_too_small(config, name, own, int((segment == index).sum()))
+        said = None if progress is None else (lambda text, n=name: progress(f"{n}: {text}"))
+        try:
+            result = _build(replace(config, name=f"{config.name}: {name}"), engine, said, own)
+        except InputError as exc:
+            raise InputError(f"segments: segment {name!r} ({_counts(own, segment == index)}): "
+                             f"{exc}") from None
+        held = int((segment == index).sum())
+        facts = replace(result.samples, rows_read=held,
+                        left_out=held - sum(result.samples.rows.values()))
+        results[name] = replace(result, samples=facts)
+    card = SegmentedScorecard(config.name, rule, tuple(r.card for r in results.values()))
+    pooled = {}
+    for sample in SAMPLE_NAMES.values():
+        hists = [r.histograms[sample] for r in results.values() if sample in r.histograms]
+        if len(hists) == len(results):
+            hist = pooled_histogram(hists)
+            if hist.goods.sum() > 0 and hist.bads.sum() > 0:
+                pooled[sample] = performance(hist)
+    if progress is not None and pooled:
+        shown = "holdout" if "holdout" in pooled else "development"
+        progress(f"{len(results)} segment cards on one scale; pooled {shown} AUC "
+                 f"{pooled[shown].auc:.4f}")
+    return SegmentedBuildResult(config, card, results, pooled)
+
+
+def _counts(rows: RowFacts, member: np.ndarray) -> str:
+    dev = member & (rows.sample == DEVELOPMENT)
+    goods = rows.weight[dev & (rows.label == GOOD)].sum()
+    bads = rows.weight[dev & (rows.label == BAD)].sum()
+    return f"{int(member.sum())} rows, {goods:g} goods and {bads:g} bads in development"
+
+
+def _refuse_if_too_small(config: Config, name: str, rows: RowFacts, held: int) -> None:
+    # Two bins of the smallest size the config allows: below that no characteristic can be
+    # classed, so the build could only fail later with a less telling message.
+    b = config.binning
+    dev = rows.sample == DEVELOPMENT
+    goods = float(rows.weight[dev & (rows.label == GOOD)].sum())
+    bads = float(rows.weight[dev & (rows.label == BAD)].sum())
+    if goods < 2 * b.min_bin_goods or bads < 2 * b.min_bin_bads:
+        raise InputError(f"segments: segment {name!r} is too small to build: {held} rows, "
+                         f"{goods:g} goods and {bads:g} bads in development (needs at least "
+                         f"{2 * b.min_bin_goods} goods and {2 * b.min_bin_bads} bads, two bins of "
+                         "binning.min_bin_goods and min_bin_bads); merge it with another segment")
+
+
+def _refuse_rows_without_segment(config, engine, rule: SegmentRule, segment: np.ndarray) -> None:
+    lost = np.flatnonzero(segment == NO_SEGMENT)
+    if not len(lost):
+        return
+    at = int(lost[0])
+    value = engine.collect(lambda chunk: (chunk[rule.column].astype(object).to_numpy(),),
+                           columns=[rule.column])[0][at]
+    what = "is missing" if pd.isna(value) else f"holds {str(value)!r}, which no segment lists"
+    raise InputError(f"{config.data.source}: row {at + 1}: column {rule.column}: {what} "
+                     f"({len(lost)} such rows); segments.{'cuts' if rule.cuts else 'groups'} "
+                     "must give every row a segment")
