@@ -97,6 +97,9 @@ def build(config, workbook, model, quiet):
 
 def _print_summary(result) -> None:
     card = result.card
+    if getattr(result, "segments", None) is not None:
+        _print_segments(result)
+        return
     click.echo(f"{card.name}: {len(card.characteristics)} characteristics, "
                f"scores {card.min_score} to {card.max_score}")
     for name, perf in result.performance.items():
@@ -115,6 +118,18 @@ def _print_summary(result) -> None:
                    .rstrip())
         for line in changes.lines():
             click.echo(f"  {line}")
+    for kind, path in result.outputs.items():
+        click.echo(f"  {kind}: {path}")
+
+
+def _print_segments(result) -> None:
+    card = result.card
+    click.echo(f"{card.name}: {len(card.cards)} segment cards by {card.rule.column}, "
+               f"scores {card.min_score} to {card.max_score}")
+    table = result.segment_table()
+    shown = {c: "{:,.0f}".format for c in ("Rows", "Goods", "Bads", "Characteristics")}
+    click.echo(table.to_string(index=False, na_rep="", float_format="{:.4f}".format,
+                               formatters=shown))
     for kind, path in result.outputs.items():
         click.echo(f"  {kind}: {path}")
 

@@ -30,8 +30,10 @@ import pyarrow.csv as pacsv
 import pyarrow.dataset as pads
 import pyarrow.parquet as pq
 
-from scorecard.card.scorecard import MISSING, OUT_OF_RANGE, UNSEEN, Scorecard, load_scorecard
-from scorecard.card.scoring import UnusualValues, apply_scorecard, bad_probability, reason_codes
+from scorecard.card.scorecard import MISSING, OUT_OF_RANGE, UNSEEN, Scorecard
+from scorecard.card.scoring import (REFUSED_PREFIX, UnusualValues, apply_scorecard, bad_probability,
+                                    reason_codes)
+from scorecard.card.segmented import SegmentedScorecard, apply_segmented, load_model
 from scorecard.constraints import REASONS
 from scorecard.data.exclusions import first_rule
 from scorecard.data.formats import (
@@ -148,17 +150,21 @@ def score_file(model, data, out, keep=(), reasons: int | None = None, *,
     <BLANKLINE>
     """
     data, out = Path(data), Path(out)
+    given = isinstance(model, (Scorecard, SegmentedScorecard))
     inputs = {"the data": data}
-    if not isinstance(model, Scorecard):
+    if not given:
         inputs["the model file"] = model
     target = check_outputs([Output("--out", out, OUTPUT_SUFFIXES)], inputs)
-    card = model if isinstance(model, Scorecard) else load_scorecard(model)
+    card = model if given else load_model(model)
     reasons = card.reasons if reasons is None else reasons
     keep = tuple(keep)
     if reasons < 0:
         raise InputError(f"--reasons {reasons}: must be at least 0")
     if chunk_rows < 1 or csv_block_bytes < 1:
         raise ValueError("chunk_rows and csv_block_bytes must be positive")
+    if apply_exclusions and isinstance(card, SegmentedScorecard):
+        raise InputError("--apply-exclusions: applies to single cards so far, not to a "
+                         "segmented model")
     if apply_exclusions and not card.exclusions:
         raise InputError(f"--apply-exclusions: {model if card is not model else 'the model'} "
                          "records no exclusion rules (its build had no data.exclude)")
@@ -184,6 +190,8 @@ def scored_schema(card: Scorecard, source: pa.Schema, keep=(), reasons: int = RE
                   exclusions: bool = False) -> pa.Schema:
     """Schema of the scored file for input columns ``source``; InputError on a name clash."""
     fields = [source.field(k) for k in keep]
+    if isinstance(card, SegmentedScorecard):
+        fields.append(pa.field("segment", _TEXT))
     fields.append(pa.field("score", pa.int64()))
     if exclusions:
         fields.append(pa.field(EXCLUSION_COLUMN, _TEXT))
@@ -203,6 +211,9 @@ def scored_batch(card: Scorecard, batch: pa.RecordBatch, keep=(), reasons: int =
     """Score one batch of rows; return the output batch, the raw :class:`Scores` and the
     number of the exclusion rule that caught each row (0: none; all 0 unless ``exclusions``)."""
     schema = schema or scored_schema(card, batch.schema, keep, reasons, exclusions)
+    if isinstance(card, SegmentedScorecard):
+        scored, s = _segmented_batch(card, batch, keep, reasons, reason_text, schema)
+        return scored, s, np.zeros(batch.num_rows, dtype=np.int16)
     s = apply_scorecard(card, _characteristic_frame(card, batch))
     caught = np.zeros(batch.num_rows, dtype=np.int16)
     if exclusions:
@@ -229,6 +240,41 @@ def scored_batch(card: Scorecard, batch: pa.RecordBatch, keep=(), reasons: int =
     return pa.RecordBatch.from_arrays(arrays, schema=schema), s, caught
 
 
+def _segmented_batch(model: SegmentedScorecard, batch, keep, reasons, reason_text, schema):
+    """Each row scored by its segment's card; a characteristic the row's card lacks is empty,
+    and a row with no segment gets no score and ``REJECTED:<segment column>``."""
+    s = apply_segmented(model, _characteristic_frame(model, batch))
+    arrays = [batch.column(k).cast(schema.field(k).type) for k in keep]
+    names = pa.array(model.rule.names, type=pa.string())
+    arrays.append(pa.DictionaryArray.from_arrays(
+        pa.array(s.segment, type=pa.int32(), mask=s.segment < 0), names))
+    arrays.append(pa.array(s.score, mask=s.rejected))
+    arrays.append(pa.array(bad_probability(model, s.score), type=pa.float64(), mask=s.rejected))
+    arrays += [pa.array(np.ascontiguousarray(s.points[:, j]), mask=s.refused[:, j] | ~s.used[:, j])
+               for j in range(len(model.names))]
+    if reasons:
+        labels = [REFUSED_PREFIX + model.rule.column]
+        index = np.full((len(s.score), reasons), -1, dtype=np.int32)
+        index[s.segment < 0, 0] = 0
+        for card, (rows, scores) in zip(model.cards, s.parts):
+            ranked = reason_codes(card, scores.points, reasons, scores.refused, reason_text)
+            to_all = np.array([_label_index(labels, lb) for lb in ranked.labels] + [-1],
+                              dtype=np.int32)
+            index[rows] = to_all[ranked.index]       # -1 (no reason) stays -1
+        table = pa.array(labels, type=pa.string())
+        for i in range(reasons):
+            column = index[:, i]
+            arrays.append(pa.DictionaryArray.from_arrays(
+                pa.array(column, type=pa.int32(), mask=column < 0), table))
+    return pa.RecordBatch.from_arrays(arrays, schema=schema), s
+
+
+def _label_index(labels: list, label: str) -> int:
+    if label not in labels:
+        labels.append(label)
+    return labels.index(label)
+
+
 def _characteristic_frame(card: Scorecard, batch: pa.RecordBatch):
     """The characteristic columns as pandas: numbers as float64, text dictionary-encoded."""
     columns = {}
@@ -242,6 +288,8 @@ def _characteristic_frame(card: Scorecard, batch: pa.RecordBatch):
                                           or pa.types.is_null(kind)):
             column = pc.dictionary_encode(column.cast(pa.string()))
         columns[c.name] = column
+    if isinstance(card, SegmentedScorecard):
+        columns[card.rule.column] = batch.column(card.rule.column)
     return pa.table(columns).to_pandas(split_blocks=True)
 
 
@@ -304,6 +352,8 @@ def _open_source(card, path: Path, keep, encoding, delimiter, chunk_rows, block_
 def _batches(card, path: Path, keep, encoding, delimiter, chunk_rows, block_bytes, stack, rules):
     # Levels are read straight into dictionaries: one string per distinct level, not per row.
     levels = [c.name for c in card.characteristics if c.kind == "categorical"]
+    if isinstance(card, SegmentedScorecard) and card.rule.kind == "categorical":
+        levels.append(card.rule.column)
     if path.is_dir():
         form = pads.ParquetFileFormat(dictionary_columns=levels)
         dataset = pads.dataset(path, format=form)
@@ -360,7 +410,12 @@ def _needed(card, path: Path, names, keep, rules=()) -> list[str]:
         if rule.column not in names:
             raise InputError(f"{path}: column {rule.column}: the exclusion rule "
                              f"'{rule.describe()}' needs it but the data lacks it")
-    return list(dict.fromkeys(list(keep) + list(card.names) + [r.column for r in rules]))
+    segment = [card.rule.column] if isinstance(card, SegmentedScorecard) else []
+    if segment and segment[0] not in names:
+        raise InputError(f"{path}: column {segment[0]}: the segmented model picks its card by "
+                         "it but the data lacks it")
+    return list(dict.fromkeys(list(keep) + list(card.names) + segment
+                              + [r.column for r in rules]))
 
 
 def _csv_reader(card, path: Path, keep, encoding, delimiter, block_bytes, rules=()):
@@ -381,6 +436,8 @@ def _csv_reader(card, path: Path, keep, encoding, delimiter, block_bytes, rules=
              for r in sorted(rules, key=lambda r: r.condition in ("below", "at_least"))}
     types.update({c.name: pa.float64() if c.kind == "numeric" else _TEXT
                   for c in card.characteristics})
+    if isinstance(card, SegmentedScorecard):
+        types[card.rule.column] = pa.float64() if card.rule.kind == "numeric" else _TEXT
     convert = pacsv.ConvertOptions(strings_can_be_null=True, column_types=types,
                                    include_columns=columns)
     return pacsv.open_csv(csv_source(path), read_options=pacsv.ReadOptions(encoding=encoding,

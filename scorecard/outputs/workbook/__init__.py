@@ -54,6 +54,9 @@ def write_workbook(result, path) -> Path:
     >>> write_workbook(result, f"{folder}/again.xlsx").name
     'again.xlsx'
     """
+    if getattr(result, "segments", None) is not None:
+        from scorecard.outputs.workbook.segments_book import write_segmented_workbook
+        return write_segmented_workbook(result, path)
     wb = Workbook()
     wb.remove(wb.active)
     ws = {name: wb.create_sheet(name) for name in SHEETS}

@@ -1,0 +1,132 @@
+"""The workbook of a segmented build: an Overview of the segments, then each card's sheets.
+
+The Overview holds the table of segments (rows, goods, bads, bad rate, characteristics and the
+AUC of each sample, per segment and pooled over all), the shared scaling and the run manifest.
+Each segment's card follows with the sheets of a single card, named ``<sheet> (<segment>)``:
+Characteristics, Bins, Model, Points, Score bands and Stability. The Calculator sheet of a
+single card is not repeated per segment; the Overview says how to read a score instead.
+"""
+
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+from openpyxl import Workbook
+from openpyxl.utils import get_column_letter
+
+from scorecard.outputs.atomic import save_book
+from scorecard.outputs.cautions import CAUTION
+from scorecard.outputs.workbook import overview, sheets, stability_sheet, style
+from scorecard.outputs.workbook.manifest import run_manifest
+
+CARD_SHEETS = ("Characteristics", "Bins", "Model", "Points", "Score bands", "Stability")
+MAX_SHEET_NAME = 31
+_NOT_IN_SHEET_NAME = re.compile(r"[\[\]:*?/\\']")
+
+
+def segment_sheet_name(sheet: str, segment: str, taken: set) -> str:
+    """``<sheet> (<segment>)`` within a spreadsheet's 31 characters, unique among ``taken``.
+
+    Examples
+    --------
+    >>> segment_sheet_name("Points", "months_as_customer >= 12", set())
+    'Points (months_as_customer >= 1'
+    """
+    room = MAX_SHEET_NAME - len(sheet) - 3
+    base = f"{sheet} ({_NOT_IN_SHEET_NAME.sub('_', segment)[:room]})"[:MAX_SHEET_NAME]
+    name, k = base, 1
+    while name.lower() in taken:
+        k += 1
+        name = f"{base[:MAX_SHEET_NAME - len(str(k)) - 1]}~{k}"
+    taken.add(name.lower())
+    return name
+
+
+def write_segmented_workbook(result, path) -> Path:
+    """Write the workbook of a :class:`~scorecard.build.segments.SegmentedBuildResult`."""
+    wb = Workbook()
+    ws = wb.active
+    ws.title = "Overview"
+    _write_overview(ws, result)
+    taken = {"overview"}
+    for name, part in result.segments.items():
+        own = {sheet: wb.create_sheet(segment_sheet_name(sheet, name, taken))
+               for sheet in CARD_SHEETS}
+        sheets.write_characteristics(own["Characteristics"], part)
+        sheets.write_bins(own["Bins"], part)
+        sheets.write_model(own["Model"], part)
+        sheets.write_points(own["Points"], part)
+        sheets.write_score_bands(own["Score bands"], part)
+        limits = part.config.stability
+        stability_sheet.write_stability(own["Stability"], part.stability,
+                                        watch=limits.watch, shift=limits.shift)
+    wb.properties.creator = "scorecard"
+    path = Path(path)
+    save_book(wb, path)
+    return path
+
+
+def _write_overview(ws, result) -> None:
+    config, card = result.config, result.card
+    ws.column_dimensions["A"].width = overview.LABEL_WIDTH
+    for k in range(overview.VALUE_COLUMNS):
+        ws.column_dimensions[get_column_letter(2 + k)].width = overview.VALUE_WIDTH
+    page = overview._Page(ws)
+    ws.cell(1, 1, config.name).font = style.TITLE_FONT
+    page.row = 2
+    page.paragraph(f"{len(card.cards)} points scorecards, one per segment of column "
+                   f"'{card.rule.column}', ranking applications by their risk of the outcome "
+                   f"'{', '.join(map(str, config.data.bad))}' in column "
+                   f"'{config.data.target}': a higher score means lower risk. Each row is "
+                   "scored by its own segment's card; every card has the same scaling, so a "
+                   "score means the same odds in every segment and one cut-off serves all.")
+    page.paragraph(CAUTION, style.BOLD)
+
+    page.heading("Segments")
+    page.fact("Data file", Path(config.data.source).name)
+    page.fact("Segment column", card.rule.column)
+    for name, levels in zip(card.rule.names, _rules(card.rule)):
+        page.fact(f"Segment {name}", levels)
+    table = result.segment_table()
+    page.table(table, {"Rows": style.COUNT, "Goods": style.COUNT, "Bads": style.COUNT,
+                       "Bad rate": style.PERCENT, "Characteristics": style.INTEGER,
+                       **{c: style.MEASURE for c in table.columns if c.startswith("AUC")}})
+    page.paragraph("AUC of a segment: its own rows scored by its own card. AUC of all "
+                   "segments: every row scored by its segment's card and ranked together, "
+                   "which is what one cut-off across the segments acts on.", style.NOTE_FONT)
+
+    page.heading("Scaling (every card)")
+    s = card.scaling
+    page.fact("Base score", s.base_score, "0")
+    page.fact("Good:bad odds at the base score", s.base_odds, "0.##")
+    page.fact("Points to double the odds", s.pdo, "0.##")
+    page.fact("Lowest and highest attainable score", f"{card.min_score} to {card.max_score}")
+    page.paragraph("The Calculator of a single card is not written for a segmented model: "
+                   "add the points of the attributes on the segment's Points sheet; the odds "
+                   "of a score are base odds x 2^((score - base score) / points to double).",
+                   style.NOTE_FONT)
+
+    manifest = run_manifest(config)
+    page.heading("Run manifest")
+    page.fact("Config file", Path(manifest.config_file).name)
+    page.fact("Config file SHA-256", manifest.config_sha256)
+    page.fact(overview.DATA_HASH_LABEL, manifest.data_sha256)
+    page.fact("Random seed of the holdout split", manifest.seed)
+    for name, version in manifest.versions:
+        page.fact(f"Version of {name}", version)
+    page.fact(overview.RUN_TIME_LABEL, manifest.run_time)
+    page.heading("How to read this workbook")
+    page.paragraph(overview.READING)
+
+
+def _rules(rule) -> list[str]:
+    if rule.cuts is None:
+        return [", ".join(group) for group in rule.groups]
+    out = []
+    for index in range(len(rule.names)):
+        low, high = rule.bounds(index)
+        out.append(" and ".join(part for part in (
+            None if low is None else f"{rule.column} >= {low:g}",
+            None if high is None else f"{rule.column} < {high:g}") if part))
+    return out
