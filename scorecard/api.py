@@ -254,7 +254,7 @@ def diff(old_model, new_model, *, json_path=None):
 
 def export(model, form, out, *, table="applications", keep=(), reasons=None) -> None:
     """Write the model file ``model`` as a PMML document (``form="pmml"``) or a SQL query."""
-    from scorecard.card.scorecard import load_scorecard
+    from scorecard.card.segmented import load_model
     from scorecard.outputs.pmml import write_pmml
     from scorecard.outputs.sql import write_sql
     if form not in EXPORT_SUFFIXES:
@@ -263,7 +263,7 @@ def export(model, form, out, *, table="applications", keep=(), reasons=None) -> 
         raise InputError("--keep: applies to --format sql only")
     target = check_outputs([Output("--out", Path(out), EXPORT_SUFFIXES[form])],
                            {"the model file": model})
-    card = load_scorecard(model)
+    card = load_model(model)
     reasons = card.reasons if reasons is None else reasons
     with staged(target) as pending:
         if form == "pmml":

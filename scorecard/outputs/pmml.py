@@ -95,8 +95,9 @@ def pmml_document(card: Scorecard, reasons: int = REASONS.default) -> ET.Element
 
 
 def write_pmml(card: Scorecard, path, reasons: int = REASONS.default) -> None:
-    """Write the PMML document of ``card`` to ``path`` (UTF-8), atomically."""
-    tree = pmml_document(card, reasons)
+    """Write the PMML document of ``card`` (one card or segmented) to ``path``, atomically."""
+    tree = segmented_pmml_document(card, reasons) if hasattr(card, "rule") \
+        else pmml_document(card, reasons)
     with atomic_path(path) as tmp:
         tree.write(tmp, encoding="UTF-8", xml_declaration=True)
 
@@ -302,3 +303,64 @@ def _levels(field: str, levels) -> ET.Element:
     array = ET.SubElement(element, "Array", {"n": str(len(levels)), "type": "string"})
     array.text = " ".join(f'"{lv}"' for lv in levels)
     return element
+
+
+def segmented_pmml_document(model, reasons: int = REASONS.default) -> ET.ElementTree:
+    """A segmented model as one PMML 4.4 document: a ``MiningModel`` whose ``Segmentation``
+    (``selectFirst``) holds each segment's ``Scorecard`` under a predicate on the segment
+    column. A row no segment takes matches no predicate, so the evaluator returns no score.
+
+    Each card's document is made by :func:`pmml_document` and its Scorecard moved in whole, so
+    the cards read exactly as they would alone; a column shared by cards must be declared alike.
+    """
+    rule = model.rule
+    root = ET.Element("PMML", {"xmlns": NAMESPACE, "version": "4.4"})
+    header = ET.SubElement(root, "Header", {"description": _text(model.name, "name")})
+    ET.SubElement(header, "Application", {"name": "scorecard", "version": __version__})
+    fields = ET.SubElement(root, "DataDictionary")
+    declared: dict[str, bytes] = {}
+    mining = ET.Element("MiningModel", {"modelName": _text(model.name, "name"),
+                                        "functionName": "regression"})
+    schema = ET.SubElement(mining, "MiningSchema")
+    segmentation = ET.Element("Segmentation", {"multipleModelMethod": "selectFirst"})
+    for index, (name, card) in enumerate(zip(rule.names, model.cards)):
+        if rule.column in card.names:
+            raise InputError(f"segments.column: {rule.column} is also a characteristic of the "
+                             f"card of segment {name!r}")
+        doc = pmml_document(card, reasons).getroot()
+        for field in doc.find("DataDictionary"):
+            own, column = ET.tostring(field), field.get("name")
+            if column not in declared:
+                declared[column] = own
+                fields.append(field)
+            elif declared[column] != own:
+                raise InputError(f"characteristics.{column}: the segments' cards treat its "
+                                 "values differently (which levels or range they refuse), "
+                                 "which one PMML document cannot declare")
+        segment = ET.SubElement(segmentation, "Segment", {"id": str(index + 1)})
+        segment.append(_segment_predicate(rule, index))
+        segment.append(doc.find("Scorecard"))
+    kind = {"optype": "continuous", "dataType": "double"} if rule.cuts is not None \
+        else {"optype": "categorical", "dataType": "string"}
+    ET.SubElement(fields, "DataField", {"name": _text(rule.column, "segments.column"), **kind})
+    fields.set("numberOfFields", str(len(fields)))
+    for field in fields:
+        ET.SubElement(schema, "MiningField", {"name": field.get("name"), "usageType": "active"})
+    _output(ET.SubElement(mining, "Output"), model.cards[0], reasons)
+    mining.append(segmentation)
+    root.append(mining)
+    tree = ET.ElementTree(root)
+    ET.indent(tree)
+    return tree
+
+
+def _segment_predicate(rule, index: int) -> ET.Element:
+    name = rule.column
+    if rule.cuts is None:
+        return _levels(name, rule.groups[index])
+    low, high = rule.bounds(index)
+    where = "segments.cuts"
+    parts = [p for p in (None if low is None else _simple(name, "greaterOrEqual", _number(low, where)),
+                         None if high is None else _simple(name, "lessThan", _number(high, where)))
+             if p is not None]
+    return parts[0] if len(parts) == 1 else _compound("and", *parts)

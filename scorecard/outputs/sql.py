@@ -82,7 +82,8 @@ def _check_text(value: str, what: str) -> None:
         raise InputError(f"{what} {value!r}: holds a NUL character, which SQL text cannot carry")
 
 
-def scoring_query(card: Scorecard, table: str = "applications", keep=(), reasons: int = REASONS.default) -> str:
+def scoring_query(card: Scorecard, table: str = "applications", keep=(), reasons: int = REASONS.default,
+                  where: str = "") -> str:
     """The SQL query that scores every row of ``table``.
 
     Parameters
@@ -94,6 +95,8 @@ def scoring_query(card: Scorecard, table: str = "applications", keep=(), reasons
         Columns of the table copied to the front of the result, e.g. a key.
     reasons : int
         Reason columns per row.
+    where : str
+        A condition on the table's rows (SQL text, as :func:`segmented_query` writes it).
 
     Examples
     --------
@@ -126,7 +129,7 @@ def scoring_query(card: Scorecard, table: str = "applications", keep=(), reasons
     point_columns = [f"{_points_case(c)} AS {quote_name(p)}" for c, p in zip(chars, points)]
     lines = ["WITH " + quote_name("points") + " AS (",
              "  SELECT " + _list(kept + point_columns, 4),
-             "  FROM " + quote_name(table),
+             "  FROM " + quote_name(table) + (f" WHERE {where}" if where else ""),
              ")"]
     if reasons:
         shortfall = _shortfalls(card, points, group, len(labels))
@@ -152,8 +155,9 @@ def scoring_query(card: Scorecard, table: str = "applications", keep=(), reasons
 
 def write_sql(card: Scorecard, path, table: str = "applications", keep=(),
               reasons: int = REASONS.default) -> None:
-    """Write :func:`scoring_query` to ``path`` (UTF-8), atomically."""
-    write_text(path, scoring_query(card, table, keep, reasons))
+    """Write :func:`scoring_query` (or :func:`segmented_query`) to ``path`` (UTF-8), atomically."""
+    query = segmented_query if hasattr(card, "rule") else scoring_query
+    write_text(path, query(card, table, keep, reasons))
 
 
 def _check_columns(keep, points, reasons, inner) -> None:
@@ -238,3 +242,58 @@ def _reason(card: Scorecard, labels, points, refusing, r: int) -> str:
         f"WHEN {quote_name(f'refusal_rank_{j + 1}')} = {r} "
         f"THEN {quote_text(REFUSED_PREFIX + card.characteristics[j].name)}" for j in refusing)
     return f"CASE WHEN {quote_name('refused')} = 1 THEN CASE {refusals} END {ranked} END"
+
+
+SEGMENT = "segment"
+_ROW_SEGMENT = "segment_of_the_row"
+
+
+def segmented_query(model, table: str = "applications", keep=(),
+                    reasons: int = REASONS.default) -> str:
+    """One SQL query scoring every row of ``table`` with the card of its segment.
+
+    A CASE on the segment column names each row's segment; each card's query (as
+    :func:`scoring_query` writes it) scores the rows of its segment, and the parts are joined by
+    UNION ALL with the columns ``keep``, ``segment``, ``score``, ``points_<name>`` for every
+    characteristic of any card (NULL where the row's card lacks it) and the reasons. A row with
+    no segment gets NULL scores and ``REJECTED:<segment column>``. SQL promises no row order:
+    join the result to the table by a ``keep`` key.
+    """
+    rule = model.rule
+    if not table:
+        raise InputError("--table: the table name is empty")
+    column = quote_name(rule.column)
+    if rule.cuts is not None:
+        branches = [f"WHEN {column} < {number(cut)} THEN {quote_text(name)}"
+                    for cut, name in zip(rule.cuts, rule.names)]
+        branches.append(f"WHEN {column} IS NOT NULL THEN {quote_text(rule.names[-1])}")
+    else:
+        branches = [f"WHEN {column} IN ({', '.join(quote_text(lv) for lv in levels)}) "
+                    f"THEN {quote_text(name)}" for levels, name in zip(rule.groups, rule.names)]
+    names = [f"points_{n}" for n in model.names]
+    outputs = list(keep) + [SEGMENT, "score"] + names + [f"reason_{r}" for r in range(1, reasons + 1)]
+    for k in keep:
+        if outputs.count(k) > 1 or k == _ROW_SEGMENT:
+            raise InputError(f"--keep {k}: listed twice or clashes with a column of the query")
+    inner = quote_name("segmented")
+    lines = [f"WITH {inner} AS (",
+             f"  SELECT *, CASE {' '.join(branches)} END AS {quote_name(_ROW_SEGMENT)}",
+             f"  FROM {quote_name(table)}", ")"]
+    kept = [quote_name(k) for k in keep]
+    parts = []
+    for index, (name, card) in enumerate(zip(rule.names, model.cards)):
+        query = scoring_query(card, "segmented", keep, reasons,
+                              where=f"{quote_name(_ROW_SEGMENT)} = {quote_text(name)}")
+        own = set(card.names)
+        columns = kept + [f"{quote_text(name)} AS {quote_name(SEGMENT)}", quote_name("score")]
+        columns += [quote_name(p) if n in own else f"NULL AS {quote_name(p)}"
+                    for n, p in zip(model.names, names)]
+        columns += [quote_name(f"reason_{r}") for r in range(1, reasons + 1)]
+        parts.append(f"SELECT {_list(columns, 2)}\nFROM (\n{query.rstrip()}\n) AS "
+                     f"{quote_name(f'card_{index + 1}')}")
+    nothing = kept + [f"NULL AS {quote_name(c)}" for c in [SEGMENT, "score"] + names]
+    nothing += [(f"{quote_text(REFUSED_PREFIX + rule.column)}" if r == 1 else "NULL")
+                + f" AS {quote_name(f'reason_{r}')}" for r in range(1, reasons + 1)]
+    parts.append(f"SELECT {_list(nothing, 2)}\nFROM {inner}\n"
+                 f"WHERE {quote_name(_ROW_SEGMENT)} IS NULL")
+    return "\n".join(lines) + "\n" + "\nUNION ALL\n".join(parts) + "\n"
