@@ -19,7 +19,7 @@ from typing import NamedTuple
 import numpy as np
 import pandas as pd
 
-from scorecard.card.scorecard import load_scorecard
+from scorecard.card.segmented import load_model
 from scorecard.data.outcome import BAD, GOOD
 from scorecard.errors import InputError
 from scorecard.evaluation.scored_rows import outcome_labels, read_rows, score_rows
@@ -42,6 +42,9 @@ class Challenge(NamedTuple):
     swap: pd.DataFrame          # swap_table: champion as incumbent, challenger as the new card
     rows: int                   # rows compared
     left_out: int               # refused by either card, or outcome neither good nor bad
+    # When either card is segmented: per segment name, (champion, challenger, difference, rows)
+    # on that segment's rows alone; the measures above are pooled over every segment.
+    segments: dict = {}
 
     def to_dict(self) -> dict:
         def measures(d: Discrimination) -> dict:
@@ -50,13 +53,16 @@ class Challenge(NamedTuple):
         diff = self.difference
         return {
             "champion": measures(self.champion), "challenger": measures(self.challenger),
-            "difference": {"auc": diff.difference, "ci_low": diff.ci_low, "ci_high": diff.ci_high,
-                           "p_value": None if math.isnan(diff.p_value) else diff.p_value},
+            "difference": _difference(diff),
             "swap": {row.cell: {"count": row.rows,
                                 "bad_rate": None if math.isnan(row.bad_rate) else row.bad_rate}
                      for row in self.swap.itertuples()},
             "approval_rate": self.approval_rate, "cutoffs": self.cutoffs,
             "rows": self.rows, "left_out": self.left_out,
+            **({"segments": {name: {"champion": measures(a), "challenger": measures(b),
+                                    "difference": _difference(d), "rows": n}
+                             for name, (a, b, d, n) in self.segments.items()}}
+               if self.segments else {}),
         }
 
     def to_json(self) -> str:
@@ -64,9 +70,7 @@ class Challenge(NamedTuple):
 
     def text(self) -> str:
         d = self.difference
-        verdict = ("the challenger ranks better" if d.ci_low > 0 else
-                   "the champion ranks better" if d.ci_high < 0 else
-                   "no difference in ranking at the 5% level")
+        verdict = _verdict(d)
         lines = [f"{self.rows:,} rows compared ({self.left_out:,} left out)",
                  f"  champion    AUC {self.champion.auc:.4f}  Gini {self.champion.gini:.4f}  "
                  f"KS {self.champion.ks:.4f}",
@@ -79,6 +83,11 @@ class Challenge(NamedTuple):
         for row in self.swap.itertuples():
             rate = "n/a" if math.isnan(row.bad_rate) else f"{row.bad_rate:.2%}"
             lines.append(f"    {row.cell.replace('_', ' '):12s} {row.rows:>9,.0f}  bad rate {rate}")
+        if self.segments:
+            lines.append("  by segment (AUC champion, challenger; difference, DeLong p):")
+        for name, (a, b, d, n) in self.segments.items():
+            lines.append(f"    {name:12s} {n:>9,} rows  {a.auc:.4f}  {b.auc:.4f}  "
+                         f"{d.difference:+.4f} (p {d.p_value:.4g}): {_verdict(d)}")
         return "\n".join(lines)
 
 
@@ -106,8 +115,8 @@ def challenge(champion_path, challenger_path, data_path, *,
     rate = DEFAULT_APPROVAL_RATE if approval_rate is None else approval_rate
     if not (isinstance(rate, (int, float)) and 0 < rate < 1):
         raise InputError(f"--approval-rate {rate!r}: must lie strictly between 0 and 1")
-    champion = load_scorecard(champion_path)
-    challenger = load_scorecard(challenger_path)
+    champion = load_model(champion_path)
+    challenger = load_model(challenger_path)
     frame = read_rows(data_path)
     first = score_rows(champion, data_path, frame)
     second = score_rows(challenger, data_path, frame)
@@ -122,19 +131,46 @@ def challenge(champion_path, challenger_path, data_path, *,
         raise InputError(f"{data_path}: column {column}: needs at least two goods and two bads "
                          "that both cards score")
     a, b = first.score[used].astype(float), second.score[used].astype(float)
-    pairs, index = np.unique(np.column_stack([a, b]), axis=0, return_inverse=True)
-    index = index.ravel()
-    goods = np.bincount(index, weights=~is_bad, minlength=len(pairs))
-    bads = np.bincount(index, weights=is_bad, minlength=len(pairs))
+    segmented = second if hasattr(second, "segment") else first
+    by_segment = {}
+    if hasattr(segmented, "segment"):
+        names = (challenger if segmented is second else champion).rule.names
+        code = segmented.segment[used]
+        for index, name in enumerate(names):
+            own = code == index
+            if is_bad[own].sum() >= 2 and (~is_bad[own]).sum() >= 2:
+                by_segment[name] = (_discrimination(a[own], is_bad[own]),
+                                    _discrimination(b[own], is_bad[own]),
+                                    _paired(a[own], b[own], is_bad[own]), int(own.sum()))
     cut_a, _ = nearest_cut(a, rate, len(a))
     cut_b, _ = nearest_cut(b, rate, len(b))
     swap = swap_table(b >= cut_b, a >= cut_a, label[used])
     return Challenge(
         champion=_discrimination(a, is_bad), challenger=_discrimination(b, is_bad),
-        difference=paired_auc(pairs[:, 0], pairs[:, 1], goods, bads),
+        difference=_paired(a, b, is_bad),
         approval_rate=float(rate), cutoffs={"champion": cut_a, "challenger": cut_b},
         swap=swap.set_index("cell").loc[list(SWAP_CELLS)].reset_index(),
-        rows=int(used.sum()), left_out=int((~used).sum()))
+        rows=int(used.sum()), left_out=int((~used).sum()), segments=by_segment)
+
+
+def _paired(a: np.ndarray, b: np.ndarray, is_bad: np.ndarray) -> PairedAUC:
+    """DeLong's paired test from counts per distinct pair of scores."""
+    pairs, index = np.unique(np.column_stack([a, b]), axis=0, return_inverse=True)
+    index = index.ravel()
+    goods = np.bincount(index, weights=~is_bad, minlength=len(pairs))
+    bads = np.bincount(index, weights=is_bad, minlength=len(pairs))
+    return paired_auc(pairs[:, 0], pairs[:, 1], goods, bads)
+
+
+def _verdict(d: PairedAUC) -> str:
+    return ("the challenger ranks better" if d.ci_low > 0 else
+            "the champion ranks better" if d.ci_high < 0 else
+            "no difference in ranking at the 5% level")
+
+
+def _difference(d: PairedAUC) -> dict:
+    return {"auc": d.difference, "ci_low": d.ci_low, "ci_high": d.ci_high,
+            "p_value": None if math.isnan(d.p_value) else d.p_value}
 
 
 def _discrimination(scores: np.ndarray, is_bad: np.ndarray) -> Discrimination:

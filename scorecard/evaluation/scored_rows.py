@@ -11,7 +11,8 @@ import numpy as np
 import pandas as pd
 
 from scorecard.card.scorecard import Scorecard
-from scorecard.card.scoring import Scores, apply_scorecard
+from scorecard.card.scoring import Scores
+from scorecard.card.segmented import apply_model
 from scorecard.data.outcome import code_outcome
 from scorecard.data.read import read_frame
 from scorecard.errors import InputError
@@ -27,7 +28,9 @@ def read_rows(path) -> pd.DataFrame:
 
 def require_characteristics(card: Scorecard, path, frame: pd.DataFrame) -> None:
     """InputError naming the file and the first characteristic of the card it lacks."""
-    absent = [name for name in card.names if name not in frame.columns]
+    rule = getattr(card, "rule", None)     # a segmented model also needs its segment column
+    absent = [name for name in card.names + ((rule.column,) if rule else ())
+              if name not in frame.columns]
     if absent:
         raise InputError(f"{path}: column {absent[0]}: the scorecard needs it but the file "
                          "lacks it")
@@ -37,7 +40,7 @@ def score_rows(card: Scorecard, path, frame: pd.DataFrame) -> Scores:
     """Score every row of ``frame`` (read from ``path``); errors name the file and column."""
     require_characteristics(card, path, frame)
     try:
-        return apply_scorecard(card, frame)
+        return apply_model(card, frame)
     except InputError as exc:
         raise InputError(f"{path}: {exc}") from None
 
