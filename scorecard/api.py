@@ -243,11 +243,11 @@ def diff(old_model, new_model, *, json_path=None):
 
     Returns the :class:`~scorecard.evaluation.model_diff.ModelDiff`.
     """
-    from scorecard.card.scorecard import load_scorecard
+    from scorecard.card.segmented import load_single_card
     from scorecard.evaluation.model_diff import diff_scorecards
     outputs = check_outputs(_report_outputs(json_path, None),
                             {"the older model": old_model, "the newer model": new_model})
-    result = diff_scorecards(load_scorecard(old_model), load_scorecard(new_model))
+    result = diff_scorecards(load_single_card(old_model, "diff"), load_single_card(new_model, "diff"))
     _write_report(outputs, result, None)
     return result
 

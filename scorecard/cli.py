@@ -111,7 +111,7 @@ def _print_summary(result) -> None:
         click.echo(f"left out ({len(dropped)}):")
         for r in dropped:
             click.echo(f"  {r.name}: {r.status} at {r.stage}: {r.reason}")
-    if result.previous is not None:
+    if isinstance(result.previous, type(card)):
         from scorecard.evaluation.model_diff import diff_scorecards
         changes = diff_scorecards(result.previous, card)
         click.echo(f"against the model file it replaced: {'no changes' if changes.empty else ''}"

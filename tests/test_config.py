@@ -486,7 +486,8 @@ def test_a_thousand_aliases_are_allowed_as_far_as_aliases_go():
     text = "a: &a 1\nb:\n" + "".join("  - *a\n" for _ in range(1000))
     assert error_of(text) == (f"{FILE}: a: unknown key; known keys are name, data, samples, "
                               "binning, characteristics, selection, scaling, output, engine, "
-                              "scoring, evaluation, stability, fairness, grades, rejects (line 1)")
+                              "scoring, evaluation, stability, fairness, grades, rejects, "
+                              "segments (line 1)")
 
 
 def test_deep_nesting_is_refused_without_reading_it_all():

@@ -268,3 +268,13 @@ def load_model(path):
     except (OSError, UnicodeDecodeError) as exc:
         raise InputError(f"{path}: cannot read the model file ({exc.__class__.__name__})") from None
     return model_from_json(text, str(path))
+
+
+def load_single_card(path, command: str) -> Scorecard:
+    """The one card of a model file, for a command that does not yet read segmented models."""
+    model = load_model(path)
+    if isinstance(model, SegmentedScorecard):
+        raise InputError(f"{path}: a segmented model ({len(model.cards)} cards by "
+                         f"{model.rule.column}); {command} reads a single card so far (score, "
+                         "export, strategy and challenge read segmented models)")
+    return model

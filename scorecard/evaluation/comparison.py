@@ -37,7 +37,8 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from scorecard.card.scorecard import RANGE, Scorecard, load_scorecard
+from scorecard.card.scorecard import RANGE, Scorecard
+from scorecard.card.segmented import load_single_card
 from scorecard.card.scoring import bad_probability
 from scorecard.constraints import SCORE_BANDS, SHIFT, WATCH, cutoffs_in_order
 from scorecard.errors import InputError
@@ -467,7 +468,7 @@ def compare(model_path, baseline_path, current_path, *, bands=None, watch=None,
     watch = WATCH.default if watch is None else watch
     shift = SHIFT.default if shift is None else shift
     check_band_options(bands, watch, shift)
-    card = load_scorecard(model_path)
+    card = load_single_card(model_path, "compare")
     base = _count_file(card, baseline_path, read_rows(baseline_path))
     cur = _count_file(card, current_path, read_rows(current_path))
     if base.score_rows.sum() == 0:

@@ -27,7 +27,8 @@ from typing import NamedTuple
 import numpy as np
 import pandas as pd
 
-from scorecard.card.scorecard import Scorecard, load_scorecard
+from scorecard.card.scorecard import Scorecard
+from scorecard.card.segmented import load_single_card
 from scorecard.card.scoring import bad_probability
 from scorecard.data.samples import parse_dates
 from scorecard.errors import InputError
@@ -444,7 +445,7 @@ def monitor(model_path, data_path, period, *, every=MONTH, baseline=None, cutoff
     watch = WATCH.default if watch is None else watch
     shift = SHIFT.default if shift is None else shift
     _check_options(every, bands, watch, shift, min_bads, cutoff, level)
-    card = load_scorecard(model_path)
+    card = load_single_card(model_path, "monitor")
     if baseline is None:
         base = baseline_from_model(card, str(model_path))
         baseline_name = base.path

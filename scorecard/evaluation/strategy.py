@@ -35,7 +35,8 @@ from typing import NamedTuple
 import numpy as np
 import pandas as pd
 
-from scorecard.card.scorecard import Scorecard, load_scorecard
+from scorecard.card.scorecard import Scorecard
+from scorecard.card.segmented import load_model
 from scorecard.card.scoring import bad_probability
 from scorecard.data.coding import categorical_codes
 from scorecard.data.outcome import BAD, GOOD
@@ -550,7 +551,7 @@ def strategy(model_path, data_path, *, incumbent: str | None = None,
         option = "--incumbent-direction" if incumbent_direction is not None \
             else "--incumbent-approved"
         raise InputError(f"{option}: needs --incumbent COLUMN")
-    card = load_scorecard(model_path)
+    card = load_model(model_path)
     frame = read_rows(data_path)
     scored = score_rows(card, data_path, frame)
     kept = ~scored.rejected
