@@ -41,10 +41,13 @@ COLUMNS = [
     "bike_type",
     "sales_channel",
     "phone_contract",
+    "customer",
     "staff_application",
 ]
 CHARACTERISTICS = COLUMNS[4:-1]
-USEFUL = [name for name in CHARACTERISTICS if name != "phone_contract"]
+# customer has little effect of its own: it changes the direction of existing_leases (tested
+# below), which a card per customer segment finds.
+USEFUL = [name for name in CHARACTERISTICS if name not in ("phone_contract", "customer")]
 LEVELS = {
     "outcome": {"repaid", "defaulted", "in_arrears"},
     "age_band": {"18-25", "26-35", "36-50", "51-65", "66+"},
@@ -53,6 +56,7 @@ LEVELS = {
     "bike_type": {"two_wheeler", "long_tail", "trike"},
     "sales_channel": {"shop", "online", "partner"},
     "phone_contract": {"monthly", "prepaid", "business", "none"},
+    "customer": {"new", "existing"},
 }
 NO_CREDIT_FILE = -999
 
@@ -236,6 +240,18 @@ def test_useless_column_falls_below_the_information_value_floor(development, con
 def test_useful_characteristics_carry_information(development, column):
     # Common practice: an IV under 0.02 is "not predictive"; every designed effect clears it.
     assert information_value(development, column) > 0.03
+
+
+def test_existing_leases_reverses_between_new_and_existing_customers(development):
+    # Known truth of the design: within each segment the leases carry information, and the bad
+    # rate rises with them for new customers and falls for existing ones.
+    for segment, direction in (("new", 1), ("existing", -1)):
+        rows = development[development["customer"] == segment]
+        assert information_value(rows, "existing_leases") > 0.03, segment
+        det = determinate(rows)
+        rate = (det["outcome"] == "defaulted").groupby(det["existing_leases"].clip(upper=3)).mean()
+        assert direction * np.corrcoef(rate.index, rate.to_numpy())[0, 1] > 0.8, segment
+    assert (development["customer"] == "existing").mean() == pytest.approx(0.35, abs=0.02)
 
 
 def test_age_band_is_only_a_mild_proxy(development):

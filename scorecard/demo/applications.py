@@ -15,6 +15,11 @@ What the design builds in, so that each step of the build has something to find:
 * ``monthly_income``, ``credit_utilisation`` and ``employment`` are missing in a few rows.
 * ``phone_contract`` is independent of everything, outcome included; the demo config keeps it
   as a candidate so that it visibly falls below the information value floor.
+* ``customer`` is ``new`` or ``existing`` (about 35% of applicants already lease from the
+  lender). ``existing_leases`` reverses its effect between the two: a new customer's leases are
+  held elsewhere and add to the burden (risk rises with each), while an existing customer's are
+  leases with this lender kept going, a record of paying (risk falls with each). One card for
+  everyone can follow only one direction; one card per segment finds both.
 * About 2% of outcomes are the indeterminate ``in_arrears``, chosen at random, so that the
   good/bad model among the remaining rows is exactly the designed logistic model.
 * ``staff_application`` is ``yes`` for about 1.5% of rows, at random: the lender's own staff
@@ -75,6 +80,13 @@ _BIKE_TYPE_MEDIAN_PRICE = (3200.0, 4300.0, 5600.0)
 _SALES_CHANNELS = ("shop", "online", "partner")
 _SALES_CHANNEL_EFFECT = (0.35, -0.40, 0.05)
 
+_CUSTOMERS = ("new", "existing")
+_EXISTING_CUSTOMER_SHARE = 0.35
+# Effect on the log-odds of good of each existing lease: held elsewhere by a new customer, or
+# with this lender by an existing one (the reversal the segmented demo card finds).
+_LEASE_EFFECT_NEW, _LEASE_EFFECT_EXISTING = -0.70, 0.80
+_EXISTING_CUSTOMER_MEAN_LEASES = 1.8     # each holds at least one lease with the lender
+
 _PHONE_CONTRACTS = ("monthly", "prepaid", "business", "none")
 _PHONE_CONTRACT_SHARES = (0.55, 0.25, 0.15, 0.05)
 
@@ -85,6 +97,7 @@ _CATEGORICAL_LEVELS = {
     "bike_type": _BIKE_TYPES,
     "sales_channel": _SALES_CHANNELS,
     "phone_contract": _PHONE_CONTRACTS,
+    "customer": _CUSTOMERS,
 }
 _PUBLISHED_ORDER = (
     "age_band",
@@ -102,6 +115,7 @@ _PUBLISHED_ORDER = (
     "bike_type",
     "sales_channel",
     "phone_contract",
+    "customer",
 )
 
 _INCOME_MISSING = 0.05
@@ -112,7 +126,7 @@ _IN_ARREARS = 0.02
 _NO_CREDIT_FILE_VALUE = -999
 
 # Chosen together with the effects above so that about 9% of determinate outcomes are bad.
-_INTERCEPT = 3.18
+_INTERCEPT = 3.26
 # Fixed points of the risk model, so that a drifted population meets the same model.
 _REFERENCE_INCOME = 2600.0
 _REFERENCE_BIKE_PRICE = 4300.0
@@ -358,6 +372,44 @@ def demo_config_text(source: str = "applications.csv") -> str:
     return _CONFIG_TEMPLATE.format(source=_yaml_scalar(source), out_of_time_from=_OUT_OF_TIME_FROM)
 
 
+def segmented_config_text(source: str = "applications.csv") -> str:
+    """The demo config with one card per customer segment (new, existing) instead of one card.
+
+    The same sections as :func:`demo_config_text`, except: ``segments`` on ``customer``, no
+    declined applications (reject inference runs on single cards only), and its own outputs, so
+    that ``scorecard challenge`` can put the two builds side by side.
+
+    Examples
+    --------
+    >>> yaml.safe_load(segmented_config_text())["segments"]["groups"]
+    {'new': ['new'], 'existing': ['existing']}
+    """
+    text = demo_config_text(source)
+    start, end = text.index("\nrejects:\n"), text.index("\nengine:")
+    text = text[:start] + _SEGMENTS_SECTION + text[end:]
+    for old, new in (("name: Cargo-bike lease applications (invented demo data)",
+                      "name: Cargo-bike lease applications by customer segment (invented demo data)"),
+                     ("workbook: out/scorecard.xlsx", "workbook: out/segmented.xlsx"),
+                     ("model: out/scorecard.json", "model: out/segmented.json")):
+        if old not in text:
+            raise AssertionError(f"the demo config template lost {old!r}")
+        text = text.replace(old, new)
+    return text
+
+
+_SEGMENTS_SECTION = """
+segments:
+  # New and existing customers differ in kind: a new customer's existing leases are held
+  # elsewhere and add risk, an existing customer's are leases with us kept going and lower it.
+  # One card per segment lets each find its own direction; both cards share the scaling above,
+  # so one cut-off means the same odds for new and existing customers.
+  column: customer
+  groups:
+    new: [new]
+    existing: [existing]
+"""
+
+
 def _check_arguments(rows: object, seed: object, drift: object) -> None:
     if not _is_whole_number(rows) or rows < 1:
         raise InputError(f"make_applications: rows must be a whole number of at least 1, got {rows!r}")
@@ -393,7 +445,18 @@ def _draw_applicants(rng: np.random.Generator, rows: int, population: _Populatio
     hours = np.clip(np.round(rng.normal(27.0, 11.0, size=rows)), 0, 70)
     draws["weekly_delivery_hours"] = hours.astype(np.int64)
     draws["existing_leases"] = np.minimum(rng.poisson(0.55, size=rows), 6)
+    _add_customer(rng.spawn(1)[0], draws)
     return draws
+
+
+def _add_customer(rng: np.random.Generator, draws: dict[str, np.ndarray]) -> None:
+    """New or existing customer, from a stream of its own (no other column's draw changes);
+    an existing customer holds at least one lease with the lender."""
+    rows = draws["existing_leases"].size
+    existing = rng.random(rows) < _EXISTING_CUSTOMER_SHARE
+    own = 1 + rng.poisson(_EXISTING_CUSTOMER_MEAN_LEASES - 1, size=rows)
+    draws["customer"] = existing.astype(np.int64)
+    draws["existing_leases"] = np.where(existing, np.minimum(own, 6), draws["existing_leases"])
 
 
 def _log_odds_of_good(draws: dict[str, np.ndarray]) -> np.ndarray:
@@ -418,7 +481,8 @@ def _log_odds_of_good(draws: dict[str, np.ndarray]) -> np.ndarray:
         + np.where(late == _NO_CREDIT_FILE_VALUE, -0.70, -0.50 * np.minimum(late, 4))
         # Few hours means little courier income, many means wear and accidents: a U in risk.
         - 0.45 * ((hours - 28.0) / 12.0) ** 2
-        - 0.45 * draws["existing_leases"]
+        + np.where(draws["customer"] == 1, _LEASE_EFFECT_EXISTING * (draws["existing_leases"]
+                   - _EXISTING_CUSTOMER_MEAN_LEASES), _LEASE_EFFECT_NEW * draws["existing_leases"])
     )
 
 
