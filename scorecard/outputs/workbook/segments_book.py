@@ -30,8 +30,10 @@ def segment_sheet_name(sheet: str, segment: str, taken: set) -> str:
 
     Examples
     --------
-    >>> segment_sheet_name("Points", "months_as_customer >= 12", set())
-    'Points (months_as_customer >= 1'
+    >>> segment_sheet_name("Points", "new", set())
+    'Points (new)'
+    >>> segment_sheet_name("Score bands", "months_as_customer >= 12", set())
+    'Score bands (months_as_custome)'
     """
     room = MAX_SHEET_NAME - len(sheet) - 3
     base = f"{sheet} ({_NOT_IN_SHEET_NAME.sub('_', segment)[:room]})"[:MAX_SHEET_NAME]

@@ -1,0 +1,320 @@
+"""Segmented cards: one card per segment on one scale, built, scored, exported and challenged.
+
+Checks of the main job and their sources:
+- Known truth, simulation: where one characteristic's effect reverses between two segments, the
+  segmented model ranks held-out rows better than one card, and ``challenge`` says so; where the
+  segments do not differ, ``challenge`` claims no difference at the 5% level in most seeds.
+- Reference libraries: every segmented output (the scored file, the PMML document in pypmml,
+  the SQL query in SQLite through sqlite3) gives the same scores and reasons row for row.
+- Invariants: the local engine in one chunk, in small chunks and a Dask cluster give the same
+  model file; every card has the config's scaling; a segment too small to build is one
+  ``error:`` line naming it and its counts.
+"""
+
+from __future__ import annotations
+
+import importlib.util
+import json
+import shutil
+import sqlite3
+
+import numpy as np
+import pandas as pd
+import pytest
+from click.testing import CliRunner
+
+import scorecard.api as api
+from scorecard.build.segments import build_segmented
+from scorecard.card.scorecard import Scorecard
+from scorecard.card.segmented import SegmentedScorecard, load_model, model_from_json
+from scorecard.cli import main
+from scorecard.config import load_config, parse_config
+from scorecard.data.read import read_frame
+from scorecard.engines.local import LocalEngine
+from scorecard.errors import InputError
+from scorecard.outputs.pmml import write_pmml
+from scorecard.outputs.sql import segmented_query
+
+needs_pmml_evaluator = pytest.mark.skipif(
+    shutil.which("java") is None or importlib.util.find_spec("pypmml") is None,
+    reason="pypmml and a Java runtime are needed to evaluate PMML independently")
+
+SINGLE = """\
+name: one card
+data: {{source: {data}, target: outcome, bad: [bad], good: [good], ignore: [id]}}
+samples: {{holdout: 0.3, seed: 7}}
+output: {{workbook: out/one.xlsx, model: out/one.json}}
+"""
+SEGMENTED = """\
+name: a card per segment
+data: {{source: {data}, target: outcome, bad: [bad], good: [good], ignore: [id]}}
+samples: {{holdout: 0.3, seed: 7}}
+segments: {segments}
+output: {{workbook: out/{stem}.xlsx, model: out/{stem}.json}}
+"""
+BY_GROUPS = "{column: customer, groups: {new: [new], existing: [existing, renewed]}}"
+BY_CUTS = "{column: tenure, cuts: [1]}"
+
+
+def simulate(rows: int, seed: int, reverse: bool = True) -> pd.DataFrame:
+    """Rows with a known logistic model: x1 raises the log-odds of bad for existing customers
+    and (when ``reverse``) lowers it by as much for new ones; x2 acts alike in both; x3 is noise.
+    ``tenure`` is 0 for new customers and positive for existing ones."""
+    rng = np.random.default_rng(seed)
+    new = rng.random(rows) < 0.5
+    x1, x2, x3 = (np.round(rng.normal(size=rows), 3) for _ in range(3))
+    sign = np.where(new & reverse, -1.0, 1.0)
+    bad = rng.random(rows) < 1.0 / (1.0 + np.exp(-(-1.8 + 1.2 * sign * x1 + 0.6 * x2)))
+    customer = np.where(new, "new", np.where(rng.random(rows) < 0.5, "existing", "renewed"))
+    tenure = np.where(new, 0, rng.integers(1, 60, size=rows))
+    return pd.DataFrame({"id": np.arange(rows), "customer": customer, "tenure": tenure,
+                         "x1": x1, "x2": x2, "x3": x3,
+                         "outcome": np.where(bad, "bad", "good")})
+
+
+def write_case(folder, frame, segments=BY_GROUPS, stem="segmented"):
+    """The data file, a one-card config and a segmented config in ``folder``."""
+    frame.to_csv(folder / "data.csv", index=False)
+    (folder / "one.yaml").write_text(SINGLE.format(data="data.csv"))
+    (folder / f"{stem}.yaml").write_text(SEGMENTED.format(data="data.csv", segments=segments,
+                                                          stem=stem))
+    return folder / "one.yaml", folder / f"{stem}.yaml"
+
+
+@pytest.fixture(scope="module")
+def reversed_case(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("reversed")
+    one, segmented = write_case(folder, simulate(6000, 1).drop(columns="tenure"))
+    simulate(4000, 2).to_csv(folder / "fresh.csv", index=False)
+    return folder, api.build(one), api.build(segmented)
+
+
+def test_the_segmented_model_beats_one_card_where_an_effect_reverses(reversed_case):
+    # Known truth, simulation: x1 acts in opposite directions in the two segments, so one card
+    # can follow it in neither; the segmented model follows it in both.
+    folder, single, segmented = reversed_case
+    assert isinstance(segmented.card, SegmentedScorecard)
+    assert segmented.performance["holdout"].auc > single.performance["holdout"].auc + 0.05
+    for name in ("new", "existing"):
+        assert "x1" in segmented.segments[name].card.names
+    result = api.challenge(folder / "out/one.json", folder / "out/segmented.json",
+                           folder / "fresh.csv")
+    assert result.difference.ci_low > 0 and result.difference.p_value < 0.001
+    assert "the challenger ranks better" in result.text().splitlines()[3]
+    assert set(result.segments) == {"new", "existing"}
+    assert sum(n for *_, n in result.segments.values()) == result.rows == 4000
+    assert all(d.difference > 0 for _, _, d, _ in result.segments.values())
+
+
+def test_challenge_claims_no_difference_in_most_seeds_where_segments_do_not_differ(tmp_path):
+    # Known truth, simulation: the same model holds in both segments, so the segmented model
+    # ranks no better in truth; at the 5% level a claim should be rare (at most one of four).
+    claims = 0
+    for seed in range(4):
+        folder = tmp_path / str(seed)
+        folder.mkdir()
+        one, segmented = write_case(folder, simulate(3000, 10 + seed, reverse=False))
+        simulate(3000, 100 + seed, reverse=False).to_csv(folder / "fresh.csv", index=False)
+        api.build(one)
+        api.build(segmented)
+        result = api.challenge(folder / "out/one.json", folder / "out/segmented.json",
+                               folder / "fresh.csv")
+        claims += result.difference.p_value < 0.05
+    assert claims <= 1
+
+
+def test_every_card_has_the_config_scaling_and_the_model_file_round_trips(reversed_case):
+    folder, _, segmented = reversed_case
+    model = load_model(folder / "out/segmented.json")
+    assert model == segmented.card
+    assert model_from_json(model.to_json()) == model
+    assert {card.scaling for card in model.cards} == {model.scaling}
+    assert (model.scaling.base_score, model.scaling.base_odds, model.scaling.pdo) == (600, 50, 20)
+    assert json.loads(model.to_json())["format_version"] == 2
+    # A single card's file still loads as a single card.
+    assert isinstance(load_model(folder / "out/one.json"), Scorecard)
+    table = segmented.segment_table()
+    assert table["Segment"].tolist() == ["new", "existing", "all segments"]
+    assert table["Rows"].tolist() == [(folder / "data.csv").read_text().count("\nnew,"),
+                                      6000 - table["Rows"][0], 6000]
+    goods_and_bads = table["Goods"] + table["Bads"]
+    assert goods_and_bads[2] == goods_and_bads[0] + goods_and_bads[1] == 6000
+
+
+@pytest.fixture(scope="module", params=["groups", "cuts"])
+def scored_case(request, tmp_path_factory):
+    """A segmented model (by groups or by cuts) and rows with missing values, unseen levels
+    and rows no segment takes, scored by the product."""
+    folder = tmp_path_factory.mktemp(request.param)
+    rule = BY_GROUPS if request.param == "groups" else BY_CUTS
+    _, config = write_case(folder, simulate(5000, 3), rule, stem=request.param)
+    api.build(config)
+    rows = simulate(600, 4)
+    rows.loc[::7, "x1"] = np.nan
+    rows.loc[::11, "x2"] = 99.0
+    rows.loc[::13, ["customer", "tenure"]] = [None, np.nan]
+    rows.loc[5::17, "customer"] = "someone else"
+    rows.to_csv(folder / "rows.csv", index=False)
+    model = folder / f"out/{request.param}.json"
+    api.score(model, folder / "rows.csv", folder / "scored.csv", keep=["id"], reasons=2)
+    return load_model(model), rows, pd.read_csv(folder / "scored.csv"), folder
+
+
+def test_scored_file_uses_each_rows_own_card(scored_case):
+    model, rows, scored, _ = scored_case
+    assert list(scored.columns[:4]) == ["id", "segment", "score", "bad_probability"]
+    for name, card in model.segments.items():
+        mine = scored["segment"] == name
+        points = scored.loc[mine, [f"points_{n}" for n in card.names]].sum(axis=1)
+        assert (points == scored.loc[mine, "score"]).all()
+        others = [f"points_{n}" for n in model.names if n not in card.names]
+        assert scored.loc[mine, others].isna().all().all()
+    lost = scored["segment"].isna()
+    assert lost.sum() > 0 and scored.loc[lost, "score"].isna().all()
+    assert (scored.loc[lost, "reason_1"] == f"REJECTED:{model.rule.column}").all()
+
+
+def test_sql_in_sqlite_gives_the_scored_file_row_for_row(scored_case):
+    # Reference library: SQLite (through sqlite3) runs the one query.
+    model, rows, scored, _ = scored_case
+    db = sqlite3.connect(":memory:")
+    rows.to_sql("applications", db, index=False)
+    got = pd.read_sql_query(segmented_query(model, keep=["id"], reasons=2), db)
+    got = got.sort_values("id").reset_index(drop=True)
+    expected = scored.drop(columns="bad_probability")
+    assert list(got.columns) == list(expected.columns)
+    for column in expected.columns:
+        assert got[column].astype(object).where(got[column].notna(), None).tolist() == \
+            expected[column].astype(object).where(expected[column].notna(), None).tolist(), column
+
+
+@needs_pmml_evaluator
+def test_pmml_in_an_independent_evaluator_gives_the_scored_file_row_for_row(scored_case):
+    # Reference library: pypmml evaluates the MiningModel's segmentation and each Scorecard.
+    from pypmml import Model
+
+    model, rows, scored, folder = scored_case
+    write_pmml(model, folder / "segmented.pmml", reasons=2)
+    evaluator = Model.load(str(folder / "segmented.pmml"))
+    columns = list(model.names) + [model.rule.column]
+    got = evaluator.predict(rows[columns])
+    assert got["score"].fillna(-1).tolist() == scored["score"].fillna(-1).tolist()
+    np.testing.assert_allclose(got["bad_probability"], scored["bad_probability"], rtol=1e-12,
+                               atol=1e-15)
+    scored_rows = scored["score"].notna()
+    for column in ("reason_1", "reason_2"):
+        assert got.loc[scored_rows, column].fillna("").tolist() == \
+            scored.loc[scored_rows, column].fillna("").tolist(), column
+
+
+def test_the_engines_agree_on_the_segmented_model(tmp_path):
+    # Invariant: one chunk, chunks of 997 rows and a two-process Dask cluster on Parquet parts
+    # give the same cards, counts and pooled measures.
+    distributed = pytest.importorskip("distributed")
+    from scorecard.engines.dask_engine import DaskEngine
+
+    frame = simulate(5000, 5)
+    parts = tmp_path / "parts"
+    parts.mkdir()
+    for i, start in enumerate(range(0, 5000, 2000)):
+        frame.iloc[start:start + 2000].to_parquet(parts / f"part_{i}.parquet", index=False)
+    (tmp_path / "c.yaml").write_text(SEGMENTED.format(data="parts", segments=BY_GROUPS,
+                                                      stem="s"))
+    config = load_config(tmp_path / "c.yaml")
+    whole = build_segmented(config, LocalEngine(read_frame(parts)))
+    chunked = build_segmented(config, LocalEngine(read_frame(parts), chunk_rows=997))
+    with distributed.LocalCluster(n_workers=2, processes=True, threads_per_worker=1,
+                                  dashboard_address=":0") as cluster, \
+            DaskEngine(parts, cluster.scheduler_address) as engine:
+        on_dask = build_segmented(config, engine)
+    for other in (chunked, on_dask):
+        assert other.card.to_json() == whole.card.to_json()
+        for name, result in whole.segments.items():
+            assert other.segments[name].samples == result.samples
+        assert {k: v.auc for k, v in other.pooled.items()} == \
+            pytest.approx({k: v.auc for k, v in whole.pooled.items()}, rel=1e-12)
+
+
+def test_a_segment_too_small_to_build_is_one_error_line_naming_it(tmp_path):
+    frame = simulate(3000, 6)
+    frame.loc[:29, "customer"] = "trial"
+    rules = "{column: customer, groups: {new: [new], existing: [existing, renewed], trial: [trial]}}"
+    _, config = write_case(tmp_path, frame, rules)
+    bads = int((frame.loc[:29, "outcome"] == "bad").sum())
+    ran = CliRunner().invoke(main, ["build", str(config), "--quiet"])
+    assert ran.exit_code == 2
+    assert ran.stderr.count("\n") == 1 and ran.stderr.startswith("error: segments: segment 'trial'")
+    # The counts: 30 rows, of which the development sample (70%) holds the goods and bads named.
+    assert "is too small to build: 30 rows," in ran.stderr
+    assert f"bads in development" in ran.stderr and "needs at least 20 goods and 20 bads" in ran.stderr
+    assert bads < 20
+    assert not (tmp_path / "out").exists()
+
+
+def test_a_row_no_segment_takes_is_one_error_line_naming_its_row(tmp_path):
+    frame = simulate(2000, 8)
+    frame.loc[41, "customer"] = "walk-in"
+    _, config = write_case(tmp_path, frame)
+    ran = CliRunner().invoke(main, ["build", str(config), "--quiet"])
+    assert ran.exit_code == 2
+    assert ran.stderr == (f"error: {tmp_path / 'data.csv'}: row 42: column customer: holds "
+                          "'walk-in', which no segment lists (1 such rows); segments.groups must "
+                          "give every row a segment\n")
+
+
+@pytest.mark.parametrize(("segments", "message"), [
+    ("{column: customer}", "segments.groups: is required"),
+    ("{column: customer, groups: {a: [x]}}", "segments.groups: must name at least two segments"),
+    ("{column: customer, groups: {a: [x], b: [x]}}",
+     "segments.groups.b[0]: level 'x' is already listed at segments.groups.a[0]"),
+    ("{column: tenure, cuts: [1, 5], names: [a, b]}", "segments.names: must list 3 names"),
+    ("{column: tenure, cuts: [5, 1]}", "segments.cuts[1]: must be larger"),
+    ("{column: customer, groups: {a: [x], b: [y]}, cuts: [1]}",
+     "segments.cuts: cannot be given with groups"),
+    ("{column: outcome, cuts: [1]}", "segments.column: 'outcome' is named in data.target"),
+    ("{column: customer, groupz: {}}", "segments.groupz: unknown key"),
+])
+def test_a_bad_segments_section_is_refused_naming_its_key(segments, message):
+    text = SEGMENTED.format(data="d.csv", segments=segments, stem="s")
+    with pytest.raises(InputError) as caught:
+        parse_config(text, "c.yaml")
+    assert message in str(caught.value) and "\n" not in str(caught.value)
+
+
+def test_segments_with_declined_applications_are_refused():
+    text = SEGMENTED.format(data="d.csv", segments=BY_GROUPS, stem="s") + "rejects: {source: r.csv}\n"
+    with pytest.raises(InputError, match="rejects: cannot be given with segments yet"):
+        parse_config(text, "c.yaml")
+
+
+def test_reports_on_a_segmented_model(reversed_case, tmp_path):
+    folder, _, _ = reversed_case
+    model, fresh = folder / "out/segmented.json", folder / "fresh.csv"
+    strategy = api.strategy(model, fresh)
+    assert strategy.rows == 4000 and strategy.table["approval_rate"].iloc[0] == 1.0
+    for args in (["compare", str(model), str(fresh), str(fresh)],
+                 ["monitor", str(model), str(fresh), "--period", "id"],
+                 ["diff", str(model), str(model)]):
+        ran = CliRunner().invoke(main, args)
+        assert ran.exit_code == 2 and ran.stderr.count("\n") == 1, args
+        assert "a segmented model (2 cards by customer)" in ran.stderr
+    for form in ("pmml", "sql"):
+        ran = CliRunner().invoke(main, ["export", str(model), "--format", form,
+                                        "--out", str(tmp_path / f"m.{form}")])
+        assert ran.exit_code == 0 and (tmp_path / f"m.{form}").is_file()
+
+
+def test_the_workbook_has_an_overview_of_segments_and_each_cards_sheets(reversed_case):
+    from openpyxl import load_workbook
+
+    folder, _, segmented = reversed_case
+    book = load_workbook(folder / "out/segmented.xlsx")
+    assert book.sheetnames[0] == "Overview"
+    for name in ("new", "existing"):
+        for sheet in ("Characteristics", "Bins", "Model", "Points", "Score bands", "Stability"):
+            assert f"{sheet} ({name})" in book.sheetnames
+    cells = [[c for c in row] for row in book["Overview"].iter_rows(values_only=True)]
+    header = next(i for i, row in enumerate(cells) if row[0] == "Segment")
+    assert [cells[header + k][0] for k in (1, 2, 3)] == ["new", "existing", "all segments"]
+    auc = cells[header].index("AUC holdout")
+    assert cells[header + 3][auc] == pytest.approx(segmented.pooled["holdout"].auc)
