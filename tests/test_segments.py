@@ -17,6 +17,7 @@ import importlib.util
 import json
 import shutil
 import sqlite3
+import xml.etree.ElementTree as ET
 
 import numpy as np
 import pandas as pd
@@ -52,6 +53,7 @@ samples: {{holdout: 0.3, seed: 7}}
 segments: {segments}
 output: {{workbook: out/{stem}.xlsx, model: out/{stem}.json}}
 """
+NS = {"pmml": "http://www.dmg.org/PMML-4_4"}
 BY_GROUPS = "{column: customer, groups: {new: [new], existing: [existing, renewed]}}"
 BY_CUTS = "{column: tenure, cuts: [1]}"
 
@@ -135,8 +137,8 @@ def test_every_card_has_the_config_scaling_and_the_model_file_round_trips(revers
     assert isinstance(load_model(folder / "out/one.json"), Scorecard)
     table = segmented.segment_table()
     assert table["Segment"].tolist() == ["new", "existing", "all segments"]
-    assert table["Rows"].tolist() == [(folder / "data.csv").read_text().count("\nnew,"),
-                                      6000 - table["Rows"][0], 6000]
+    new = int((pd.read_csv(folder / "data.csv")["customer"] == "new").sum())
+    assert table["Rows"].tolist() == [new, 6000 - new, 6000]
     goods_and_bads = table["Goods"] + table["Bads"]
     assert goods_and_bads[2] == goods_and_bads[0] + goods_and_bads[1] == 6000
 
@@ -195,6 +197,10 @@ def test_pmml_in_an_independent_evaluator_gives_the_scored_file_row_for_row(scor
 
     model, rows, scored, folder = scored_case
     write_pmml(model, folder / "segmented.pmml", reasons=2)
+    root = ET.parse(folder / "segmented.pmml").getroot()
+    segmentation = root.find("pmml:MiningModel/pmml:Segmentation", NS)
+    assert segmentation.get("multipleModelMethod") == "selectFirst"
+    assert [len(s.findall("pmml:Scorecard", NS)) for s in segmentation] == [1] * len(model.cards)
     evaluator = Model.load(str(folder / "segmented.pmml"))
     columns = list(model.names) + [model.rule.column]
     got = evaluator.predict(rows[columns])

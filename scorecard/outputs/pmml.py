@@ -329,6 +329,7 @@ def segmented_pmml_document(model, reasons: int = REASONS.default) -> ET.Element
                              f"card of segment {name!r}")
         doc = pmml_document(card, reasons).getroot()
         for field in doc.find("DataDictionary"):
+            field.tail = None           # the indentation, which depends on the field's place
             own, column = ET.tostring(field), field.get("name")
             if column not in declared:
                 declared[column] = own
