@@ -95,9 +95,11 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
 
     Returns
     -------
-    BuildResult
+    BuildResult or SegmentedBuildResult
         The scorecard (``.card``), the facts behind it (``.stability`` among them: what the
-        workbook's Stability sheet shows) and the paths written (``.outputs``).
+        workbook's Stability sheet shows) and the paths written (``.outputs``). With a
+        ``segments`` section: the segmented model (``.card``), each segment's own build
+        (``.segments``) and the pooled measures (``.performance``).
     """
     from scorecard.build.pipeline import build_scorecard
     from scorecard.config import check_columns, load_config

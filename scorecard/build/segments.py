@@ -12,6 +12,7 @@ A segment too small to build is refused with one line naming it and its counts.
 from __future__ import annotations
 
 from dataclasses import dataclass, field, replace
+from functools import partial
 from pathlib import Path
 
 import numpy as np
@@ -106,7 +107,8 @@ def build_segmented(config: Config, engine, progress=None) -> SegmentedBuildResu
         own = RowFacts(rows.label, rows.weight,
                        np.where(segment == index, rows.sample, EXCLUDED).astype(np.int8))
         _refuse_if_too_small(config, name, own, int((segment == index).sum()))
-        said = None if progress is None else (lambda text, n=name: progress(f"{n}: {text}"))
+        said = None if progress is None else partial(_segment_line, progress, name,
+                                                     int((segment == index).sum()))
         try:
             result = _build(replace(config, name=f"{config.name}: {name}"), engine, said, own)
         except InputError as exc:
@@ -129,6 +131,14 @@ def build_segmented(config: Config, engine, progress=None) -> SegmentedBuildResu
         progress(f"{len(results)} segment cards on one scale; pooled {shown} AUC "
                  f"{pooled[shown].auc:.4f}")
     return SegmentedBuildResult(config, card, results, pooled)
+
+
+def _segment_line(progress, name: str, held: int, text: str) -> None:
+    # The build's first line counts the rows outside this segment as left out; say what is
+    # meant instead.
+    if text.startswith("outcome coded:"):
+        text = f"{held} rows in the segment"
+    progress(f"{name}: {text}")
 
 
 def _counts(rows: RowFacts, member: np.ndarray) -> str:

@@ -3,8 +3,9 @@
 The Overview holds the table of segments (rows, goods, bads, bad rate, characteristics and the
 AUC of each sample, per segment and pooled over all), the shared scaling and the run manifest.
 Each segment's card follows with the sheets of a single card, named ``<sheet> (<segment>)``:
-Characteristics, Bins, Model, Points, Score bands and Stability. The Calculator sheet of a
-single card is not repeated per segment; the Overview says how to read a score instead.
+Characteristics, Bins, Model, Points, Score bands and Stability, and Fairness when the config
+names protected columns (each segment's card examined on its own rows). The Calculator sheet of
+a single card is not repeated per segment; the Overview says how to read a score instead.
 """
 
 from __future__ import annotations
@@ -63,6 +64,10 @@ def write_segmented_workbook(result, path) -> Path:
         limits = part.config.stability
         stability_sheet.write_stability(own["Stability"], part.stability,
                                         watch=limits.watch, shift=limits.shift)
+        if part.fairness is not None:
+            from scorecard.outputs.workbook.fairness_sheet import write_fairness_sheet
+            write_fairness_sheet(wb.create_sheet(segment_sheet_name("Fairness", name, taken)),
+                                 part.fairness)
     wb.properties.creator = "scorecard"
     path = Path(path)
     save_book(wb, path)
