@@ -252,7 +252,7 @@ def test_a_segment_too_small_to_build_is_one_error_line_naming_it(tmp_path):
     assert ran.stderr.count("\n") == 1 and ran.stderr.startswith("error: segments: segment 'trial'")
     # The counts: 30 rows, of which the development sample (70%) holds the goods and bads named.
     assert "is too small to build: 30 rows," in ran.stderr
-    assert f"bads in development" in ran.stderr and "needs at least 20 goods and 20 bads" in ran.stderr
+    assert "bads in development" in ran.stderr and "needs at least 20 goods and 20 bads" in ran.stderr
     assert bads < 20
     assert not (tmp_path / "out").exists()
 

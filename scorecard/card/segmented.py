@@ -22,7 +22,7 @@ import numpy as np
 import pandas as pd
 
 from scorecard.card.scorecard import Characteristic, Scorecard, _scorecard_from_dict
-from scorecard.card.scoring import Scores, apply_scorecard
+from scorecard.card.scoring import apply_scorecard
 from scorecard.data.coding import categorical_codes, grid_cells, numeric_values
 from scorecard.errors import InputError
 
