@@ -47,6 +47,7 @@ class SegmentedBuildResult:
     pooled: dict[str, Discrimination]
     outputs: dict[str, Path] = field(default_factory=dict)   # set by api.build (replace)
     previous: object = None
+    rows_sha256: str | None = None   # of the rows a database query returned (set by api.build)
 
     @property
     def performance(self) -> dict[str, Discrimination]:

@@ -16,6 +16,7 @@ from pathlib import Path
 from openpyxl import Workbook
 from openpyxl.utils import get_column_letter
 
+from scorecard.config.sources import is_query
 from scorecard.outputs.atomic import save_book
 from scorecard.outputs.cautions import CAUTION
 from scorecard.outputs.workbook import overview, sheets, stability_sheet, style
@@ -91,7 +92,11 @@ def _write_overview(ws, result) -> None:
     page.paragraph(CAUTION, style.BOLD)
 
     page.heading("Segments")
-    page.fact("Data file", Path(config.data.source).name)
+    if is_query(config.data.source):
+        page.fact("Data source (database)", config.data.source.shown_url)
+        page.fact("Data query", config.data.source.query)
+    else:
+        page.fact("Data file", Path(config.data.source).name)
     page.fact("Segment column", card.rule.column)
     for name, levels in zip(card.rule.names, _rules(card.rule)):
         page.fact(f"Segment {name}", levels)
@@ -114,11 +119,12 @@ def _write_overview(ws, result) -> None:
                    "of a score are base odds x 2^((score - base score) / points to double).",
                    style.NOTE_FONT)
 
-    manifest = run_manifest(config)
+    manifest = run_manifest(config, rows_sha256=result.rows_sha256)
     page.heading("Run manifest")
     page.fact("Config file", Path(manifest.config_file).name)
     page.fact("Config file SHA-256", manifest.config_sha256)
-    page.fact(overview.DATA_HASH_LABEL, manifest.data_sha256)
+    page.fact(overview.QUERY_HASH_LABEL if manifest.data_query else overview.DATA_HASH_LABEL,
+              manifest.data_sha256)
     page.fact("Random seed of the holdout split", manifest.seed)
     for name, version in manifest.versions:
         page.fact(f"Version of {name}", version)
