@@ -99,7 +99,8 @@ def build_segmented(config: Config, engine, progress=None) -> SegmentedBuildResu
     Each card has its own binning, selection and fit; every card takes the config's scaling.
     """
     rule = segment_rule(config)
-    rows = _outcome_facts(config, engine)
+    # Rows an exclusion rule catches are outside every sample already, in every segment.
+    rows, _ = _outcome_facts(config, engine)
     segment = engine.collect(lambda chunk: (rule.codes(chunk[rule.column]),),
                              columns=[rule.column])[0]
     _refuse_rows_without_segment(config, engine, rule, segment)

@@ -117,6 +117,11 @@ class SegmentedScorecard:
         return self.cards[0].target
 
     @property
+    def exclusions(self) -> tuple:
+        """The build's exclusion rules (the same in every card)."""
+        return self.cards[0].exclusions
+
+    @property
     def characteristics(self) -> tuple[Characteristic, ...]:
         """Every characteristic any card uses, once, in order of first use."""
         seen: dict[str, Characteristic] = {}
