@@ -305,7 +305,7 @@ CASES = [
     pytest.param(semicolon_data, build, ["{d}/applications.csv", "';'", "data.delimiter"],
                  id="data-wrong-delimiter"),
     pytest.param(edit_lines(lambda lines: lines[:9] + ["1,2,3\n"] + lines[10:]), build,
-                 ["{d}/applications.csv", "row 9", "expected 19 fields", "found 3"], id="data-short-row"),
+                 ["{d}/applications.csv", "row 9", "expected 20 fields", "found 3"], id="data-short-row"),
     pytest.param(edit_lines(lambda lines: lines[:40] + ['"unclosed quote,' + lines[40]] + lines[41:]),
                  build, ["{d}/applications.csv", "row 40"], id="data-unclosed-quote"),
     pytest.param(edit_lines(lambda lines: [lines[0].replace("bike_type", "housing")] + lines[1:]),

@@ -176,7 +176,7 @@ def make_applications(rows: int = 20_000, seed: int = 2024, drift: bool = False)
     --------
     >>> frame = make_applications(rows=1000, seed=7)
     >>> frame.shape
-    (1000, 19)
+    (1000, 20)
     >>> sorted(frame["outcome"].unique())
     ['defaulted', 'in_arrears', 'repaid']
     """
