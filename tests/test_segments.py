@@ -246,6 +246,7 @@ def test_a_segment_too_small_to_build_is_one_error_line_naming_it(tmp_path):
     frame.loc[:29, "customer"] = "trial"
     rules = "{column: customer, groups: {new: [new], existing: [existing, renewed], trial: [trial]}}"
     _, config = write_case(tmp_path, frame, rules)
+    config.write_text(config.read_text() + "binning: {min_bin_goods: 10, min_bin_bads: 10}\n")
     bads = int((frame.loc[:29, "outcome"] == "bad").sum())
     ran = CliRunner().invoke(main, ["build", str(config), "--quiet"])
     assert ran.exit_code == 2

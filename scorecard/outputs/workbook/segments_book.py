@@ -19,7 +19,7 @@ from openpyxl.utils import get_column_letter
 from scorecard.config.sources import is_query
 from scorecard.outputs.atomic import save_book
 from scorecard.outputs.cautions import CAUTION
-from scorecard.outputs.workbook import overview, sheets, stability_sheet, style
+from scorecard.outputs.workbook import bins_sheet, overview, sheets, stability_sheet, style
 from scorecard.outputs.workbook.manifest import run_manifest
 
 CARD_SHEETS = ("Characteristics", "Bins", "Model", "Points", "Score bands", "Stability")
@@ -58,7 +58,7 @@ def write_segmented_workbook(result, path) -> Path:
         own = {sheet: wb.create_sheet(segment_sheet_name(sheet, name, taken))
                for sheet in CARD_SHEETS}
         sheets.write_characteristics(own["Characteristics"], part)
-        sheets.write_bins(own["Bins"], part)
+        bins_sheet.write_bins(own["Bins"], part)
         sheets.write_model(own["Model"], part)
         sheets.write_points(own["Points"], part)
         sheets.write_score_bands(own["Score bands"], part)
