@@ -442,6 +442,27 @@ def test_the_fairness_tables_by_group_start_a_printed_page(book):
     assert {b.id for b in ws.row_breaks.brk} == {title - 1}
 
 
+def test_no_stability_table_runs_over_a_printed_page(book):
+    # Each comparison starts a page, and no characteristic's table is split by a page break, so
+    # every printed table keeps its own title and headings (common practice for printed reports).
+    ws = book["Stability"]
+    breaks = sorted(b.id for b in ws.row_breaks.brk)
+    titles = [r for r in range(2, ws.max_row + 1)
+              if ": index " in str(ws.cell(r, 1).value or "")]
+    comparisons = [r for r in range(2, ws.max_row + 1)
+                   if str(ws.cell(r, 1).value or "").endswith("(current)")]
+    assert titles and comparisons
+    for first in comparisons:
+        assert first - 1 in breaks
+    for title in titles:
+        last = title + 1
+        while ws.cell(last + 1, 1).value not in (None, ""):
+            last += 1
+        assert not [b for b in breaks if title <= b < last], ws.cell(title, 1).value
+    # Pages hold several tables: breaks come only where a page is full.
+    assert len(breaks) < len(titles)
+
+
 def test_score_band_and_stability_charts_read_their_tables(demo, book):
     path = demo[1]
     score_charts = _chart_formulas(path, "Score bands")

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import pandas as pd
 from openpyxl.utils import get_column_letter
+from openpyxl.worksheet.pagebreak import Break
 from openpyxl.worksheet.worksheet import Worksheet
 
 from scorecard.outputs.workbook import charts, style
@@ -22,6 +23,8 @@ DETAIL_FORMATS = {"Points": style.INTEGER, "Baseline rows": style.COUNT,
                   "Current rows": style.COUNT, "Baseline share": style.PERCENT,
                   "Current share": style.PERCENT, "Contribution": style.WOE}
 STATUS_FILLS = {"watch": style.HIGHER_RISK_FILL, "shift": style.HIGHER_RISK_FILL}
+# Width of a chart that openpyxl draws at its default size, and the gap before it, in cm.
+CHART_CM = 15.5
 
 
 def summary_frame(comparisons) -> pd.DataFrame:
@@ -61,12 +64,37 @@ def write_stability(ws: Worksheet, comparisons, *, watch: float, shift: float) -
         note(ws, row + 1, "No holdout or out-of-time sample: nothing to compare with.")
         return
     row += 1
+    blocks: list[tuple[int, int, int]] = []
     for comparison in comparisons:
-        row = _comparison(ws, comparison, row + 1)
+        row = _comparison(ws, comparison, row + 1, blocks)
+    _page_breaks(ws, blocks)
 
 
-def _comparison(ws: Worksheet, comparison, row: int) -> int:
-    """The detail of one comparison from ``row``; returns the last row used."""
+def _page_breaks(ws: Worksheet, blocks) -> None:
+    """Each comparison starts a page; a table that would cross the page foot starts the next.
+
+    Printing fits the sheet to the page width, so the rows a page holds follow from the widest
+    of the tables and the score-band table with its chart. Every table then keeps its own
+    title and headings in print.
+    """
+    width = max(charts.table_width_cm(ws, ws.max_column),
+                charts.table_width_cm(ws, blocks[0][2]) + CHART_CM)
+    scale = min(1.0, charts.PRINT_WIDTH_CM / width)
+    # Less the repeated header row, and two rows for the taller table headers.
+    page_rows = charts.PRINT_HEIGHT_CM * 0.97 / scale / charts.ROW_CM - 3
+    top = None
+    for first, last, starts_page in blocks:
+        if starts_page or (last - top + 1) > page_rows:
+            ws.row_breaks.append(Break(id=first - 1))
+            top = first
+
+
+def _comparison(ws: Worksheet, comparison, row: int, blocks: list) -> int:
+    """The detail of one comparison from ``row``; returns the last row used.
+
+    Appends to ``blocks`` each table's first and last row, and for the score-band table (which
+    starts the page) the number of its columns.
+    """
     pair = f"{comparison.baseline} (baseline) vs {comparison.current} (current)"
     ws.cell(row, 1, safe_value(pair)).font = style.TITLE_FONT
     score = comparison.score
@@ -86,13 +114,17 @@ def _comparison(ws: Worksheet, comparison, row: int) -> int:
                             f"{comparison.current} (current)", style.CURRENT_FILL)],
         x_title="Score band", y_title="Share of rows")
     ws.add_chart(chart, f"{get_column_letter(chart_col)}{row + 1}")
+    first = row
     row = max(end, row + 1 + charts.ROWS_PER_CHART)
+    blocks.append((first, row, len(columns)))
     for result in comparison.characteristics:
+        first = row + 1
         _, last = write_table(
             ws, result.table, start_row=row + 1, formats=_formats(result.table),
             title=f"{result.name}: index {result.index:.4f}, {result.status} "
                   f"({comparison.current} vs {comparison.baseline})")
         row = note(ws, last + 1, result.table.attrs.get("note", ""))
+        blocks.append((first, row, 0))
     return row
 
 
