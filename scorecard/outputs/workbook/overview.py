@@ -95,13 +95,7 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     page.paragraph(CAUTION, style.BOLD)
 
     page.heading("Data")
-    # A committee document names the files and their hashes (the run manifest), never a path
-    # of the modeller's machine.
-    if is_query(config.data.source):
-        page.fact("Data source (database)", config.data.source.shown_url)
-        page.fact("Data query", config.data.source.query)
-    else:
-        page.fact("Data file", Path(config.data.source).name)
+    source_facts(page, config.data.source)
     page.fact("Rows read", samples.rows_read, style.COUNT)
     page.fact("Rows left out (outcome neither bad nor good)", samples.left_out, style.COUNT)
     page.table(frames.samples_frame(samples),
@@ -178,3 +172,15 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     set_print_layout(ws)
     ws.page_setup.orientation = "portrait"
 
+
+def source_facts(page, source) -> None:
+    """The data source as a committee document names it.
+
+    A file by its name (its hash is in the run manifest), never a path of the modeller's
+    machine; a database query by its URL without password and the query itself.
+    """
+    if is_query(source):
+        page.fact("Data source (database)", source.shown_url)
+        page.fact("Data query", source.query)
+    else:
+        page.fact("Data file", Path(source).name)

@@ -16,10 +16,15 @@ from pathlib import Path
 from openpyxl import Workbook
 from openpyxl.utils import get_column_letter
 
-from scorecard.config.sources import is_query
 from scorecard.outputs.atomic import save_book
 from scorecard.outputs.cautions import CAUTION
-from scorecard.outputs.workbook import bins_sheet, overview, sheets, stability_sheet, style
+from scorecard.outputs.workbook import (
+    bins_sheet,
+    overview,
+    sheets,
+    stability_sheet,
+    style,
+)
 from scorecard.outputs.workbook.manifest import run_manifest
 
 CARD_SHEETS = ("Characteristics", "Bins", "Model", "Points", "Score bands", "Stability")
@@ -92,11 +97,7 @@ def _write_overview(ws, result) -> None:
     page.paragraph(CAUTION, style.BOLD)
 
     page.heading("Segments")
-    if is_query(config.data.source):
-        page.fact("Data source (database)", config.data.source.shown_url)
-        page.fact("Data query", config.data.source.query)
-    else:
-        page.fact("Data file", Path(config.data.source).name)
+    overview.source_facts(page, config.data.source)
     page.fact("Segment column", card.rule.column)
     for name, levels in zip(card.rule.names, _rules(card.rule)):
         page.fact(f"Segment {name}", levels)

@@ -15,7 +15,11 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from scorecard.outputs.workbook import charts, style
 from scorecard.outputs.workbook.sheets import note
-from scorecard.outputs.workbook.tables import finish_table_sheet, safe_value, write_table
+from scorecard.outputs.workbook.tables import (
+    finish_table_sheet,
+    safe_value,
+    write_table,
+)
 
 SUMMARY_COLUMNS = ["Baseline", "Current", "Measure", "Stability index", "Status",
                    "Critical value (95%)", "Beyond chance", "Points shift"]
