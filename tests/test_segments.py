@@ -325,3 +325,6 @@ def test_the_workbook_has_an_overview_of_segments_and_each_cards_sheets(reversed
     assert [cells[header + k][0] for k in (1, 2, 3)] == ["new", "existing", "all segments"]
     auc = cells[header].index("AUC holdout")
     assert cells[header + 3][auc] == pytest.approx(segmented.pooled["holdout"].auc)
+    # Every sheet prints fitted to the page width, as the single card's do.
+    for ws in book.worksheets:
+        assert ws.sheet_properties.pageSetUpPr.fitToPage and ws.page_setup.fitToWidth == 1, ws.title

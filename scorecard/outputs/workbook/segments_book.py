@@ -26,6 +26,7 @@ from scorecard.outputs.workbook import (
     style,
 )
 from scorecard.outputs.workbook.manifest import run_manifest
+from scorecard.outputs.workbook.tables import set_print_layout
 
 CARD_SHEETS = ("Characteristics", "Bins", "Model", "Points", "Score bands", "Stability")
 MAX_SHEET_NAME = 31
@@ -132,6 +133,9 @@ def _write_overview(ws, result) -> None:
     page.fact(overview.RUN_TIME_LABEL, manifest.run_time)
     page.heading("How to read this workbook")
     page.paragraph(overview.READING)
+    # Fitted to the page width like the single card's Overview, so no column is cut off.
+    set_print_layout(ws)
+    ws.page_setup.orientation = "portrait"
 
 
 def _rules(rule) -> list[str]:
