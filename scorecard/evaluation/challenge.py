@@ -70,14 +70,14 @@ class Challenge(NamedTuple):
 
     def text(self) -> str:
         d = self.difference
-        verdict = _verdict(d)
+        said = verdict(d)
         lines = [f"{self.rows:,} rows compared ({self.left_out:,} left out)",
                  f"  champion    AUC {self.champion.auc:.4f}  Gini {self.champion.gini:.4f}  "
                  f"KS {self.champion.ks:.4f}",
                  f"  challenger  AUC {self.challenger.auc:.4f}  Gini {self.challenger.gini:.4f}  "
                  f"KS {self.challenger.ks:.4f}",
                  f"  AUC difference {d.difference:+.4f} (95% interval {d.ci_low:+.4f} to "
-                 f"{d.ci_high:+.4f}, DeLong p {d.p_value:.4g}): {verdict}",
+                 f"{d.ci_high:+.4f}, DeLong p {d.p_value:.4g}): {said}",
                  f"  swap set at {self.approval_rate:.0%} approved (champion cut at "
                  f"{self.cutoffs['champion']:g}, challenger at {self.cutoffs['challenger']:g}):"]
         for row in self.swap.itertuples():
@@ -87,7 +87,7 @@ class Challenge(NamedTuple):
             lines.append("  by segment (AUC champion, challenger; difference, DeLong p):")
         for name, (a, b, d, n) in self.segments.items():
             lines.append(f"    {name:12s} {n:>9,} rows  {a.auc:.4f}  {b.auc:.4f}  "
-                         f"{d.difference:+.4f} (p {d.p_value:.4g}): {_verdict(d)}")
+                         f"{d.difference:+.4f} (p {d.p_value:.4g}): {verdict(d)}")
         return "\n".join(lines)
 
 
@@ -162,7 +162,8 @@ def _paired(a: np.ndarray, b: np.ndarray, is_bad: np.ndarray) -> PairedAUC:
     return paired_auc(pairs[:, 0], pairs[:, 1], goods, bads)
 
 
-def _verdict(d: PairedAUC) -> str:
+def verdict(d: PairedAUC) -> str:
+    """The paired test in plain words: which card ranks better, by the 95% interval."""
     return ("the challenger ranks better" if d.ci_low > 0 else
             "the champion ranks better" if d.ci_high < 0 else
             "no difference in ranking at the 5% level")
