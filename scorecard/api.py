@@ -225,18 +225,21 @@ def monitor(model, data, period, *, every="month", baseline=None, cutoff=None, b
     return result
 
 
-def challenge(champion, challenger, data, *, approval_rate=None, json_path=None):
+def challenge(champion, challenger, data, *, approval_rate=None, json_path=None,
+              workbook=None):
     """Champion against challenger on the rows of ``data``: AUC, Gini, KS of each, DeLong's
-    paired test of the AUC difference and the swap set; JSON written if asked.
+    paired test of the AUC difference and the swap set; JSON and workbook written if asked
+    (never over an input).
 
     Returns the :class:`~scorecard.evaluation.challenge.Challenge`.
     """
     from scorecard.evaluation.challenge import challenge as compare_cards
-    outputs = check_outputs(_report_outputs(json_path, None),
+    from scorecard.outputs.challenge_workbook import write_challenge_workbook
+    outputs = check_outputs(_report_outputs(json_path, workbook),
                             {"the champion": champion, "the challenger": challenger,
                              "the data": data})
     result = compare_cards(champion, challenger, data, approval_rate=approval_rate)
-    _write_report(outputs, result, None)
+    _write_report(outputs, result, write_challenge_workbook)
     return result
 
 

@@ -293,11 +293,13 @@ def monitor(model, data, period, every, baseline, cutoff, min_bads, bands, json_
               help="Approval rate of the swap set, in (0, 1) [default: 0.75, a placeholder].")
 @click.option("--json", "json_path", type=click.Path(dir_okay=False, path_type=Path),
               help="Write both cards' measures, the difference and the swap set as JSON here.")
-def challenge(champion, challenger, data, approval_rate, json_path):
+@click.option("--workbook", type=click.Path(dir_okay=False, path_type=Path),
+              help="Write the validator's review workbook (.xlsx) here.")
+def challenge(champion, challenger, data, approval_rate, json_path, workbook):
     """Does CHALLENGER rank the rows of DATA better than CHAMPION (DeLong's paired test)?"""
     from scorecard import api
     result = api.challenge(champion, challenger, data, approval_rate=approval_rate,
-                           json_path=json_path)
+                           json_path=json_path, workbook=workbook)
     click.echo(result.text())
 
 
