@@ -35,7 +35,9 @@ EXTREMES = [
     pytest.param("credit_utilisation", {5: "1e308", 9: "-1e308"}, id="plus-minus-1e308"),
     pytest.param("bike_price", {5: "99999999999999999999999", 9: "99999999999999999999999"},
                  id="integer-past-int64"),
-    pytest.param("months_at_address", {5: "1e308", 9: "1e308"}, id="largest-doubles"),
+    # Any other numeric characteristic of the card: which ones the small demo card keeps moves
+    # with the invented data, and the case is about the values, not the column.
+    pytest.param(None, {5: "1e308", 9: "1e308"}, id="largest-doubles"),
     pytest.param("late_payments_12m", {5: "1e300", 9: "1e300"}, id="beside-a-special-value"),
     pytest.param("deposit_share", {1999: "-1e200", 2000: "-1e200"}, id="last-rows-negative"),
 ]
@@ -43,6 +45,10 @@ EXTREMES = [
 
 @pytest.mark.parametrize(("column", "values"), EXTREMES)
 def test_extreme_values_in_a_few_rows_keep_the_characteristic(case, demo_card, column, values):
+    if column is None:
+        named = {p.values[0] for p in EXTREMES}
+        column = next(c["name"] for c in demo_card["characteristics"]
+                      if c["kind"] == "numeric" and c["name"] not in named)
     assert column in [c["name"] for c in demo_card["characteristics"]]
     set_cells(case, column, values)
     ran = build(case)
