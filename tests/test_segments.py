@@ -1,4 +1,5 @@
-"""Segmented cards: one card per segment on one scale, built, scored, exported and challenged.
+"""Segmented cards: one card per segment on one scale, built, scored, exported, challenged and
+compared.
 
 Checks of the main job and their sources:
 - Known truth, simulation: where one characteristic's effect reverses between two segments, the
@@ -6,6 +7,9 @@ Checks of the main job and their sources:
   segments do not differ, ``challenge`` claims no difference at the 5% level in most seeds.
 - Reference libraries: every segmented output (the scored file, the PMML document in pypmml,
   the SQL query in SQLite through sqlite3) gives the same scores and reasons row for row.
+- Reference libraries: ``compare`` on a segmented model gives the score PSI that pandas
+  computes from the scored files' score column over the same bands (PSI formula published:
+  sum (a - e) ln(a / e)) and the AUC of sklearn's roc_auc_score on the pooled scores.
 - Invariants: the local engine in one chunk, in small chunks and a Dask cluster give the same
   model file; every card has the config's scaling; a segment too small to build is one
   ``error:`` line naming it and its counts.
@@ -299,8 +303,7 @@ def test_reports_on_a_segmented_model(reversed_case, tmp_path):
     model, fresh = folder / "out/segmented.json", folder / "fresh.csv"
     strategy = api.strategy(model, fresh)
     assert strategy.rows == 4000 and strategy.table["approval_rate"].iloc[0] == 1.0
-    for args in (["compare", str(model), str(fresh), str(fresh)],
-                 ["monitor", str(model), str(fresh), "--period", "id"],
+    for args in (["monitor", str(model), str(fresh), "--period", "id"],
                  ["diff", str(model), str(model)]):
         ran = CliRunner().invoke(main, args)
         assert ran.exit_code == 2 and ran.stderr.count("\n") == 1, args
@@ -328,3 +331,58 @@ def test_the_workbook_has_an_overview_of_segments_and_each_cards_sheets(reversed
     # Every sheet prints fitted to the page width, as the single card's do.
     for ws in book.worksheets:
         assert ws.sheet_properties.pageSetUpPr.fitToPage and ws.page_setup.fitToWidth == 1, ws.title
+
+
+def test_compare_pools_the_scores_and_keeps_each_cards_characteristics(reversed_case, tmp_path):
+    from sklearn.metrics import roc_auc_score
+
+    folder, _, segmented = reversed_case
+    model, data, fresh = folder / "out/segmented.json", folder / "data.csv", folder / "fresh.csv"
+    result = api.compare(model, data, fresh, json_path=tmp_path / "c.json",
+                         workbook=tmp_path / "c.xlsx")
+    scored = {}
+    for name, path in (("baseline", data), ("current", fresh)):
+        api.score(model, path, tmp_path / f"{name}.csv", keep=["outcome"])
+        scored[name] = pd.read_csv(tmp_path / f"{name}.csv").dropna(subset=["score"])
+    # Reference: pandas over the scored files' score column, with the product's band starts;
+    # PSI = sum (a - e) ln(a / e), published.
+    table = result.stability.score.table
+    starts = [int(label.split(" to ")[0]) for label in table["Band"]]
+    edges = starts + [np.inf]
+    shares = {name: pd.cut(frame["score"], edges, right=False).value_counts(normalize=True,
+                                                                             sort=False).to_numpy()
+              for name, frame in scored.items()}
+    e, a = shares["baseline"], shares["current"]
+    assert (e > 0).all() and (a > 0).all()
+    assert result.stability.score.index == pytest.approx(float(((a - e) * np.log(a / e)).sum()),
+                                                         rel=1e-9)
+    assert table["Baseline rows"].sum() == len(scored["baseline"]) == 6000
+    # Reference library: sklearn's AUC of the pooled scores, goods scoring higher.
+    current = scored["current"]
+    auc = roc_auc_score(current["outcome"] == "good", current["score"])
+    assert result.performance["current"].discrimination.auc == pytest.approx(auc, rel=1e-9)
+    # Each card's characteristics on its own segment's rows, under pooled names.
+    saved = json.loads((tmp_path / "c.json").read_text())
+    assert set(saved["segments"]) == {"new", "existing"}
+    fresh_rows = pd.read_csv(fresh)
+    new = int((fresh_rows["customer"] == "new").sum())
+    assert saved["segments"]["new"]["rows"] == {"baseline": int(
+        (pd.read_csv(data)["customer"] == "new").sum()), "current": new}
+    assert saved["segments"]["existing"]["rows"]["current"] == 4000 - new
+    for name in ("new", "existing"):
+        names = [f"{c} ({name})" for c in segmented.segments[name].card.names]
+        assert saved["segments"][name]["characteristics"] == names
+        assert set(names) <= set(saved["characteristics"])
+        counts = result.stability.characteristics[
+            [r.name for r in result.stability.characteristics].index(names[0])].table
+        assert counts["Current rows"].sum() == saved["segments"][name]["rows"]["current"]
+    assert "x1 (new)" in result.text() and (tmp_path / "c.xlsx").is_file()
+
+
+def test_compare_of_a_file_with_itself_is_stable_under_a_segmented_model(reversed_case):
+    folder, _, _ = reversed_case
+    fresh = folder / "fresh.csv"
+    result = api.compare(folder / "out/segmented.json", fresh, fresh)
+    assert result.stability.score.index == 0.0
+    assert all(r.index == 0.0 for r in result.stability.characteristics)
+    assert len(result.stability.characteristics) > 2 and not result.reached("watch")
