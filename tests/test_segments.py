@@ -10,6 +10,8 @@ Checks of the main job and their sources:
 - Reference libraries: ``compare`` on a segmented model gives the score PSI that pandas
   computes from the scored files' score column over the same bands (PSI formula published:
   sum (a - e) ln(a / e)) and the AUC of sklearn's roc_auc_score on the pooled scores.
+- Invariants: ``monitor`` on a segmented model gives each period the indices ``compare`` gives
+  that period's rows alone; its stored baseline pools every card's development counts.
 - Invariants: the local engine in one chunk, in small chunks and a Dask cluster give the same
   model file; every card has the config's scaling; a segment too small to build is one
   ``error:`` line naming it and its counts.
@@ -303,8 +305,7 @@ def test_reports_on_a_segmented_model(reversed_case, tmp_path):
     model, fresh = folder / "out/segmented.json", folder / "fresh.csv"
     strategy = api.strategy(model, fresh)
     assert strategy.rows == 4000 and strategy.table["approval_rate"].iloc[0] == 1.0
-    for args in (["monitor", str(model), str(fresh), "--period", "id"],
-                 ["diff", str(model), str(model)]):
+    for args in (["diff", str(model), str(model)],):
         ran = CliRunner().invoke(main, args)
         assert ran.exit_code == 2 and ran.stderr.count("\n") == 1, args
         assert "a segmented model (2 cards by customer)" in ran.stderr
@@ -386,3 +387,29 @@ def test_compare_of_a_file_with_itself_is_stable_under_a_segmented_model(reverse
     assert result.stability.score.index == 0.0
     assert all(r.index == 0.0 for r in result.stability.characteristics)
     assert len(result.stability.characteristics) > 2 and not result.reached("watch")
+
+
+def test_monitor_of_a_segmented_model_gives_each_period_what_compare_gives(reversed_case,
+                                                                           tmp_path):
+    folder, _, segmented = reversed_case
+    model, data = folder / "out/segmented.json", folder / "data.csv"
+    rows = pd.read_csv(folder / "fresh.csv")
+    rows["on"] = np.where(rows["id"] < 1500, "2026-01-15", "2026-02-15")
+    rows.to_csv(tmp_path / "dated.csv", index=False)
+    by_period = api.monitor(model, tmp_path / "dated.csv", "on", baseline=data,
+                            json_path=tmp_path / "m.json", workbook=tmp_path / "m.xlsx")
+    assert [p.rows for p in by_period.periods] == [1500, 2500]
+    for p, alone in zip(by_period.periods, (rows[rows["id"] < 1500], rows[rows["id"] >= 1500])):
+        alone.to_csv(tmp_path / "alone.csv", index=False)
+        pair = api.compare(model, data, tmp_path / "alone.csv")
+        assert p.score.index == pytest.approx(pair.stability.score.index, rel=1e-12)
+        assert [(r.name, r.index) for r in p.characteristics] == \
+            [(r.name, r.index) for r in pair.stability.characteristics]
+    assert "x1 (new)" in {r.name for r in by_period.periods[0].characteristics}
+    # The stored baseline: every card's development counts pooled.
+    stored = api.monitor(model, tmp_path / "dated.csv", "on")
+    weights = sum(sum(part.card.development.score_goods) + sum(part.card.development.score_bads)
+                  for part in segmented.segments.values())
+    assert stored.periods[0].score.table["Baseline rows"].sum() == pytest.approx(weights)
+    assert stored.development["rows"] == sum(part.card.development.rows
+                                             for part in segmented.segments.values())

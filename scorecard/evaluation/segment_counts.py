@@ -18,6 +18,7 @@ from typing import NamedTuple
 import numpy as np
 import pandas as pd
 
+from scorecard.card.scorecard import Development
 from scorecard.card.scoring import UnusualValues
 from scorecard.card.segmented import SegmentedScorecard
 from scorecard.data.outcome import OTHER
@@ -42,6 +43,7 @@ class PooledCard(NamedTuple):
     max_score: int
     characteristics: tuple
     target: dict
+    development: Development | None = None
 
     @property
     def names(self) -> tuple[str, ...]:
@@ -53,7 +55,28 @@ def pooled_card(model: SegmentedScorecard) -> PooledCard:
     chars = tuple(dataclasses.replace(c, name=segment_label(c.name, segment))
                   for segment, card in model.segments.items() for c in card.characteristics)
     return PooledCard(model.name, model.scaling, model.min_score, model.max_score, chars,
-                      model.target)
+                      model.target, _pooled_development(model))
+
+
+def _pooled_development(model: SegmentedScorecard) -> Development | None:
+    """Every card's development counts as one: scores on the model's grid, bins under the
+    pooled names. The stored AUC, Gini and KS are per card and do not pool, so none is kept.
+    None when a card holds no development counts."""
+    if any(card.development is None for card in model.cards):
+        return None
+    width = model.max_score - model.min_score + 1
+    goods, bads = np.zeros(width), np.zeros(width)
+    bin_goods, bin_bads = {}, {}
+    for name, card in model.segments.items():
+        dev = card.development
+        start = card.min_score - model.min_score
+        goods[start:start + len(dev.score_goods)] += dev.score_goods
+        bads[start:start + len(dev.score_bads)] += dev.score_bads
+        bin_goods.update({segment_label(k, name): v for k, v in dev.bin_goods.items()})
+        bin_bads.update({segment_label(k, name): v for k, v in dev.bin_bads.items()})
+    return Development(sum(c.development.rows for c in model.cards),
+                       model.cards[0].development.unit, tuple(goods), tuple(bads), {},
+                       bin_goods, bin_bads)
 
 
 class SegmentCounts(NamedTuple):
@@ -73,8 +96,11 @@ class SegmentCounts(NamedTuple):
 
 
 def count_segments(model: SegmentedScorecard, frame: pd.DataFrame,
-                   label: np.ndarray | None = None) -> SegmentCounts:
-    """Count the rows of ``frame`` per score and per attribute, each with its segment's card.
+                   label: np.ndarray | None = None, keys=None) -> SegmentCounts:
+    """Count the rows of ``frame`` per group, score and attribute, each with its segment's card.
+
+    ``keys`` and ``label`` are those of :func:`~scorecard.evaluation.group_counts.count_groups`
+    (default one group, key 0).
 
     Examples
     --------
@@ -93,55 +119,61 @@ def count_segments(model: SegmentedScorecard, frame: pd.DataFrame,
     >>> c.pooled.rejected.tolist(), c.pooled.bin_rows[0].tolist(), list(c.pooled.unusual)
     ([1.0], [[1.0, 0.0]], ['x (a)', 'x (b)'])
     """
+    n = len(frame)
+    keys = np.zeros(n, dtype=np.int64) if keys is None else np.asarray(keys, dtype=np.int64)
+    groups, index = np.unique(keys, return_inverse=True)
+    index = index.reshape(-1)
+    g = len(groups)
     segment = model.rule.codes(frame[model.rule.column])
     width = model.max_score - model.min_score + 1
-    has_outcome = label is not None
-    score = {part: np.zeros((1, width)) for part in ("rows", "goods", "bads")}
+    outcome = label is not None
+    score = {part: np.zeros((g, width)) for part in ("rows", "goods", "bads")}
     bins = {part: [] for part in ("rows", "goods", "bads")}
-    unusual = {}
-    rows = {}
-    total_rejected = total_left_out = 0.0
-    for index, (name, card) in enumerate(model.segments.items()):
-        mine = np.flatnonzero(segment == index)
-        rows[name] = int(len(mine))
-        counts = _count_card(card, frame.iloc[mine], None if label is None else label[mine])
-        start = card.min_score - model.min_score
-        span = slice(start, start + card.max_score - card.min_score + 1)
-        score["rows"][0, span] += counts.score_rows[0]
-        if has_outcome:
-            score["goods"][0, span] += counts.score_goods[0]
-            score["bads"][0, span] += counts.score_bads[0]
-        bins["rows"] += counts.bin_rows
-        if has_outcome:
-            bins["goods"] += counts.bin_goods
-            bins["bads"] += counts.bin_bads
-        unusual.update({segment_label(k, name): v for k, v in counts.unusual.items()})
-        total_rejected += counts.rejected[0]
-        total_left_out += counts.left_out[0]
+    unusual, rows = {}, {}
     # Rows no segment takes: refused by the model, so in no score and no bin.
     lost = segment < 0
-    total_rejected += lost.sum()
-    if has_outcome:
-        total_left_out += (label[lost] == OTHER).sum()
+    rejected = np.bincount(index[lost], minlength=g).astype(float)
+    left_out = np.bincount(index[lost & (label == OTHER)] if outcome else index[:0],
+                           minlength=g).astype(float)
+    for code, (name, card) in enumerate(model.segments.items()):
+        mine = np.flatnonzero(segment == code)
+        rows[name] = int(len(mine))
+        counts = _count_card(card, frame.iloc[mine], None if label is None else label[mine],
+                             keys[mine])
+        at = np.searchsorted(groups, counts.groups)
+        start = card.min_score - model.min_score
+        span = slice(start, start + card.max_score - card.min_score + 1)
+        for part, table in (("rows", counts.score_rows), ("goods", counts.score_goods),
+                            ("bads", counts.score_bads)):
+            if table is not None:
+                score[part][at, span] += table
+        for part, tables in (("rows", counts.bin_rows), ("goods", counts.bin_goods),
+                             ("bads", counts.bin_bads)):
+            for table in tables or ():
+                spread = np.zeros((g, table.shape[1]))
+                spread[at] = table
+                bins[part].append(spread)
+        unusual.update({segment_label(k, name): v for k, v in counts.unusual.items()})
+        rejected[at] += counts.rejected
+        left_out[at] += counts.left_out
     pooled = GroupCounts(
-        np.zeros(1, dtype=np.int64), np.array([float(len(frame))]), np.array([total_rejected]),
-        np.array([float(total_left_out)]), score["rows"],
-        score["goods"] if has_outcome else None, score["bads"] if has_outcome else None,
-        bins["rows"], bins["goods"] if has_outcome else None,
-        bins["bads"] if has_outcome else None, unusual)
+        groups, np.bincount(index, minlength=g).astype(float), rejected, left_out,
+        score["rows"], score["goods"] if outcome else None, score["bads"] if outcome else None,
+        bins["rows"], bins["goods"] if outcome else None, bins["bads"] if outcome else None,
+        unusual)
     return SegmentCounts(pooled, rows)
 
 
-def _count_card(card, frame: pd.DataFrame, label) -> GroupCounts:
-    """``count_groups`` of one group, also when the segment takes no row of the file."""
+def _count_card(card, frame: pd.DataFrame, label, keys) -> GroupCounts:
+    """``count_groups`` of one segment's rows, also when the segment takes no row."""
     if len(frame):
-        return count_groups(card, frame, label=label)
+        return count_groups(card, frame, keys, label)
     width = card.max_score - card.min_score + 1
-    none = np.zeros(1)
-    bins = [np.zeros((1, len(c.bins))) for c in card.characteristics]
+    none = np.zeros(0)
+    bins = [np.zeros((0, len(c.bins))) for c in card.characteristics]
     outcome = label is not None
-    return GroupCounts(np.zeros(1, dtype=np.int64), none, none, none, np.zeros((1, width)),
-                       np.zeros((1, width)) if outcome else None,
-                       np.zeros((1, width)) if outcome else None, bins,
+    return GroupCounts(np.zeros(0, dtype=np.int64), none, none, none, np.zeros((0, width)),
+                       np.zeros((0, width)) if outcome else None,
+                       np.zeros((0, width)) if outcome else None, bins,
                        list(bins) if outcome else None, list(bins) if outcome else None,
                        {c.name: UnusualValues(0, 0, 0) for c in card.characteristics})
