@@ -281,5 +281,5 @@ def load_single_card(path, command: str) -> Scorecard:
     if isinstance(model, SegmentedScorecard):
         raise InputError(f"{path}: a segmented model ({len(model.cards)} cards by "
                          f"{model.rule.column}); {command} reads a single card so far (score, "
-                         "export, strategy and challenge read segmented models)")
+                         "export, strategy, challenge, compare and monitor read segmented models)")
     return model

@@ -24,6 +24,11 @@ does not turn its attributes; only a change in how they rank does.
 Ranking *held* unless the current AUC is below the baseline's beyond chance (one-sided 5%, with
 the Hanley-McNeil 1982 standard error of an AUC, from memory); calibration *held* when the
 current sample's Hosmer-Lemeshow p-value is at least 0.05.
+
+A segmented model scores each row with its segment's card on one scale, so the score's index,
+the ranking and the calibration are those of the pooled scores of every segment; each card's
+characteristics are compared on its own segment's rows, named ``<characteristic> (<segment>)``
+(:mod:`scorecard.evaluation.segment_counts`).
 """
 
 from __future__ import annotations
@@ -37,14 +42,15 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from scorecard.card.scorecard import RANGE, Scorecard
-from scorecard.card.segmented import load_single_card
+from scorecard.card.scorecard import RANGE
+from scorecard.card.segmented import SegmentedScorecard, load_model
 from scorecard.card.scoring import bad_probability
 from scorecard.constraints import SCORE_BANDS, SHIFT, WATCH, cutoffs_in_order
 from scorecard.errors import InputError
 from scorecard.evaluation.group_counts import GroupCounts, count_groups
 from scorecard.evaluation.histograms import ScoreHistogram, band_edges
 from scorecard.evaluation.scored_rows import outcome_labels, read_rows, require_characteristics
+from scorecard.evaluation.segment_counts import count_segments, pooled_card, segment_label
 from scorecard.evaluation.stability import (
     IndexResult,
     StabilityComparison,
@@ -152,6 +158,7 @@ class Comparison(NamedTuple):
     calibration_held: bool | None
     watch: float
     shift: float
+    segments: dict = {}
 
     @property
     def indices(self) -> tuple[IndexResult, ...]:
@@ -184,6 +191,7 @@ class Comparison(NamedTuple):
             "ranking_held": self.ranking_held,
             "calibration_held": self.calibration_held,
             "performance": {name: _performance_dict(p) for name, p in self.performance.items()},
+            **({"segments": self.segments} if self.segments else {}),
         }
 
     def to_json(self) -> str:
@@ -204,6 +212,9 @@ class Comparison(NamedTuple):
             lines.append(_performance_line(p))
         lines.append(f"ranking {_verdict(self.ranking_held)}, "
                      f"calibration {_verdict(self.calibration_held)}")
+        for name, part in self.segments.items():
+            lines.append(f"segment {name}: {part['rows'][BASELINE]} -> {part['rows'][CURRENT]} "
+                         f"rows; characteristics scored by its own card, named '<name> ({name})'")
         return "\n".join(lines)
 
 
@@ -247,14 +258,19 @@ def _finite(value):
     return value
 
 
-def _count_file(card: Scorecard, path, frame: pd.DataFrame) -> _FileCounts:
-    """Score ``frame`` once and keep only counts."""
+def _count_file(card, path, frame: pd.DataFrame) -> tuple[_FileCounts, dict]:
+    """Score ``frame`` once and keep only counts; with them the rows of each segment of a
+    segmented model (empty for one card)."""
     require_characteristics(card, path, frame)
+    label = outcome_labels(card, frame)
     try:
-        counts = count_groups(card, frame, label=outcome_labels(card, frame))
+        if isinstance(card, SegmentedScorecard):
+            counts, rows = count_segments(card, frame, label)
+        else:
+            counts, rows = count_groups(card, frame, label=label), {}
     except InputError as exc:
         raise InputError(f"{path}: {exc}") from None
-    return counts_of_group(counts, 0, str(path))
+    return counts_of_group(counts, 0, str(path)), rows
 
 
 def counts_of_group(counts: GroupCounts, i: int, path: str) -> _FileCounts:
@@ -429,7 +445,7 @@ def compare(model_path, baseline_path, current_path, *, bands=None, watch=None,
     Parameters
     ----------
     model_path : path
-        A model file written by ``scorecard build``.
+        A model file written by ``scorecard build``: one card or a segmented model.
     baseline_path, current_path : path
         Data files (CSV, Parquet or a folder of Parquet files) holding every characteristic
         of the scorecard; the outcome column is optional in each.
@@ -468,9 +484,11 @@ def compare(model_path, baseline_path, current_path, *, bands=None, watch=None,
     watch = WATCH.default if watch is None else watch
     shift = SHIFT.default if shift is None else shift
     check_band_options(bands, watch, shift)
-    card = load_single_card(model_path, "compare")
-    base = _count_file(card, baseline_path, read_rows(baseline_path))
-    cur = _count_file(card, current_path, read_rows(current_path))
+    model = load_model(model_path)
+    base, base_segments = _count_file(model, baseline_path, read_rows(baseline_path))
+    cur, cur_segments = _count_file(model, current_path, read_rows(current_path))
+    # A segmented model's scores pool (one scale); its characteristics stay per segment card.
+    card = pooled_card(model) if isinstance(model, SegmentedScorecard) else model
     if base.score_rows.sum() == 0:
         raise InputError(f"{baseline_path}: the scorecard refuses every row, so there are no "
                          "scores to cut bands on")
@@ -491,4 +509,13 @@ def compare(model_path, baseline_path, current_path, *, bands=None, watch=None,
         performance=performance,
         ranking_held=_ranking_held(performance),
         calibration_held=_calibration_held(performance),
-        watch=watch, shift=shift)
+        watch=watch, shift=shift,
+        segments=_segments(model, base_segments, cur_segments))
+
+
+def _segments(model, base: dict, cur: dict) -> dict:
+    """Per segment: its rows in each file and its characteristics' pooled names."""
+    return {name: {"rows": {BASELINE: base[name], CURRENT: cur[name]},
+                   "characteristics": [segment_label(c, name)
+                                       for c in model.segments[name].names]}
+            for name in base}

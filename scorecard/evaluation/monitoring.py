@@ -16,6 +16,12 @@ read, so refused rows count as declined), the bad rate the scores predict for al
 and, where at least ``min_bads`` goods and ``min_bads`` bads have an outcome, the observed bad
 rate against the predicted one for those rows, Gini with DeLong's interval and KS with a
 bootstrap interval.
+
+A segmented model is monitored as ``compare`` compares it: the score's measures on the pooled
+scores of every segment, each card's characteristics on its own segment's rows, named
+``<characteristic> (<segment>)``. Its stored development baseline is every card's development
+counts pooled; the development AUC, Gini and KS are per card and do not pool, so the
+development summary leaves them out.
 """
 
 from __future__ import annotations
@@ -28,7 +34,7 @@ import numpy as np
 import pandas as pd
 
 from scorecard.card.scorecard import Scorecard
-from scorecard.card.segmented import load_single_card
+from scorecard.card.segmented import SegmentedScorecard, load_model
 from scorecard.card.scoring import bad_probability
 from scorecard.data.samples import parse_dates
 from scorecard.errors import InputError
@@ -43,6 +49,7 @@ from scorecard.evaluation.comparison import (
 )
 from scorecard.evaluation.group_counts import GroupCounts, count_groups
 from scorecard.evaluation.scored_rows import outcome_labels, read_rows
+from scorecard.evaluation.segment_counts import count_segments, pooled_card
 from scorecard.evaluation.histograms import ScoreHistogram, band_edges
 from scorecard.evaluation.stability import IndexResult
 from scorecard.measures.ranking import gini_interval, ks_interval
@@ -88,9 +95,14 @@ def period_label(key: int, every: str) -> str:
 
 
 def period_counts(frame: pd.DataFrame, card: Scorecard, column: str, every: str) -> GroupCounts:
-    """The pass of ``monitor`` over one chunk of rows: counts per period (see the module)."""
-    return count_groups(card, frame, period_keys(frame[column], column, every),
-                        outcome_labels(card, frame))
+    """The pass of ``monitor`` over one chunk of rows: counts per period (see the module).
+
+    Under a segmented model each row is counted with its segment's card
+    (:func:`~scorecard.evaluation.segment_counts.count_segments`)."""
+    keys = period_keys(frame[column], column, every)
+    if isinstance(card, SegmentedScorecard):
+        return count_segments(card, frame, outcome_labels(card, frame), keys).pooled
+    return count_groups(card, frame, keys, outcome_labels(card, frame))
 
 
 class Outcomes(NamedTuple):
@@ -333,7 +345,12 @@ def count_periods(card: Scorecard, data, column: str, every: str, engine=None) -
         raise InputError(f"{data}: column {absent[0]}: the scorecard needs it but the file "
                          "lacks it")
     target = (card.target or {}).get("column")
+    rule = getattr(card, "rule", None)     # a segmented model also reads its segment column
+    if rule is not None and rule.column not in names:
+        raise InputError(f"{data}: column {rule.column}: the segmented model picks its card by "
+                         "it but the file lacks it")
     wanted = list(dict.fromkeys(list(card.names) + [column]
+                                + ([rule.column] if rule is not None else [])
                                 + ([target] if target in names else [])))
     own = engine is None
     if own:
@@ -445,19 +462,21 @@ def monitor(model_path, data_path, period, *, every=MONTH, baseline=None, cutoff
     watch = WATCH.default if watch is None else watch
     shift = SHIFT.default if shift is None else shift
     _check_options(every, bands, watch, shift, min_bads, cutoff, level)
-    card = load_single_card(model_path, "monitor")
+    model = load_model(model_path)
+    # A segmented model's scores pool (one scale); its characteristics stay per segment card.
+    card = pooled_card(model) if isinstance(model, SegmentedScorecard) else model
     if baseline is None:
         base = baseline_from_model(card, str(model_path))
         baseline_name = base.path
     else:
-        base = _count_file(card, baseline, read_rows(baseline))
+        base = _count_file(model, baseline, read_rows(baseline))[0]
         baseline_name = str(baseline)
     if base.score_rows.sum() == 0:
         raise InputError(f"{baseline_name}: the scorecard refuses every row, so there are no "
                          "scores to cut bands on")
     starts = band_edges(ScoreHistogram(card.min_score, base.score_rows,
                                        np.zeros_like(base.score_rows)), bands)
-    counts = count_periods(card, data_path, period, every, engine)
+    counts = count_periods(model, data_path, period, every, engine)
     periods = []
     for i, key in enumerate(counts.groups):
         label = period_label(int(key), every)
