@@ -17,11 +17,13 @@ from openpyxl.worksheet.worksheet import Worksheet
 from scorecard.evaluation.challenge import DEFAULT_APPROVAL_RATE, Challenge, verdict
 from scorecard.outputs.atomic import save_book
 from scorecard.outputs.cautions import CAUTION
+from scorecard.outputs.strategy_workbook import SWAP_FORMATS, swap_set_frame
 from scorecard.outputs.workbook import style
 from scorecard.outputs.workbook.tables import (
     finish_table_sheet,
     safe_value,
     set_print_layout,
+    write_lines,
     write_table,
 )
 
@@ -32,8 +34,6 @@ _CAUTION_COLUMNS = 6
 MEASURE_FORMATS = {"AUC": style.WOE, "Gini": style.WOE, "KS": style.WOE}
 DIFFERENCE_FORMATS = {"AUC difference": SIGNED, "95% interval from": SIGNED,
                       "95% interval to": SIGNED, "DeLong p-value": P_VALUE}
-SWAP_FORMATS = {"Rows": style.COUNT, "Share of rows": style.PERCENT, "Goods": style.COUNT,
-                "Bads": style.COUNT, "Other outcome": style.COUNT, "Bad rate": "0.00%"}
 _CELL_NAMES = {"kept_in": ("Kept in", "approved by both cards"),
                "kept_out": ("Kept out", "declined by both cards"),
                "swapped_in": ("Swapped in", "approved by the challenger only"),
@@ -99,13 +99,7 @@ def difference_frame(result: Challenge) -> pd.DataFrame:
 
 def swap_frame(result: Challenge) -> pd.DataFrame:
     """The swap set: the challenger as the new card, the champion as the incumbent."""
-    table = result.swap
-    return pd.DataFrame({
-        "Swap set": [_CELL_NAMES[c][0] for c in table["cell"]],
-        "Meaning": [_CELL_NAMES[c][1] for c in table["cell"]],
-        "Rows": table["rows"], "Share of rows": table["rows"] / table["rows"].sum(),
-        "Goods": table["goods"], "Bads": table["bads"], "Other outcome": table["other_outcome"],
-        "Bad rate": table["bad_rate"]})
+    return swap_set_frame(result.swap, _CELL_NAMES)
 
 
 def segments_frame(result: Challenge) -> pd.DataFrame:
@@ -122,13 +116,6 @@ def segments_frame(result: Challenge) -> pd.DataFrame:
     return pd.DataFrame.from_records(records)
 
 
-def _lines(ws: Worksheet, row: int, heading: str, lines, font=None) -> int:
-    ws.cell(row, 1, heading).font = style.HEADING_FONT
-    for i, text in enumerate(lines, start=row + 1):
-        cell = ws.cell(i, 1, safe_value(text))
-        if font is not None:
-            cell.font = font
-    return row + 1 + len(lines)
 
 
 def _swap_notes(result: Challenge) -> list[str]:
@@ -167,17 +154,17 @@ def _write_summary(ws: Worksheet, result: Challenge) -> None:
             f"Swap set at {result.approval_rate:.0%} approved: champion cut at "
             f"{result.cutoffs['champion']:g}, challenger cut at "
             f"{result.cutoffs['challenger']:g} (sheet {SHEETS[1]})"]
-    row = _lines(ws, 4, "What was compared", rows)
+    row = write_lines(ws, 4, "What was compared", rows)
     _, row = write_table(ws, measures_frame(result), start_row=row + 1,
                          title="Both cards on the same rows", formats=MEASURE_FORMATS)
     _, row = write_table(ws, difference_frame(result), start_row=row + 2,
                          title="Paired AUC difference (challenger minus champion)",
                          formats=DIFFERENCE_FORMATS)
     d = result.difference
-    row = _lines(ws, row + 2, "Verdict",
+    row = write_lines(ws, row + 2, "Verdict",
                  [f"{verdict(d).capitalize()}: the AUC difference is {d.difference:+.4f}, "
                   f"95% interval {d.ci_low:+.4f} to {d.ci_high:+.4f}."], style.BOLD)
-    _lines(ws, row + 1, "How the figures were made", _method(), style.NOTE_FONT)
+    write_lines(ws, row + 1, "How the figures were made", _method(), style.NOTE_FONT)
     for col in range(1, _CAUTION_COLUMNS + 1):
         letter = get_column_letter(col)
         ws.column_dimensions[letter].width = max(ws.column_dimensions[letter].width or 0, 14)

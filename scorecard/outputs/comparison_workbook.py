@@ -12,7 +12,12 @@ from openpyxl import Workbook
 from openpyxl.styles import Alignment
 from openpyxl.worksheet.worksheet import Worksheet
 
-from scorecard.evaluation.comparison import BASELINE, CURRENT, Comparison, SamplePerformance
+from scorecard.evaluation.comparison import (
+    BASELINE,
+    CURRENT,
+    Comparison,
+    SamplePerformance,
+)
 from scorecard.outputs.atomic import save_book
 from scorecard.outputs.cautions import CAUTION
 from scorecard.outputs.workbook import style
@@ -20,6 +25,7 @@ from scorecard.outputs.workbook.tables import (
     finish_table_sheet,
     safe_value,
     set_print_layout,
+    write_lines,
     write_table,
 )
 
@@ -78,24 +84,16 @@ def _write_summary(ws: Worksheet, comparison: Comparison) -> None:
     caution.alignment = Alignment(wrap_text=True, vertical="top")
     ws.merge_cells(start_row=2, start_column=1, end_row=2, end_column=_CAUTION_COLUMNS)
     ws.row_dimensions[2].height = 60
-    row = _lines(ws, 4, "What was compared", _files(comparison), None)
-    row = _lines(ws, row + 1, "Findings", _findings(comparison), style.BOLD)
+    row = write_lines(ws, 4, "What was compared", _files(comparison), None)
+    row = write_lines(ws, row + 1, "Findings", _findings(comparison), style.BOLD)
     _, row = write_table(ws, _index_table(comparison), start_row=row + 1,
                          title="Stability indices (current against baseline)",
                          formats={"Stability index": INDEX, "Critical value (95%)": INDEX,
                                   "Points shift": "+0.00;-0.00;0.00"})
-    _lines(ws, row + 2, "How the figures were made", _method(comparison), style.NOTE_FONT)
+    write_lines(ws, row + 2, "How the figures were made", _method(comparison), style.NOTE_FONT)
     set_print_layout(ws)
 
 
-def _lines(ws: Worksheet, row: int, heading: str, lines, font) -> int:
-    """A heading and one line per entry; returns the row after the last line."""
-    ws.cell(row, 1, heading).font = style.HEADING_FONT
-    for i, text in enumerate(lines, start=row + 1):
-        cell = ws.cell(i, 1, safe_value(text))
-        if font is not None:
-            cell.font = font
-    return row + 1 + len(lines)
 
 
 def _files(comparison: Comparison) -> list[str]:

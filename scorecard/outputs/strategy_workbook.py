@@ -23,6 +23,7 @@ from scorecard.outputs.workbook.tables import (
     finish_table_sheet,
     safe_value,
     set_print_layout,
+    write_lines,
     write_table,
 )
 
@@ -95,22 +96,19 @@ def cutoffs_frame(result: Strategy) -> pd.DataFrame:
 
 
 def swap_frame(result: Strategy) -> pd.DataFrame:
-    table = result.swap.table
+    return swap_set_frame(result.swap.table, _CELL_NAMES)
+
+
+def swap_set_frame(table: pd.DataFrame, cell_names: dict) -> pd.DataFrame:
+    """The four cells of a swap table under the names and meanings of ``cell_names``."""
     return pd.DataFrame({
-        "Swap set": [_CELL_NAMES[c][0] for c in table["cell"]],
-        "Meaning": [_CELL_NAMES[c][1] for c in table["cell"]],
+        "Swap set": [cell_names[c][0] for c in table["cell"]],
+        "Meaning": [cell_names[c][1] for c in table["cell"]],
         "Rows": table["rows"], "Share of rows": table["rows"] / table["rows"].sum(),
         "Goods": table["goods"], "Bads": table["bads"], "Other outcome": table["other_outcome"],
         "Bad rate": table["bad_rate"]})
 
 
-def _lines(ws: Worksheet, row: int, heading: str, lines, font=None) -> int:
-    ws.cell(row, 1, heading).font = style.HEADING_FONT
-    for i, text in enumerate(lines, start=row + 1):
-        cell = ws.cell(i, 1, safe_value(text))
-        if font is not None:
-            cell.font = font
-    return row + 1 + len(lines)
 
 
 def _pct(value) -> str:
@@ -205,14 +203,14 @@ def _write_summary(ws: Worksheet, result: Strategy) -> None:
              "Bad rates: " + ("observed in the file's outcome column"
                               if result.bad_rates == "observed"
                               else "expected, from the scorecard's probabilities")]
-    row = _lines(ws, 4, "What was examined", files)
-    row = _lines(ws, row + 1, "Decision", _decision(result), style.BOLD)
+    row = write_lines(ws, 4, "What was examined", files)
+    row = write_lines(ws, row + 1, "Decision", _decision(result), style.BOLD)
     if result.swap is not None:
-        row = _lines(ws, row + 1, "Swap set", _swap_sentences(result))
+        row = write_lines(ws, row + 1, "Swap set", _swap_sentences(result))
         _, row = write_table(ws, swap_frame(result), start_row=row + 1,
                              title=f"Swap set at cut-off {result.chosen.score}",
                              formats=SWAP_FORMATS)
-    _lines(ws, row + 2, "How the figures were made", _method(result), style.NOTE_FONT)
+    write_lines(ws, row + 2, "How the figures were made", _method(result), style.NOTE_FONT)
     for col in range(1, _CAUTION_COLUMNS + 1):
         letter = get_column_letter(col)
         ws.column_dimensions[letter].width = max(ws.column_dimensions[letter].width or 0, 14)

@@ -222,3 +222,13 @@ def set_print_layout(ws: Worksheet, *, repeat_rows: str | None = None) -> None:
     ws.page_margins = PageMargins(left=0.5, right=0.5, top=0.6, bottom=0.6, header=0.3, footer=0.3)
     if repeat_rows is not None:
         ws.print_title_rows = repeat_rows
+
+
+def write_lines(ws: Worksheet, row: int, heading: str, lines, font=None) -> int:
+    """A heading and one line of text per entry in column A; returns the row after the last."""
+    ws.cell(row, 1, heading).font = style.HEADING_FONT
+    for i, text in enumerate(lines, start=row + 1):
+        cell = ws.cell(i, 1, safe_value(text))
+        if font is not None:
+            cell.font = font
+    return row + 1 + len(lines)
