@@ -35,7 +35,6 @@ import time
 from pathlib import Path
 from typing import Callable, NamedTuple
 
-import numpy as np
 import pandas as pd
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))

@@ -38,11 +38,10 @@ import math
 from typing import NamedTuple
 
 import numpy as np
+from scipy import special
 
 from scorecard.constraints import MAX_BINS, TREND, TRENDS
 from scorecard.errors import InputError
-from scipy import special
-
 from scorecard.measures.information import iv_terms, shrunk_woe
 
 # The single-turn shapes, which the optimiser accepts beside the config's trends: the bad rate

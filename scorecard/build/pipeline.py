@@ -21,7 +21,6 @@ from scorecard.binning import coarse as binning
 from scorecard.binning.fine import NumericLayout, candidate_cuts
 from scorecard.build import rejects
 from scorecard.build.result import BuildResult, CharacteristicReport, SampleFacts
-from scorecard.card.scoring import apply_scorecard
 from scorecard.card.points import attribute_points, largest_rounding_change, scaling
 from scorecard.card.scorecard import (
     LEVELS,
@@ -34,15 +33,23 @@ from scorecard.card.scorecard import (
     Fate,
     Scorecard,
 )
+from scorecard.card.scoring import apply_scorecard
+from scorecard.constraints import SCALE_LIMIT
 from scorecard.data.coding import categorical_codes
 from scorecard.data.exclusions import exclusion_waterfall, first_rule
 from scorecard.data.outcome import BAD, GOOD, OTHER, code_outcome
-from scorecard.data.read import column_kind, decimal_comma_column
-from scorecard.data.samples import (DEVELOPMENT, EXCLUDED, HOLDOUT, OUT_OF_TIME, SAMPLE_NAMES,
-                                    assign_samples, parse_dates)
+from scorecard.data.read import column_kind, decimal_comma_column, read_source
+from scorecard.data.samples import (
+    DEVELOPMENT,
+    EXCLUDED,
+    HOLDOUT,
+    OUT_OF_TIME,
+    SAMPLE_NAMES,
+    assign_samples,
+    parse_dates,
+)
 from scorecard.engines.augmented import AugmentedEngine
 from scorecard.engines.local import LocalEngine
-from scorecard.data.read import read_source
 from scorecard.engines.passes import (
     RowFacts,
     bin_counts,
@@ -55,7 +62,6 @@ from scorecard.engines.passes import (
     merge_summaries,
     pattern_radix,
 )
-from scorecard.constraints import SCALE_LIMIT
 from scorecard.errors import InputError, ResultWarning
 from scorecard.evaluation.benchmark import benchmark
 from scorecard.evaluation.fairness import compute_fairness

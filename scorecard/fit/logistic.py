@@ -18,6 +18,7 @@ import warnings
 from typing import NamedTuple
 
 import numpy as np
+
 # scipy.special, not scipy.stats: the same functions that scipy.stats' normal and chi-square
 # distributions call, without the second of imports that scipy.stats costs every command.
 from scipy import special
