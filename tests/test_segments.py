@@ -15,6 +15,10 @@ Checks of the main job and their sources:
 - Invariants: the local engine in one chunk, in small chunks and a Dask cluster give the same
   model file; every card has the config's scaling; a segment too small to build is one
   ``error:`` line naming it and its counts.
+- Invariants: the passes shared by every segment (the segment one more code beside the sample)
+  give each segment the card it gets from passes of its own, with the other segments' rows
+  outside every sample, key for key in the model file; each shared pass's counts equal the
+  single-card pass's on that segment's facts, exactly.
 """
 
 from __future__ import annotations
@@ -31,13 +35,23 @@ import pytest
 from click.testing import CliRunner
 
 import scorecard.api as api
-from scorecard.build.segments import build_segmented
+from scorecard.build.pipeline import _build
+from scorecard.build.segments import build_segmented, segment_rule
 from scorecard.card.scorecard import Scorecard
 from scorecard.card.segmented import SegmentedScorecard, load_model, model_from_json
 from scorecard.cli import main
 from scorecard.config import load_config, parse_config
 from scorecard.data.read import read_frame
 from scorecard.engines.local import LocalEngine
+from scorecard.engines.passes import (
+    SegmentFacts,
+    bin_counts,
+    bin_counts_by_segment,
+    coded_patterns,
+    fine_counts,
+    fine_counts_by_segment,
+    patterns_by_segment,
+)
 from scorecard.errors import InputError
 from scorecard.outputs.pmml import write_pmml
 from scorecard.outputs.sql import segmented_query
@@ -413,3 +427,92 @@ def test_monitor_of_a_segmented_model_gives_each_period_what_compare_gives(rever
     assert stored.periods[0].score.table["Baseline rows"].sum() == pytest.approx(weights)
     assert stored.development["rows"] == sum(part.card.development.rows
                                              for part in segmented.segments.values())
+
+
+def _alone(config, frame: pd.DataFrame) -> dict:
+    """Each segment's card from passes of its own over every row, the other segments' rows
+    outside every sample (how a segmented build ran before its passes were shared)."""
+    from dataclasses import replace
+
+    from scorecard.build.pipeline import _outcome_facts
+
+    engine = LocalEngine(frame)
+    rows, _ = _outcome_facts(config, engine)
+    rule = segment_rule(config)
+    segment = rule.codes(frame[rule.column])
+    facts = SegmentFacts(rows.label, rows.weight, rows.sample, segment.astype(np.int8))
+    return {name: _build(replace(config, name=f"{config.name}: {name}"), engine, None,
+                         facts.own(i)).card
+            for i, name in enumerate(rule.names)}
+
+
+def test_shared_passes_give_each_segment_the_card_its_own_passes_give(tmp_path):
+    # Invariant: counting every segment in one pass changes no card, key for key in the model
+    # file, on one chunk, small chunks and a Dask cluster. 'worst' for values beyond the
+    # development range gives every numeric characteristic an out-of-range bin, so the bins are
+    # counted in a pass of their own too; a sentinel and missing values take their own bins.
+    frame = simulate(5000, 8)
+    frame.loc[::37, "x2"] = -999.0
+    frame.loc[::53, "x3"] = np.nan
+    parts = tmp_path / "parts"
+    parts.mkdir()
+    for i, start in enumerate(range(0, 5000, 2000)):
+        frame.iloc[start:start + 2000].to_parquet(parts / f"part_{i}.parquet", index=False)
+    (tmp_path / "c.yaml").write_text(
+        SEGMENTED.format(data="parts", segments=BY_GROUPS, stem="s")
+        + "scoring: {out_of_range: worst}\nbinning: {sentinels: [-999]}\n")
+    config = load_config(tmp_path / "c.yaml")
+    alone = _alone(config, read_frame(parts))
+    assert all(any(b.kind == "out of range" for b in c.bins) for card in alone.values()
+               for c in card.characteristics if c.kind == "numeric")
+    built = [build_segmented(config, LocalEngine(read_frame(parts))),
+             build_segmented(config, LocalEngine(read_frame(parts), chunk_rows=613))]
+    distributed = pytest.importorskip("distributed")
+    from scorecard.engines.dask_engine import DaskEngine
+    with distributed.LocalCluster(n_workers=2, processes=True, threads_per_worker=1,
+                                  dashboard_address=":0") as cluster, \
+            DaskEngine(parts, cluster.scheduler_address) as engine:
+        built.append(build_segmented(config, engine))
+    for result in built:
+        cards = json.loads(result.card.to_json())["cards"]
+        assert [card["name"] for card in cards] == [f"{config.name}: {n}" for n in alone]
+        for card, own in zip(cards, alone.values()):
+            expected = json.loads(own.to_json())
+            assert card.keys() == expected.keys()
+            for key in expected:
+                assert card[key] == expected[key], key
+
+
+def test_each_shared_pass_counts_what_the_single_pass_counts_on_the_segment(tmp_path):
+    # Invariant: per segment, the counts of the shared passes equal the single-card passes on
+    # the segment's own facts exactly (the same weights summed in the same order), including
+    # the development range; values far beyond the grid are counted over the whole chunk.
+    from scorecard.binning.coarse import numeric_draft
+    from scorecard.binning.fine import NumericLayout
+
+    rng = np.random.default_rng(3)
+    n = 3000
+    frame = pd.DataFrame({"x": np.round(rng.normal(size=n), 2),
+                          "k": rng.choice(["a", "b", "c", None], size=n)})
+    frame.loc[7, "x"] = 1e9
+    segment = rng.integers(0, 3, size=n).astype(np.int8)
+    facts = SegmentFacts(rng.integers(0, 2, size=n).astype(np.int8), rng.random(n) * 3,
+                         rng.choice(np.array([-1, 0, 1, 2], np.int8), size=n), segment)
+    layouts = {"x": NumericLayout(np.linspace(-2, 2, 21), (), (-50.0, 50.0)),
+               "k": ("a", "b", "c")}
+    shared = fine_counts_by_segment(frame, facts, layouts, 3)
+    for s in range(3):
+        alone = fine_counts(frame, facts.own(s), layouts)
+        for name in layouts:
+            assert np.array_equal(shared[s][name].table, alone[name].table)
+            assert shared[s][name][1:] == alone[name][1:]
+    assert shared[0]["x"].extremes == 1 and shared[0]["x"].extreme_rows == (7,)
+    drafts = tuple((numeric_draft("x", [-0.5 + s / 10, 0.7], (), (-1.5, 1.5), True),)
+                   for s in range(3))
+    counted = bin_counts_by_segment(frame, facts, drafts)
+    patterns = patterns_by_segment(frame, facts, drafts)
+    for s in range(3):
+        assert np.array_equal(counted[s][0], bin_counts(frame, facts.own(s), drafts[s])[0])
+        alone = coded_patterns(frame, facts.own(s), drafts[s])
+        assert np.array_equal(patterns[s].codes, alone.codes)
+        assert np.array_equal(patterns[s].weights, alone.weights)

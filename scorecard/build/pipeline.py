@@ -12,7 +12,7 @@ import math
 import warnings
 from dataclasses import replace
 from functools import partial
-from typing import Callable
+from typing import Callable, NamedTuple
 
 import numpy as np
 import pandas as pd
@@ -346,17 +346,21 @@ def _fate(report: CharacteristicReport) -> Fate:
                 None if iv is None or math.isnan(iv) else float(iv))
 
 
-def _bin_tables(engine, rows, drafts, layouts, counts) -> list[np.ndarray]:
+def _uncounted(drafts, layouts) -> tuple[list, list]:
+    """Which fine class falls into which bin of each characteristic (None where a fine class
+    is split), and the characteristics whose bins must be counted in a pass over the rows."""
+    maps = [binning.bins_of_fine_classes(d, layouts[d.name]) for d in drafts]
+    return maps, [d for d, m in zip(drafts, maps) if m is None]
+
+
+def _bin_tables(drafts, maps, counted: list, counts) -> list[np.ndarray]:
     """Weights by (bin, sample, outcome) of every characteristic.
 
     Summed from the fine classes wherever each fine class falls whole into one bin; the other
-    characteristics (off-grid manual cuts, out-of-range bins) are counted in a pass over the
-    rows. Both are exact.
+    characteristics (off-grid manual cuts, out-of-range bins) come from a pass over the rows
+    (``counted``, in their order). Both are exact.
     """
-    maps = [binning.bins_of_fine_classes(d, layouts[d.name]) for d in drafts]
-    uncounted = [d for d, m in zip(drafts, maps) if m is None]
-    counted = iter(engine.reduce(bin_counts, merge_bin_counts, rows, uncounted,
-                                 columns=[d.name for d in uncounted]) if uncounted else ())
+    counted = iter(counted)
     tables = []
     for draft, fine_bin in zip(drafts, maps):
         if fine_bin is None:
@@ -404,10 +408,62 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
         raise
 
 
+# What a build asks a pass over the rows for (see :class:`Ask`).
+SUMMARY, FINE, BINS, PATTERNS = "summary", "fine classes", "bins", "patterns"
+
+
+class Ask(NamedTuple):
+    """A pass a build asks for: its ``kind``, what it counts, and the rows' facts.
+
+    ``what`` is, by kind: (kinds, sentinels) of the columns to summarise; the layouts of the
+    fine classes; the characteristics whose bins are counted on the rows (possibly none); the
+    candidates coded into patterns. A single build answers each ask with one pass
+    (:func:`_one_pass`); a segmented build answers every segment's ask with one shared pass.
+    """
+
+    kind: str
+    what: object
+    rows: RowFacts | None = None
+
+
 def _build(config, engine, progress, rows: RowFacts | None = None,
            fairness: bool = True, caught: np.ndarray | None = None) -> BuildResult:
     """The build on the rows of ``engine``; ``rows`` gives their facts when already drawn,
     ``caught`` the exclusion rule of each (None: rows that are not the data file's alone)."""
+    return answered(_build_steps(config, engine, progress, rows, fairness, caught),
+                    partial(_one_pass, engine))
+
+
+def answered(steps, answer):
+    """The result of a build's ``steps`` (a generator), each pass it asks for given by
+    ``answer(ask)``."""
+    try:
+        ask = next(steps)
+        while True:
+            ask = steps.send(answer(ask))
+    except StopIteration as done:
+        return done.value
+
+
+def _one_pass(engine, ask: Ask):
+    """One pass over the rows of ``engine`` answering ``ask``."""
+    if ask.kind == SUMMARY:
+        kinds, sentinels = ask.what
+        return engine.reduce(lambda c: column_summary(c, kinds, sentinels), merge_summaries,
+                             columns=list(kinds))
+    if ask.kind == FINE:
+        return engine.reduce(fine_counts, merge_fine, ask.rows, ask.what, columns=list(ask.what))
+    names = [c.name for c in ask.what]
+    if ask.kind == BINS:
+        return engine.reduce(bin_counts, merge_bin_counts, ask.rows, ask.what,
+                             columns=names) if ask.what else []
+    radix = pattern_radix(ask.what)
+    return engine.reduce(coded_patterns, lambda a, c: merge_patterns(a, c, radix), ask.rows,
+                         ask.what, columns=names)
+
+
+def _build_steps(config, engine, progress, rows, fairness, caught):
+    """The steps of :func:`_build`, yielding an :class:`Ask` for each pass that counts rows."""
     reports: dict = {}
     head = engine.sample_rows()
     kinds = _candidate_kinds(config, head, reports)
@@ -431,10 +487,9 @@ def _build(config, engine, progress, rows: RowFacts | None = None,
     _say(progress, f"outcome coded: {facts.rows_read} rows{excluded}, {facts.left_out} left out")
 
     sentinels = {n: _sentinels(config, n) for n, k in kinds.items() if k == "numeric"}
-    summary = engine.reduce(lambda c: column_summary(c, kinds, sentinels), merge_summaries,
-                            columns=list(kinds))
+    summary = yield Ask(SUMMARY, (kinds, sentinels))
     layouts = _layouts(config, kinds, summary, reports)
-    counts = engine.reduce(fine_counts, merge_fine, rows, layouts, columns=list(layouts))
+    counts = yield Ask(FINE, layouts, rows)
     extreme = _extreme_values(config, counts)
     _check_settings(config, engine, layouts, counts)
     _say(progress, f"fine classes counted for {len(layouts)} characteristics")
@@ -447,7 +502,8 @@ def _build(config, engine, progress, rows: RowFacts | None = None,
         raise InputError(f"{config.data.source}: no characteristic could be binned")
     _say(progress, f"coarse classes formed for {len(drafts)} characteristics")
 
-    tables = _bin_tables(engine, rows, drafts, layouts, counts)
+    maps, uncounted = _uncounted(drafts, layouts)
+    tables = _bin_tables(drafts, maps, (yield Ask(BINS, uncounted, rows)), counts)
     for draft, table in zip(drafts, tables):
         reports[draft.name] = _binned_report(draft, table, limits, config, reports[draft.name])
     binned = [reports[draft.name].characteristic for draft in drafts]
@@ -459,9 +515,7 @@ def _build(config, engine, progress, rows: RowFacts | None = None,
     names = [c.name for c in binned]
     floored = floor_fates(names, [c.information_value for c in binned], s.min_iv, s.keep)
     candidates = [c for c in binned if c.name not in floored]
-    radix = pattern_radix(candidates)
-    patterns = engine.reduce(coded_patterns, lambda a, c: merge_patterns(a, c, radix), rows,
-                             candidates, columns=[c.name for c in candidates])
+    patterns = yield Ask(PATTERNS, candidates, rows)
     _say(progress, f"{len(candidates)} candidates coded into {len(patterns.codes)} distinct "
                    "patterns")
 

@@ -1,10 +1,13 @@
 """The build of a segmented model: one card per segment, every card on the config's one scale.
 
 The outcome pass codes the rows and draws the samples once over the whole file, as for one
-card; one more pass codes each row's segment. Each segment's card is then built by the same
-passes as a single card, on the rows of that segment only: the other rows are marked as outside
-every sample in the per-row facts (a small int8 array per segment), so each pass skips them
-while reading the same chunks. No copy of the data is made; the passes run once per segment.
+card; one more pass codes each row's segment. Each segment's card is then built by the steps of
+a single card (:func:`scorecard.build.pipeline._build_steps`) on the rows of that segment only,
+and all segments' builds advance together: every pass they ask for (summary, fine classes, bins,
+patterns) runs once over the rows for all of them, the segment one more code beside the sample
+and the outcome. Each row is coded once, by its own segment's bins; no copy of the data is made.
+What follows the pattern pass (selection, fit, the benchmark regression and the fairness check
+on a segment's own rows) is each card's own.
 
 A segment too small to build is refused with one line naming it and its counts.
 """
@@ -18,13 +21,32 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from scorecard.build.pipeline import _build, _outcome_facts
+from scorecard.build.pipeline import (
+    BINS,
+    FINE,
+    PATTERNS,
+    SUMMARY,
+    _build_steps,
+    _one_pass,
+    _outcome_facts,
+)
 from scorecard.build.result import BuildResult
 from scorecard.card.segmented import NO_SEGMENT, SegmentedScorecard, SegmentRule
 from scorecard.config import Config
 from scorecard.data.outcome import BAD, GOOD
-from scorecard.data.samples import DEVELOPMENT, EXCLUDED, SAMPLE_NAMES
-from scorecard.engines.passes import RowFacts
+from scorecard.data.samples import DEVELOPMENT, SAMPLE_NAMES
+from scorecard.engines.passes import (
+    RowFacts,
+    SegmentFacts,
+    bin_counts_by_segment,
+    fine_counts_by_segment,
+    merge_bin_counts,
+    merge_by_segment,
+    merge_fine,
+    merge_patterns_by_segment,
+    pattern_radix,
+    patterns_by_segment,
+)
 from scorecard.errors import InputError
 from scorecard.evaluation.histograms import performance, pooled_histogram
 from scorecard.measures.ranking import Discrimination
@@ -104,18 +126,25 @@ def build_segmented(config: Config, engine, progress=None) -> SegmentedBuildResu
     segment = engine.collect(lambda chunk: (rule.codes(chunk[rule.column]),),
                              columns=[rule.column])[0]
     _refuse_rows_without_segment(config, engine, rule, segment)
+    shared = SegmentFacts(rows.label, rows.weight, rows.sample, segment.astype(np.int8))
+    steps = {}
+    for index, name in enumerate(rule.names):
+        own = shared.own(index)
+        held = int((segment == index).sum())
+        _refuse_if_too_small(config, name, own, held)
+        said = None if progress is None else partial(_segment_line, progress, name, held)
+        steps[name] = _build_steps(replace(config, name=f"{config.name}: {name}"), engine, said,
+                                   own, True, None)
+
+    def refused(name: str, exc: InputError) -> InputError:
+        index = rule.names.index(name)
+        return InputError(f"segments: segment {name!r} "
+                          f"({_counts(shared.own(index), segment == index)}): {exc}")
+
+    built = built_together(engine, shared, steps, refused)
     results = {}
     for index, name in enumerate(rule.names):
-        own = RowFacts(rows.label, rows.weight,
-                       np.where(segment == index, rows.sample, EXCLUDED).astype(np.int8))
-        _refuse_if_too_small(config, name, own, int((segment == index).sum()))
-        said = None if progress is None else partial(_segment_line, progress, name,
-                                                     int((segment == index).sum()))
-        try:
-            result = _build(replace(config, name=f"{config.name}: {name}"), engine, said, own)
-        except InputError as exc:
-            raise InputError(f"segments: segment {name!r} ({_counts(own, segment == index)}): "
-                             f"{exc}") from None
+        result = built[name]
         held = int((segment == index).sum())
         facts = replace(result.samples, rows_read=held,
                         left_out=held - sum(result.samples.rows.values()))
@@ -133,6 +162,62 @@ def build_segmented(config: Config, engine, progress=None) -> SegmentedBuildResu
         progress(f"{len(results)} segment cards on one scale; pooled {shown} AUC "
                  f"{pooled[shown].auc:.4f}")
     return SegmentedBuildResult(config, card, results, pooled)
+
+
+def built_together(engine, shared: SegmentFacts, steps: dict, refused) -> dict:
+    """Every segment's build (``steps``: name to the steps of its build, in segment order), the
+    passes they ask for answered once for all segments; ``refused(name, error)`` words a
+    segment's bad input."""
+    index = {name: i for i, name in enumerate(steps)}
+    results, answers, waiting = {}, dict.fromkeys(steps), dict(steps)
+    while waiting:
+        asks = {}
+        for name, build in waiting.items():
+            try:
+                asks[name] = build.send(answers[name])
+            except StopIteration as done:
+                results[name] = done.value
+            except InputError as exc:
+                raise refused(name, exc) from None
+        waiting = {name: waiting[name] for name in asks}
+        if asks:
+            answers = _shared_pass(engine, shared, {index[n]: a for n, a in asks.items()},
+                                   len(steps))
+            answers = {name: answers[index[name]] for name in asks}
+    return results
+
+
+def _shared_pass(engine, shared: SegmentFacts, asks: dict, n_segments: int) -> dict:
+    """One pass answering the same kind of ask of several segments (``asks``: segment index to
+    its ask); the answer of each, by segment index."""
+    kinds = {ask.kind for ask in asks.values()}
+    if len(kinds) != 1:
+        raise RuntimeError(f"the segments' builds asked for different passes: {sorted(kinds)}")
+    first = next(iter(asks.values()))
+    if first.kind == SUMMARY:
+        # The summary has no per-row facts, and every segment asks it of the same columns.
+        summary = _one_pass(engine, first)
+        return dict.fromkeys(asks, summary)
+    if first.kind == FINE:
+        # The fine classes depend on the config and the summary alone: the same in every segment.
+        layouts = first.what
+        counted = engine.reduce(fine_counts_by_segment, partial(merge_by_segment, merge_fine),
+                                shared, layouts, n_segments, columns=list(layouts))
+        return {i: counted[i] for i in asks}
+    own = tuple(tuple(asks[i].what) if i in asks else () for i in range(n_segments))
+    columns = list(dict.fromkeys(c.name for drafts in own for c in drafts))
+    if first.kind == BINS:
+        if not columns:
+            return {i: [] for i in asks}
+        counted = engine.reduce(bin_counts_by_segment, partial(merge_by_segment, merge_bin_counts),
+                                shared, own, columns=columns)
+        return {i: counted[i] for i in asks}
+    if first.kind == PATTERNS:
+        radices = tuple(pattern_radix(drafts) for drafts in own)
+        counted = engine.reduce(patterns_by_segment, partial(merge_patterns_by_segment, radices),
+                                shared, own, columns=columns)
+        return {i: counted[i] for i in asks}
+    raise RuntimeError(f"no shared pass for {first.kind!r}")
 
 
 def _segment_line(progress, name: str, held: int, text: str) -> None:

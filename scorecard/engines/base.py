@@ -20,16 +20,20 @@ PASS_NAMES = {
     "fine_counts": "counting fine classes",
     "bin_counts": "counting rows into bins",
     "coded_patterns": "coding rows into patterns",
+    "fine_counts_by_segment": "counting fine classes by segment",
+    "bin_counts_by_segment": "counting rows into bins by segment",
+    "patterns_by_segment": "coding rows into patterns by segment",
     "protected_counts": "counting protected groups",
     "protected_levels": "finding protected groups",
 }
 
 
 def slice_rows(rows: RowFacts | None, start: int, stop: int) -> RowFacts | None:
-    """The per-row facts of rows ``start`` to ``stop`` (views, no copy)."""
+    """The per-row facts of rows ``start`` to ``stop`` (views, no copy), of the same kind
+    (:class:`RowFacts`, or :class:`scorecard.engines.passes.SegmentFacts` with segment codes)."""
     if rows is None:
         return None
-    return RowFacts(rows.label[start:stop], rows.weight[start:stop], rows.sample[start:stop])
+    return type(rows)(*(column[start:stop] for column in rows))
 
 
 def ordered_fold(merge, parts):

@@ -41,6 +41,36 @@ class RowFacts(NamedTuple):
     sample: np.ndarray
 
 
+class SegmentFacts(NamedTuple):
+    """Per-row outcome, weight, sample and segment code of one chunk.
+
+    A segmented build counts every segment in the same passes: the segment is one more code
+    beside the sample and the outcome. ``own(s)`` gives the facts one segment's card is built
+    on, the other segments' rows outside every sample.
+
+    Examples
+    --------
+    >>> rows = SegmentFacts(np.zeros(3, np.int8), np.ones(3), np.zeros(3, np.int8),
+    ...                     np.array([0, 1, 0], np.int8))
+    >>> rows.own(1).sample.tolist()
+    [-1, 0, -1]
+    """
+
+    label: np.ndarray
+    weight: np.ndarray
+    sample: np.ndarray
+    segment: np.ndarray
+
+    def own(self, index: int) -> RowFacts:
+        return RowFacts(self.label, self.weight,
+                        np.where(self.segment == index, self.sample, EXCLUDED).astype(np.int8))
+
+    def members(self, index: int) -> tuple[np.ndarray, RowFacts]:
+        """Positions of the segment's rows in the chunk, and their facts alone."""
+        at = np.flatnonzero(self.segment == index)
+        return at, RowFacts(self.label[at], self.weight[at], self.sample[at])
+
+
 def pass_threads() -> int:
     """Threads a pass may use inside one chunk: the cores this process may run on, at most 4."""
     try:
@@ -239,3 +269,95 @@ def bin_counts(frame: pd.DataFrame, rows: RowFacts, drafts) -> list[np.ndarray]:
 
 def merge_bin_counts(a: list, b: list) -> list:
     return [x + y for x, y in zip(a, b)]
+
+
+# ---- every segment in one pass -----------------------------------------------------------------
+# Each function below returns one result per segment, equal to the single-card pass on that
+# segment's facts (``SegmentFacts.own``): the same codes are counted in the same order, and a row
+# of another segment only ever added a weight of zero.
+
+def fine_counts_by_segment(frame: pd.DataFrame, rows: SegmentFacts, layouts: dict,
+                           n_segments: int) -> tuple[dict, ...]:
+    """:func:`fine_counts` of every segment, each column coded once for all of them.
+
+    The segment is one more code in the count cell, so the table of a column has a segment axis;
+    the development range is each segment's own. Values far beyond the layout's bounds are
+    counted over every row of the chunk, as for each segment's own pass.
+
+    Examples
+    --------
+    >>> rows = SegmentFacts(np.array([0, 1, 0], np.int8), np.ones(3), np.zeros(3, np.int8),
+    ...                     np.array([0, 1, 1], np.int8))
+    >>> a, b = fine_counts_by_segment(pd.DataFrame({"x": [1.0, 5.0, 3.0]}), rows,
+    ...                               {"x": NumericLayout(np.array([2.0]), ())}, 2)
+    >>> a["x"].goods.tolist(), b["x"].goods.tolist(), b["x"].bads.tolist()
+    ([1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 1.0, 0.0])
+    >>> b["x"].development_range
+    (3.0, 5.0)
+    """
+    kept = rows.sample != EXCLUDED
+    weight = np.where(kept, rows.weight, 0.0)
+    cells = N_SAMPLES * 2
+    cell = np.where(kept, (rows.segment.astype(np.intp) * N_SAMPLES + rows.sample) * 2
+                    + rows.label, 0)
+    dev = [(rows.sample == DEVELOPMENT) & (rows.segment == s) for s in range(n_segments)]
+
+    def counted(codes: np.ndarray, n_codes: int) -> list[np.ndarray]:
+        table = np.bincount(codes * (cells * n_segments) + cell, weights=weight,
+                            minlength=n_codes * cells * n_segments)
+        table = table.reshape(n_codes, n_segments, N_SAMPLES, 2)
+        return [np.ascontiguousarray(table[:, s]) for s in range(n_segments)]
+
+    def one(item):
+        name, layout = item
+        series = frame[name]
+        if isinstance(layout, NumericLayout):
+            x = numeric_values(series, name)
+            tables = counted(numeric_codes(x, layout), layout.n_codes)
+            below, above = layout.extreme
+            far = np.flatnonzero((x < below) | (x > above)) if len(x) else np.empty(0, int)
+            first = tuple(int(i) for i in far[:REPORTED])
+            return name, [FineCounts(t, regular_range(x, layout.sentinels, d), len(x), len(far),
+                                     first) for t, d in zip(tables, dev)]
+        idx = categorical_codes(series, layout)
+        tables = counted(np.where(idx < 0, len(layout), idx), len(layout) + 1)
+        return name, [FineCounts(t, None, len(idx)) for t in tables]
+
+    counts = dict(_each(one, list(layouts.items()), len(frame)))
+    return tuple({name: per[s] for name, per in counts.items()} for s in range(n_segments))
+
+
+def merge_by_segment(merge, a: tuple, b: tuple) -> tuple:
+    """Two chunks' results of every segment merged segment by segment with ``merge``."""
+    return tuple(merge(x, y) for x, y in zip(a, b))
+
+
+def bin_counts_by_segment(frame: pd.DataFrame, rows: SegmentFacts, drafts: tuple) -> tuple:
+    """:func:`bin_counts` of each segment's own characteristics (``drafts[s]``), on its rows."""
+    out = []
+    for index, own in enumerate(drafts):
+        if not own:
+            out.append([])
+            continue
+        at, facts = rows.members(index)
+        out.append(bin_counts(_rows_at(frame, own, at), facts, own))
+    return tuple(out)
+
+
+def patterns_by_segment(frame: pd.DataFrame, rows: SegmentFacts, candidates: tuple) -> tuple:
+    """:func:`coded_patterns` of each segment: its rows coded by its own candidates only."""
+    out = []
+    for index, own in enumerate(candidates):
+        at, facts = rows.members(index)
+        out.append(coded_patterns(_rows_at(frame, own, at), facts, own))
+    return tuple(out)
+
+
+def merge_patterns_by_segment(radices: tuple, a: tuple, b: tuple) -> tuple:
+    return tuple(merge_patterns(x, y, radix) for x, y, radix in zip(a, b, radices))
+
+
+def _rows_at(frame: pd.DataFrame, drafts, at: np.ndarray) -> pd.DataFrame:
+    # Only the columns the segment's characteristics read, and only its rows: each row is
+    # coded once, by its own segment's bins.
+    return frame[[c.name for c in drafts]].take(at)
