@@ -107,7 +107,8 @@ def test_fuzzy_build_adds_exactly_the_rejects_weight_and_their_expected_bads(
     accepts_only = inference.accepts_only
     declined = pd.read_csv(demo_config_path.parent / "declined.csv")
     scores = apply_scorecard(accepts_only.card, declined)
-    scored = ~scores.rejected
+    # Declined staff applications leave by the demo's exclusion rule, as the accepts' do.
+    scored = ~scores.rejected & (declined["staff_application"] != "yes").to_numpy()
     p_bad = bad_probability_of_score(scores.score[scored].astype(float), accepts_only.card.scaling)
     accepts = accepts_only.reports[0].sample_counts[:, DEVELOPMENT, :].sum(axis=0)
     for report in result.reports:
@@ -229,6 +230,76 @@ def test_a_declined_file_without_a_characteristic_is_one_error_line(simulated, t
     config = _config(tmp_path, "fuzzy")
     with open_engine(config) as engine, pytest.raises(InputError, match="column bike_price"):
         build_scorecard(config, engine)
+
+
+def test_a_rule_on_a_column_the_declined_file_lacks_is_one_error_line(simulated, tmp_path):
+    from click.testing import CliRunner
+
+    from scorecard.cli import main
+
+    folder, _ = simulated
+    pd.read_csv(folder / "declined.csv").drop(columns=["staff_application"]) \
+        .to_csv(tmp_path / "declined.csv", index=False)
+    (tmp_path / "applications.csv").write_bytes((folder / "applications.csv").read_bytes())
+    (tmp_path / "c.yaml").write_text(demo_config_text("applications.csv"))
+    ran = CliRunner().invoke(main, ["build", str(tmp_path / "c.yaml"), "--quiet"])
+    assert ran.exit_code == 2
+    assert ran.stderr.count("\n") == 1
+    assert ran.stderr.startswith(f"error: {tmp_path / 'declined.csv'}: column staff_application:")
+    assert "data.exclude rule" in ran.stderr and "Traceback" not in ran.stderr
+    assert not (tmp_path / "out").exists()
+
+
+# ---- exclusions ---------------------------------------------------------------------------------
+
+def test_declined_rows_leave_by_the_exclude_rules_with_their_own_waterfall_lines(simulated,
+                                                                                  tmp_path):
+    # Invariant, exact counts: each rule removes the declined rows it is the first to catch
+    # (counted here with pandas on the declined file), and the build equals the build on a
+    # declined file from which those rows were taken out beforehand.
+    folder, _ = simulated
+    rule = "    - {column: staff_application, in: [yes], reason: Staff application (other lease terms)}\n"
+    extra = rule + "    - {column: deposit_share, below: 0.05, reason: No deposit taken}\n"
+    text = demo_config_text("applications.csv")
+    assert rule in text
+    declined = pd.read_csv(folder / "declined.csv")
+    staff = (declined["staff_application"] == "yes").to_numpy()
+    no_deposit = ~staff & (declined["deposit_share"] < 0.05).to_numpy()
+    assert staff.sum() > 0 and no_deposit.sum() > 0
+    kept = tmp_path / "kept"
+    kept.mkdir()
+    declined.loc[~staff & ~no_deposit].to_csv(kept / "declined.csv", index=False)
+    results = []
+    for where in (folder, kept):
+        (where / "rules.yaml").write_text(text.replace(rule, extra).replace(
+            "source: declined.csv", f"source: {where / 'declined.csv'}").replace(
+            "source: applications.csv", f"source: {folder / 'applications.csv'}"))
+        config = load_config(where / "rules.yaml")
+        with open_engine(config) as engine:
+            results.append(build_scorecard(config, engine))
+    full, prefiltered = results
+    d = full.waterfall.declined
+    assert d.rows_read == len(declined)
+    assert [(step.removed, step.left) for step in d.steps] == [
+        (int(staff.sum()), len(declined) - int(staff.sum())),
+        (int(no_deposit.sum()), len(declined) - int(staff.sum()) - int(no_deposit.sum()))]
+    assert full.rejects.excluded == staff.sum() + no_deposit.sum()
+    assert full.rejects.weight == prefiltered.rejects.weight
+    assert full.card.inference["rejects_excluded"] == full.rejects.excluded
+    lines = full.waterfall.frame()
+    declined_lines = lines[lines["Step"].str.startswith("Declined")]
+    assert declined_lines["Step"].tolist() == [
+        "Declined applications read", "Declined, rule 1: staff_application in [yes]",
+        "Declined, rule 2: deposit_share below 0.05",
+        "Declined applications left for reject inference"]
+    assert declined_lines["Rows left"].iloc[-1] == d.left == len(declined) - full.rejects.excluded
+    # The accepts' lines stay as they were, and the cards are the same.
+    assert full.waterfall.steps == prefiltered.waterfall.steps
+    one, other = (json.loads(r.card.to_json()) for r in (full, prefiltered))
+    for record in (one, other):
+        record["reject_inference"].pop("rejects")
+        record["reject_inference"].pop("rejects_excluded", None)
+    assert one == other
 
 
 # ---- engines ------------------------------------------------------------------------------------

@@ -36,7 +36,7 @@ from scorecard.card.scorecard import (
 from scorecard.card.scoring import apply_scorecard
 from scorecard.constraints import SCALE_LIMIT
 from scorecard.data.coding import categorical_codes
-from scorecard.data.exclusions import exclusion_waterfall, first_rule
+from scorecard.data.exclusions import declined_rows, exclusion_waterfall, first_rule
 from scorecard.data.outcome import BAD, GOOD, OTHER, code_outcome
 from scorecard.data.read import column_kind, decimal_comma_column, read_source
 from scorecard.data.samples import (
@@ -668,17 +668,28 @@ def _build_with_rejects(config, engine, rejects_engine, progress) -> BuildResult
     Holdout and out-of-time samples stay accepts only: the inferred rejects join development.
     """
     r = config.rejects
-    rows, caught = _outcome_facts(config, engine)
-    accepts_only = _build(config, engine, progress, rows, caught=caught)
     own = rejects_engine is None
     if own:
         rejects_engine = LocalEngine(read_source(r.source, encoding=r.encoding,
                                                  delimiter=r.delimiter))
     try:
+        _require_rule_columns(config, rejects_engine)
+        rows, caught = _outcome_facts(config, engine)
+        accepts_only = _build(config, engine, progress, rows, caught=caught)
         return _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progress)
     finally:
         if own:
             rejects_engine.close()
+
+
+def _require_rule_columns(config, rejects_engine) -> None:
+    """The declined applications leave the inference by the rules of ``data.exclude`` too, so
+    they need every column a rule reads."""
+    for rule in config.data.exclude:
+        if rule.column not in rejects_engine.columns:
+            raise InputError(f"{config.rejects.source}: column {rule.column}: the declined "
+                             f"applications lack it, and data.exclude rule '{rule.describe()}' "
+                             "applies to them too")
 
 
 def _accepts_histogram(engine, rows: RowFacts, card: Scorecard):
@@ -717,10 +728,14 @@ def _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progr
                          "characteristic of the data (and data.weight, rejects.known_outcome "
                          "when given)")
     d = config.data
+    rule_columns = [rule.column for rule in d.exclude]
     scored = rejects.RejectScores(*rejects_engine.collect(
         partial(rejects.score_chunk, card=card, weight=d.weight, known=r.known_outcome,
-                bad=d.bad, good=d.good), columns=list(card.names) + needed[len(candidates):]))
-    _say(progress, f"{len(scored.score)} declined applications scored by the accepts-only card")
+                bad=d.bad, good=d.good, exclude=d.exclude),
+        columns=list(dict.fromkeys(list(card.names) + needed[len(candidates):] + rule_columns))))
+    excluded = int(np.count_nonzero(scored.caught))
+    _say(progress, f"{len(scored.score)} declined applications scored by the accepts-only card"
+                   + (f", {excluded} excluded by data.exclude" if d.exclude else ""))
     accepts_scores = None
     if r.method == "reweighting":
         accepts_scores = engine.collect(
@@ -761,10 +776,13 @@ def _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progr
                         fairness=compute_fairness(config, engine, rows, card))
     inference = rejects.RejectInference(
         method=r.method, settings=r.settings(), source=str(r.source), rows=len(scored.score),
-        refused=int(scored.refused.sum()), accepts_only=accepts_only,
-        known_outcome=r.known_outcome, **facts)
+        refused=int((scored.refused & (scored.caught == 0)).sum()), accepts_only=accepts_only,
+        known_outcome=r.known_outcome, excluded=excluded, **facts)
     _say(progress, f"reject inference ({r.method}): rejects' bad rate "
                    f"{inference.inferred_bad_rate:.1%} against the accepts' "
                    f"{inference.accepts_bad_rate:.1%}")
     card = replace(final.card, inference=inference.record())
-    return replace(final, card=card, rejects=inference)
+    waterfall = accepts_only.waterfall
+    if waterfall is not None and d.exclude:
+        waterfall = replace(waterfall, declined=declined_rows(d.exclude, scored.caught))
+    return replace(final, card=card, rejects=inference, waterfall=waterfall)

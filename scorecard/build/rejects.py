@@ -29,6 +29,7 @@ import pandas as pd
 
 from scorecard.card.points import Scaling, bad_probability_of_score
 from scorecard.card.scoring import apply_scorecard
+from scorecard.data.exclusions import first_rule
 from scorecard.data.outcome import BAD, GOOD, OTHER, code_outcome, row_weights
 from scorecard.data.samples import DEVELOPMENT, EXCLUDED
 from scorecard.engines.passes import RowFacts
@@ -48,22 +49,32 @@ HAND_HENLEY = ("Reject inference rests on assumptions about the declined applica
 # ---- the pass over the rejects -----------------------------------------------------------------
 
 class RejectScores(NamedTuple):
-    """Per reject row: accepts-only score, weight, refused by the card, and known outcome."""
+    """Per reject row: accepts-only score, weight, refused by the card, known outcome, and the
+    ``data.exclude`` rule that catches it."""
 
     score: np.ndarray       # int64; 0 where refused
     weight: np.ndarray      # float64
     refused: np.ndarray     # bool: the card refuses the row (a bin marked reject)
     known: np.ndarray       # int8 GOOD / BAD / OTHER; OTHER throughout without a known outcome
+    caught: np.ndarray | None = None   # number (from 1) of the first rule met, 0 for none
+
+    @property
+    def used(self) -> np.ndarray:
+        """Rows the inference counts: no rule catches them and the card scores them."""
+        return ~self.refused if self.caught is None else ~self.refused & (self.caught == 0)
 
 
 def score_chunk(chunk: pd.DataFrame, card, weight: str | None, known: str | None,
-                bad=(), good=()) -> tuple:
-    """One chunk of rejects scored by ``card`` (a pass for ``engine.collect``)."""
+                bad=(), good=(), exclude=()) -> tuple:
+    """One chunk of rejects scored by ``card`` and checked against the ``exclude`` rules (a pass
+    for ``engine.collect``): the rules are evaluated in the same pass, so the declined leave the
+    inference by the rules the accepts left the build by."""
     scores = apply_scorecard(card, chunk)
     w = np.ones(len(chunk)) if weight is None else row_weights(chunk[weight], weight)
     outcome = np.full(len(chunk), OTHER, np.int8) if known is None else \
         code_outcome(chunk[known], bad, good).label
-    return scores.score.astype(np.int64), np.asarray(w, np.float64), scores.rejected, outcome
+    return (scores.score.astype(np.int64), np.asarray(w, np.float64), scores.rejected, outcome,
+            first_rule(chunk, exclude))
 
 
 # ---- score bands -------------------------------------------------------------------------------
@@ -233,6 +244,7 @@ class RejectInference:
     known_outcome: str | None = None
     cutoff: int | None = None               # hard cut-off: the score used
     notes: tuple = field(default_factory=tuple)
+    excluded: int = 0                       # rows a data.exclude rule catches (left out)
 
     @property
     def inferred_bad_rate(self) -> float:
@@ -258,6 +270,7 @@ class RejectInference:
         """What the model file keeps: the method, its settings and the headline rates."""
         return {"method": self.method, "settings": {k: v for k, v in self.settings.items()},
                 "rejects": self.rows, "rejects_refused": self.refused,
+                **({"rejects_excluded": self.excluded} if self.excluded else {}),
                 "accepts_bad_rate": round(self.accepts_bad_rate, 6),
                 "rejects_inferred_bad_rate": round(self.inferred_bad_rate, 6),
                 **({"cutoff": self.cutoff} if self.cutoff is not None else {})}
@@ -281,7 +294,7 @@ def infer(rejects_config, seed: int, scale: Scaling, rows: RowFacts,
     method = rejects_config.method
     low = next(iter(histograms.values())).low
     width = len(next(iter(histograms.values())).goods)
-    ok = ~scored.refused
+    ok = scored.used
     w = np.where(ok, scored.weight, 0.0)
     at = np.clip(scored.score - low, 0, width - 1)
     rejects_hist = np.bincount(at, weights=w, minlength=width)

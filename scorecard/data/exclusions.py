@@ -20,7 +20,8 @@ from scorecard.data.coding import level_labels, numeric_values
 from scorecard.data.outcome import matching_levels
 from scorecard.errors import InputError
 
-__all__ = ["ExclusionStep", "Waterfall", "exclusion_waterfall", "first_rule", "rule_mask"]
+__all__ = ["DeclinedRows", "ExclusionStep", "Waterfall", "declined_rows", "exclusion_waterfall",
+           "first_rule", "rule_mask"]
 
 
 def rule_mask(series: pd.Series, rule: ExclusionRule) -> np.ndarray:
@@ -89,16 +90,30 @@ class ExclusionStep:
 
 
 @dataclass(frozen=True)
+class DeclinedRows:
+    """The declined applications' own lines: rows read, and removed by each rule in order."""
+
+    rows_read: int
+    steps: tuple[ExclusionStep, ...]
+
+    @property
+    def left(self) -> int:
+        return self.rows_read - sum(step.removed for step in self.steps)
+
+
+@dataclass(frozen=True)
 class Waterfall:
     """Rows read, removed by each rule in order, with another outcome, and used.
 
-    ``used`` holds (sample, rows) pairs; every row read is in exactly one line.
+    ``used`` holds (sample, rows) pairs; every row read is in exactly one line. ``declined``,
+    when reject inference ran under exclusion rules, holds the declined applications' lines.
     """
 
     rows_read: int
     steps: tuple[ExclusionStep, ...]
     other_outcome: int
     used: tuple[tuple[str, int], ...]
+    declined: DeclinedRows | None = None
 
     @property
     def rows_used(self) -> int:
@@ -121,9 +136,34 @@ class Waterfall:
                   (f"Rows used ({samples})",
                    "; ".join(f"{name} {rows:,}" for name, rows in self.used), None,
                    self.rows_used)]
+        if self.declined is not None:
+            d = self.declined
+            lines += [("Declined applications read", "rejects.source", None, d.rows_read)]
+            lines += [(f"Declined, rule {i}: {s.rule}", s.reason, s.removed, s.left)
+                      for i, s in enumerate(d.steps, start=1)]
+            lines += [("Declined applications left for reject inference", "", None, d.left)]
         frame = pd.DataFrame(lines, columns=["Step", "Reason", "Rows removed", "Rows left"])
         frame["Rows removed"] = frame["Rows removed"].astype("Int64")
         return frame
+
+
+def _steps(rules, caught: np.ndarray) -> tuple[ExclusionStep, ...]:
+    removed = np.bincount(caught, minlength=len(rules) + 1)[1:]
+    left = len(caught) - np.cumsum(removed)
+    return tuple(ExclusionStep(rule.describe(), rule.reason, int(r), int(n))
+                 for rule, r, n in zip(rules, removed, left))
+
+
+def declined_rows(rules, caught: np.ndarray) -> DeclinedRows:
+    """The declined applications' lines from the rule number of every declined row read.
+
+    Examples
+    --------
+    >>> d = declined_rows([ExclusionRule("x", "missing", True, "blank")], np.array([0, 1, 1]))
+    >>> d.rows_read, [(s.removed, s.left) for s in d.steps], d.left
+    (3, [(2, 1)], 1)
+    """
+    return DeclinedRows(len(caught), _steps(rules, caught))
 
 
 def exclusion_waterfall(rules, caught: np.ndarray, other_outcome: int,
@@ -147,11 +187,7 @@ def exclusion_waterfall(rules, caught: np.ndarray, other_outcome: int,
     >>> [(s.removed, s.left) for s in w.steps], w.other_outcome, w.rows_used
     ([(1, 3)], 1, 2)
     """
-    removed = np.bincount(caught, minlength=len(rules) + 1)[1:]
-    left = len(caught) - np.cumsum(removed)
-    steps = tuple(ExclusionStep(rule.describe(), rule.reason, int(r), int(n))
-                  for rule, r, n in zip(rules, removed, left))
-    waterfall = Waterfall(len(caught), steps, int(other_outcome),
+    waterfall = Waterfall(len(caught), _steps(rules, caught), int(other_outcome),
                           tuple((name, int(rows)) for name, rows in used.items()))
     if waterfall.rows_read != waterfall.excluded + waterfall.other_outcome + waterfall.rows_used:
         raise ValueError("the exclusion waterfall does not add up to the rows read")

@@ -23,7 +23,9 @@ What the design builds in, so that each step of the build has something to find:
 * About 2% of outcomes are the indeterminate ``in_arrears``, chosen at random, so that the
   good/bad model among the remaining rows is exactly the designed logistic model.
 * ``staff_application`` is ``yes`` for about 1.5% of rows, at random: the lender's own staff
-  lease on other terms, so the demo config excludes them from the build (``data.exclude``).
+  lease on other terms, so the demo config excludes them from the build (``data.exclude``). The
+  declined applications carry the flag too (their own draw), and leave reject inference by the
+  same rule.
 
 ``drift=True`` draws a fresh sample (its own random stream) in which only the characteristics
 named in :data:`DRIFTED_CHARACTERISTICS` have a shifted distribution; the risk model is the same.
@@ -56,6 +58,7 @@ _PREVIOUS_SCORE_STREAM = 2
 # So has the staff flag, for the same reason.
 _STAFF_STREAM = 3
 _STAFF_SHARE = 0.015
+_DECLINED_STAFF = 2   # the declined applications' own draw of the staff flag
 
 _AGE_BANDS = ("18-25", "26-35", "36-50", "51-65", "66+")
 _AGE_SHARES = (0.16, 0.30, 0.30, 0.17, 0.07)
@@ -191,14 +194,15 @@ def make_applications(rows: int = 20_000, seed: int = 2024, drift: bool = False)
             "decided_on": _FIRST_DAY + np.sort(rng.integers(0, _DAYS, size=rows)),
             "outcome": pd.Series(outcome, dtype="str"),
             **_as_columns(draws),
-            "staff_application": _staff_flags(rows, seed, drift),
+            "staff_application": _staff_flags(rows, seed, int(drift)),
         }
     )
 
 
-def _staff_flags(rows: int, seed: int, drift: bool) -> np.ndarray:
-    """'yes' for the lender's own staff, at random; drawn apart so no other column changes."""
-    rng = np.random.default_rng([seed, _STAFF_STREAM, int(drift)])
+def _staff_flags(rows: int, seed: int, part: int) -> np.ndarray:
+    """'yes' for the lender's own staff, at random; drawn apart so no other column changes.
+    ``part``: 0 for the accepts, 1 for the drifted sample, 2 for the declined."""
+    rng = np.random.default_rng([seed, _STAFF_STREAM, part])
     return np.where(rng.random(rows) < _STAFF_SHARE, "yes", "no")
 
 
@@ -339,6 +343,7 @@ def make_declined(rows: int = 20_000, seed: int = 2024) -> pd.DataFrame:
             "decided_on": _FIRST_DAY + np.sort(rng.integers(0, _DAYS, size=wanted)),
             **_as_columns(draws),
             "true_outcome": pd.Series(outcome, dtype="str"),
+            "staff_application": _staff_flags(wanted, seed, _DECLINED_STAFF),
         }
     )
 
