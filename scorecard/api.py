@@ -116,11 +116,11 @@ def build(config_path, *, workbook=None, model=None, progress=None) -> BuildResu
         check_columns(config, engine.columns)
         if progress:
             progress(f"read {engine.n_rows} rows from {config.data.source}")
-        if config.segments is not None:
-            from scorecard.build.segments import build_segmented
-            result = build_segmented(config, engine, progress)
-        else:
-            with open_rejects_engine(config, engine, progress) as rejects_engine:
+        with open_rejects_engine(config, engine, progress) as rejects_engine:
+            if config.segments is not None:
+                from scorecard.build.segments import build_segmented
+                result = build_segmented(config, engine, progress, rejects_engine)
+            else:
                 result = build_scorecard(config, engine, progress, rejects_engine)
         if is_query(config.data.source):
             # A query cannot be read again for the manifest: hash the rows the build read.

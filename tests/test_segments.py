@@ -15,6 +15,12 @@ Checks of the main job and their sources:
 - Invariants: the local engine in one chunk, in small chunks and a Dask cluster give the same
   model file; every card has the config's scaling; a segment too small to build is one
   ``error:`` line naming it and its counts.
+- Known truth, simulation: with declined applications (declined on observed characteristics
+  only, so that each segment's accepts-only card extrapolates to its declined without bias),
+  each segment card's inferred bad rate of its own declined is near their true bad rate.
+- Invariants: a segmented build with declined applications gives each segment the card built
+  alone from its own rows and its own declined applications (the other segments' outside the
+  inference), key for key in the model file, whatever the method.
 - Invariants: the passes shared by every segment (the segment one more code beside the sample)
   give each segment the card it gets from passes of its own, with the other segments' rows
   outside every sample, key for key in the model file; each shared pass's counts equal the
@@ -308,12 +314,6 @@ def test_a_bad_segments_section_is_refused_naming_its_key(segments, message):
     assert message in str(caught.value) and "\n" not in str(caught.value)
 
 
-def test_segments_with_declined_applications_are_refused():
-    text = SEGMENTED.format(data="d.csv", segments=BY_GROUPS, stem="s") + "rejects: {source: r.csv}\n"
-    with pytest.raises(InputError, match="rejects: cannot be given with segments yet"):
-        parse_config(text, "c.yaml")
-
-
 def test_reports_on_a_segmented_model(reversed_case, tmp_path):
     folder, _, _ = reversed_case
     model, fresh = folder / "out/segmented.json", folder / "fresh.csv"
@@ -516,3 +516,125 @@ def test_each_shared_pass_counts_what_the_single_pass_counts_on_the_segment(tmp_
         alone = coded_patterns(frame, facts.own(s), drafts[s])
         assert np.array_equal(patterns[s].codes, alone.codes)
         assert np.array_equal(patterns[s].weights, alone.weights)
+
+
+# ---- declined applications -----------------------------------------------------------------------
+
+REJECTS = "rejects: {{source: declined.csv, method: {method}, known_outcome: true_outcome{extra}}}\n"
+
+
+def through_the_door(rows: int, seed: int) -> tuple[pd.DataFrame, pd.DataFrame]:
+    """The applicants of :func:`simulate`, split into accepts and declined by an old policy
+    that looked at observed characteristics only (x2, and x1 the way each segment's risk runs);
+    the declined keep their outcome as ``true_outcome``."""
+    frame = simulate(rows, seed)
+    rng = np.random.default_rng(seed + 1000)
+    sign = np.where(frame["customer"] == "new", -1.0, 1.0)
+    accept = rng.random(rows) < 1.0 / (1.0 + np.exp(-(1.2 - 0.48 * frame["x2"]
+                                                      - 0.36 * sign * frame["x1"])))
+    declined = frame.loc[~accept].rename(columns={"outcome": "true_outcome"})
+    return frame.loc[accept].reset_index(drop=True), declined.reset_index(drop=True)
+
+
+def _rejects_case(folder, accepts, declined, method="fuzzy", extra=""):
+    accepts.to_csv(folder / "data.csv", index=False)
+    declined.to_csv(folder / "declined.csv", index=False)
+    path = folder / f"{method}.yaml"
+    path.write_text(SEGMENTED.format(data="data.csv", segments=BY_GROUPS, stem=method)
+                    + REJECTS.format(method=method, extra=extra))
+    return path
+
+
+def test_each_segment_card_infers_its_own_declined_bad_rate(tmp_path):
+    # Known truth, simulation: the old policy declined on observed characteristics only, so each
+    # segment's accepts-only card extrapolates to its own declined applicants without bias; the
+    # inferred bad rate of each segment's declined is within 15% of their true bad rate (the
+    # same tolerance as for one card in test_rejects), and the declined are the riskier.
+    accepts, declined = through_the_door(16000, 31)
+    result = api.build(_rejects_case(tmp_path, accepts, declined))
+    for name, levels in (("new", ["new"]), ("existing", ["existing", "renewed"])):
+        inference = result.segments[name].rejects
+        own = declined[declined["customer"].isin(levels)]
+        truth = (own["true_outcome"] == "bad").mean()
+        assert inference.rows == len(own)
+        assert inference.known_bad_rate == pytest.approx(truth, rel=1e-12)
+        assert abs(inference.inferred_bad_rate / truth - 1) <= 0.15, (name, truth)
+        assert inference.inferred_bad_rate > inference.accepts_bad_rate
+        assert result.card.cards[list(result.segments).index(name)].inference["rejects"] == \
+            len(own)
+    # The reversed effect survives the inference: x1 is in both cards.
+    assert all("x1" in part.card.names for part in result.segments.values())
+
+
+@pytest.mark.parametrize("method,extra", [("fuzzy", ""), ("parcelling", ", uplift: 1.5"),
+                                          ("reweighting", "")])
+def test_each_card_with_declined_applications_is_the_card_built_alone_on_its_own(
+        tmp_path, method, extra):
+    # Invariant: the shared passes change nothing. Each segment's card equals the card its own
+    # build gives (single-card passes over every row, the other segments' accepts outside every
+    # sample and their declined outside the inference), key for key in the model file.
+    from dataclasses import replace
+
+    from scorecard.build.pipeline import (
+        _one_pass,
+        _outcome_facts,
+        answered,
+        rejects_steps,
+    )
+
+    accepts, declined = through_the_door(6000, 22)
+    accepts.loc[::41, "x3"] = np.nan
+    config = load_config(_rejects_case(tmp_path, accepts, declined, method, extra))
+    result = api.build(config.config_file)
+    rule = segment_rule(config)
+    engine, rejects_engine = LocalEngine(read_frame(tmp_path / "data.csv")), \
+        LocalEngine(read_frame(tmp_path / "declined.csv"))
+    rows, _ = _outcome_facts(config, engine)
+    facts = SegmentFacts(rows.label, rows.weight, rows.sample,
+                         rule.codes(accepts["customer"]).astype(np.int8))
+    member = rule.codes(declined["customer"])
+    cards = json.loads((tmp_path / f"out/{method}.json").read_text())["cards"]
+    for index, name in enumerate(rule.names):
+        alone = answered(rejects_steps(replace(config, name=f"{config.name}: {name}"), engine,
+                                       rejects_engine, None, facts.own(index), None,
+                                       member == index, (rule, index)), _one_pass)
+        expected = json.loads(alone.card.to_json())
+        assert cards[index].keys() == expected.keys()
+        for key in expected:
+            assert cards[index][key] == expected[key], (name, key)
+        assert result.segments[name].rejects.rows == int((member == index).sum())
+
+
+def test_declined_applications_without_a_segment_are_one_error_line(tmp_path):
+    accepts, declined = through_the_door(3000, 23)
+    broken = declined.copy()
+    broken.loc[4, "customer"] = "visitor"
+    config = _rejects_case(tmp_path, accepts, broken)
+    ran = CliRunner().invoke(main, ["build", str(config), "--quiet"])
+    assert ran.exit_code == 2 and ran.stderr.count("\n") == 1
+    assert ran.stderr.startswith(f"error: {tmp_path / 'declined.csv'}: row 5: column customer: "
+                                 "holds 'visitor', which no segment lists")
+    declined.drop(columns="customer").to_csv(tmp_path / "declined.csv", index=False)
+    ran = CliRunner().invoke(main, ["build", str(config), "--quiet"])
+    assert ran.exit_code == 2 and ran.stderr.count("\n") == 1
+    assert ran.stderr.startswith(f"error: {tmp_path / 'declined.csv'}: column customer:")
+    assert not (tmp_path / "out").exists()
+
+
+def test_the_segmented_demo_shows_an_exclusion_two_segments_and_reject_inference(tmp_path):
+    # The demo's segmented config: the staff rule takes staff applications out of the accepts
+    # and of each segment's declined applications, which each card infers on its own.
+    from scorecard.demo.files import SEGMENTED_CONFIG_FILE, write_demo
+
+    write_demo(tmp_path, rows=4000)
+    result = api.build(tmp_path / SEGMENTED_CONFIG_FILE)
+    assert list(result.segments) == ["new", "existing"]
+    declined = pd.read_csv(tmp_path / "declined.csv")
+    accepts = pd.read_csv(tmp_path / "applications.csv")
+    for name, part in result.segments.items():
+        own = declined[declined["customer"] == name]
+        assert part.rejects.rows == len(own)
+        assert part.rejects.excluded == int((own["staff_application"] == "yes").sum())
+        staff = int(((accepts["customer"] == name) & (accepts["staff_application"] == "yes")).sum())
+        assert staff > 0 and part.samples.left_out >= staff
+    assert sum(p.rejects.excluded for p in result.segments.values()) > 0

@@ -410,28 +410,44 @@ def build_scorecard(config, engine, progress: Callable[[str], None] | None = Non
 
 # What a build asks a pass over the rows for (see :class:`Ask`).
 SUMMARY, FINE, BINS, PATTERNS = "summary", "fine classes", "bins", "patterns"
+SCORES, REJECT_SCORES = "scores", "declined scores"
 
 
 class Ask(NamedTuple):
-    """A pass a build asks for: its ``kind``, what it counts, and the rows' facts.
+    """A pass a build asks for: its ``kind``, what it counts, the rows' facts and the engine
+    holding the rows.
 
     ``what`` is, by kind: (kinds, sentinels) of the columns to summarise; the layouts of the
     fine classes; the characteristics whose bins are counted on the rows (possibly none); the
-    candidates coded into patterns. A single build answers each ask with one pass
-    (:func:`_one_pass`); a segmented build answers every segment's ask with one shared pass.
+    candidates coded into patterns; the card that scores the rows (SCORES: each row's score and
+    whether the card refuses it); a :class:`DeclinedAsk` (REJECT_SCORES). A single build answers
+    each ask with one pass (:func:`_one_pass`); a segmented build answers every segment's ask
+    with one shared pass.
     """
 
     kind: str
     what: object
     rows: RowFacts | None = None
+    engine: object = None
+
+
+class DeclinedAsk(NamedTuple):
+    """The declined applications scored by ``card`` (:func:`rejects.score_chunk` with the
+    ``options`` besides the card, reading ``columns``); ``member`` marks the rows of the
+    segment whose card it is, ``segment`` is (rule, index) of that segment (None: one card)."""
+
+    card: Scorecard
+    options: dict
+    columns: list
+    member: np.ndarray | None = None
+    segment: tuple | None = None
 
 
 def _build(config, engine, progress, rows: RowFacts | None = None,
            fairness: bool = True, caught: np.ndarray | None = None) -> BuildResult:
     """The build on the rows of ``engine``; ``rows`` gives their facts when already drawn,
     ``caught`` the exclusion rule of each (None: rows that are not the data file's alone)."""
-    return answered(_build_steps(config, engine, progress, rows, fairness, caught),
-                    partial(_one_pass, engine))
+    return answered(_build_steps(config, engine, progress, rows, fairness, caught), _one_pass)
 
 
 def answered(steps, answer):
@@ -445,8 +461,19 @@ def answered(steps, answer):
         return done.value
 
 
-def _one_pass(engine, ask: Ask):
-    """One pass over the rows of ``engine`` answering ``ask``."""
+def _one_pass(ask: Ask):
+    """One pass over the rows of ``ask.engine`` answering ``ask``."""
+    engine = ask.engine
+    if ask.kind == SCORES:
+        card = ask.what
+        return engine.collect(lambda chunk: tuple(getattr(apply_scorecard(card, chunk), k)
+                                                  for k in ("score", "rejected")),
+                              columns=list(card.names))
+    if ask.kind == REJECT_SCORES:
+        d = ask.what
+        return rejects.RejectScores(*engine.collect(
+            partial(rejects.score_chunk, card=d.card, **d.options), columns=d.columns),
+            member=d.member)
     if ask.kind == SUMMARY:
         kinds, sentinels = ask.what
         return engine.reduce(lambda c: column_summary(c, kinds, sentinels), merge_summaries,
@@ -487,9 +514,9 @@ def _build_steps(config, engine, progress, rows, fairness, caught):
     _say(progress, f"outcome coded: {facts.rows_read} rows{excluded}, {facts.left_out} left out")
 
     sentinels = {n: _sentinels(config, n) for n, k in kinds.items() if k == "numeric"}
-    summary = yield Ask(SUMMARY, (kinds, sentinels))
+    summary = yield Ask(SUMMARY, (kinds, sentinels), None, engine)
     layouts = _layouts(config, kinds, summary, reports)
-    counts = yield Ask(FINE, layouts, rows)
+    counts = yield Ask(FINE, layouts, rows, engine)
     extreme = _extreme_values(config, counts)
     _check_settings(config, engine, layouts, counts)
     _say(progress, f"fine classes counted for {len(layouts)} characteristics")
@@ -503,7 +530,7 @@ def _build_steps(config, engine, progress, rows, fairness, caught):
     _say(progress, f"coarse classes formed for {len(drafts)} characteristics")
 
     maps, uncounted = _uncounted(drafts, layouts)
-    tables = _bin_tables(drafts, maps, (yield Ask(BINS, uncounted, rows)), counts)
+    tables = _bin_tables(drafts, maps, (yield Ask(BINS, uncounted, rows, engine)), counts)
     for draft, table in zip(drafts, tables):
         reports[draft.name] = _binned_report(draft, table, limits, config, reports[draft.name])
     binned = [reports[draft.name].characteristic for draft in drafts]
@@ -515,7 +542,7 @@ def _build_steps(config, engine, progress, rows, fairness, caught):
     names = [c.name for c in binned]
     floored = floor_fates(names, [c.information_value for c in binned], s.min_iv, s.keep)
     candidates = [c for c in binned if c.name not in floored]
-    patterns = yield Ask(PATTERNS, candidates, rows)
+    patterns = yield Ask(PATTERNS, candidates, rows, engine)
     _say(progress, f"{len(candidates)} candidates coded into {len(patterns.codes)} distinct "
                    "patterns")
 
@@ -673,16 +700,16 @@ def _build_with_rejects(config, engine, rejects_engine, progress) -> BuildResult
         rejects_engine = LocalEngine(read_source(r.source, encoding=r.encoding,
                                                  delimiter=r.delimiter))
     try:
-        _require_rule_columns(config, rejects_engine)
+        require_rule_columns(config, rejects_engine)
         rows, caught = _outcome_facts(config, engine)
-        accepts_only = _build(config, engine, progress, rows, caught=caught)
-        return _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progress)
+        return answered(rejects_steps(config, engine, rejects_engine, progress, rows, caught),
+                        _one_pass)
     finally:
         if own:
             rejects_engine.close()
 
 
-def _require_rule_columns(config, rejects_engine) -> None:
+def require_rule_columns(config, rejects_engine) -> None:
     """The declined applications leave the inference by the rules of ``data.exclude`` too, so
     they need every column a rule reads."""
     for rule in config.data.exclude:
@@ -692,32 +719,37 @@ def _require_rule_columns(config, rejects_engine) -> None:
                              "applies to them too")
 
 
-def _accepts_histogram(engine, rows: RowFacts, card: Scorecard):
-    """Score histogram of the development accepts under ``card``."""
-    score, refused = engine.collect(
-        lambda chunk: tuple(getattr(apply_scorecard(card, chunk), k) for k in ("score", "rejected")),
-        columns=list(card.names))
+def _accepts_histogram(rows: RowFacts, card: Scorecard, scored: tuple):
+    """Score histogram of the development accepts under ``card`` (``scored``: each row's
+    score and refusal under it)."""
+    score, refused = scored
     keep = (rows.sample == DEVELOPMENT) & ~refused
     return score_histogram(score[keep], rows.label[keep], rows.weight[keep], card.min_score,
                            card.max_score)
 
 
-def _accepts_bin_counts(engine, rows: RowFacts, reports: list) -> list:
-    """The reports with each sample's counts per bin taken from the accepts alone.
+def _accepts_bin_counts(reports: list, tables: list) -> list:
+    """The reports with each sample's counts per bin taken from the accepts alone (``tables``,
+    of the reports that have counts, in order).
 
     The bins keep the counts they were fitted on (accepts plus inferred rejects); the counts by
     sample serve stability, which compares accepts with accepts.
     """
     binned = [rep for rep in reports if rep.sample_counts is not None]
-    tables = engine.reduce(bin_counts, merge_bin_counts, rows,
-                           [rep.characteristic for rep in binned],
-                           columns=[rep.name for rep in binned]) if binned else []
     counted = {rep.name: table for rep, table in zip(binned, tables)}
     return [replace(rep, sample_counts=counted[rep.name]) if rep.name in counted else rep
             for rep in reports]
 
 
-def _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progress):
+def rejects_steps(config, engine, rejects_engine, progress, rows, caught,
+                  member: np.ndarray | None = None, segment: tuple | None = None):
+    """The steps of a build with reject inference, yielding an :class:`Ask` for each pass.
+
+    ``member`` marks the declined rows of the card's segment, ``segment`` is (rule, index) of
+    that segment; the other declined rows are outside the inference, as the other segments'
+    accepts are outside every sample.
+    """
+    accepts_only = yield from _build_steps(config, engine, progress, rows, True, caught)
     r = config.rejects
     card = accepts_only.card
     candidates = [rep.name for rep in accepts_only.reports if rep.status != "not used"]
@@ -728,18 +760,19 @@ def _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progr
                          "characteristic of the data (and data.weight, rejects.known_outcome "
                          "when given)")
     d = config.data
-    rule_columns = [rule.column for rule in d.exclude]
-    scored = rejects.RejectScores(*rejects_engine.collect(
-        partial(rejects.score_chunk, card=card, weight=d.weight, known=r.known_outcome,
-                bad=d.bad, good=d.good, exclude=d.exclude),
-        columns=list(dict.fromkeys(list(card.names) + needed[len(candidates):] + rule_columns))))
-    excluded = int(np.count_nonzero(scored.caught))
-    _say(progress, f"{len(scored.score)} declined applications scored by the accepts-only card"
+    columns = list(card.names) + needed[len(candidates):] + [rule.column for rule in d.exclude]
+    columns += [segment[0].column] if segment is not None else []
+    options = {"weight": d.weight, "known": r.known_outcome, "bad": d.bad, "good": d.good,
+               "exclude": d.exclude}
+    scored = yield Ask(REJECT_SCORES, DeclinedAsk(card, options, list(dict.fromkeys(columns)),
+                                                  member, segment), None, rejects_engine)
+    held = scored.member if scored.member is not None else np.ones(len(scored.score), bool)
+    excluded = int(np.count_nonzero(held & (scored.caught > 0)))
+    _say(progress, f"{int(held.sum())} declined applications scored by the accepts-only card"
                    + (f", {excluded} excluded by data.exclude" if d.exclude else ""))
     accepts_scores = None
     if r.method == "reweighting":
-        accepts_scores = engine.collect(
-            lambda chunk: (apply_scorecard(card, chunk).score,), columns=list(card.names))[0]
+        accepts_scores = (yield Ask(SCORES, card, rows, engine))[0]
     augmentation, facts = rejects.infer(r, config.samples.seed, card.scaling, rows,
                                         accepts_scores, scored, accepts_only.histograms)
     if r.method == "none":
@@ -750,16 +783,19 @@ def _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progr
                           for key, part in zip(RowFacts._fields,
                                                (rows.label, augmentation.accepts_weight,
                                                 rows.sample))))
-        final = _build(config, AugmentedEngine(engine, rejects_engine, len(copies)), progress,
-                       both, fairness=False)
+        final = yield from _build_steps(config, AugmentedEngine(engine, rejects_engine,
+                                                                len(copies)),
+                                        progress, both, False, None)
         # The samples are the data file's (accepts); the bins and patterns hold the inferred
         # rejects too, which the Reject inference sheet accounts for.
         samples = accepts_only.samples
         # Performance is measured where outcomes are known: the development figures too come
         # from the development accepts alone, scored by the new card in one more pass.
         histograms = {**final.histograms,
-                      "development": _accepts_histogram(engine, rows, final.card)}
-        reports = _accepts_bin_counts(engine, rows, final.reports)
+                      "development": _accepts_histogram(
+                          rows, final.card, (yield Ask(SCORES, final.card, rows, engine)))}
+        binned = [rep.characteristic for rep in final.reports if rep.sample_counts is not None]
+        reports = _accepts_bin_counts(final.reports, (yield Ask(BINS, binned, rows, engine)))
         perf = {n: performance(h) for n, h in histograms.items() if n not in final.unmeasured}
         # Stability and the development distributions the model file carries compare accepts
         # with accepts, as monitoring will.
@@ -775,9 +811,9 @@ def _infer_and_rebuild(config, engine, rejects_engine, rows, accepts_only, progr
                         reports=reports, performance=perf, stability=stability,
                         fairness=compute_fairness(config, engine, rows, card))
     inference = rejects.RejectInference(
-        method=r.method, settings=r.settings(), source=str(r.source), rows=len(scored.score),
-        refused=int((scored.refused & (scored.caught == 0)).sum()), accepts_only=accepts_only,
-        known_outcome=r.known_outcome, excluded=excluded, **facts)
+        method=r.method, settings=r.settings(), source=str(r.source), rows=int(held.sum()),
+        refused=int((held & scored.refused & (scored.caught == 0)).sum()),
+        accepts_only=accepts_only, known_outcome=r.known_outcome, excluded=excluded, **facts)
     _say(progress, f"reject inference ({r.method}): rejects' bad rate "
                    f"{inference.inferred_bad_rate:.1%} against the accepts' "
                    f"{inference.accepts_bad_rate:.1%}")

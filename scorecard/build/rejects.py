@@ -57,11 +57,14 @@ class RejectScores(NamedTuple):
     refused: np.ndarray     # bool: the card refuses the row (a bin marked reject)
     known: np.ndarray       # int8 GOOD / BAD / OTHER; OTHER throughout without a known outcome
     caught: np.ndarray | None = None   # number (from 1) of the first rule met, 0 for none
+    member: np.ndarray | None = None   # bool: rows of the card's segment (None: every row)
 
     @property
     def used(self) -> np.ndarray:
-        """Rows the inference counts: no rule catches them and the card scores them."""
-        return ~self.refused if self.caught is None else ~self.refused & (self.caught == 0)
+        """Rows the inference counts: in the card's segment, no rule catches them and the card
+        scores them."""
+        used = ~self.refused if self.caught is None else ~self.refused & (self.caught == 0)
+        return used if self.member is None else used & self.member
 
 
 def score_chunk(chunk: pd.DataFrame, card, weight: str | None, known: str | None,
@@ -75,6 +78,25 @@ def score_chunk(chunk: pd.DataFrame, card, weight: str | None, known: str | None
         code_outcome(chunk[known], bad, good).label
     return (scores.score.astype(np.int64), np.asarray(w, np.float64), scores.rejected, outcome,
             first_rule(chunk, exclude))
+
+
+def score_chunk_by_segment(chunk: pd.DataFrame, cards, rule, weight: str | None,
+                           known: str | None, bad=(), good=(), exclude=()) -> tuple:
+    """:func:`score_chunk` with each row scored by its own segment's card (``rule``), and the
+    segment of each row last: one pass over the declined applications serves every card."""
+    segment = rule.codes(chunk[rule.column])
+    score = np.zeros(len(chunk), np.int64)
+    refused = np.zeros(len(chunk), bool)
+    for index, card in enumerate(cards):
+        at = np.flatnonzero(segment == index)
+        if len(at):
+            scores = apply_scorecard(card, chunk[list(card.names)].take(at))
+            score[at], refused[at] = scores.score, scores.rejected
+    w = np.ones(len(chunk)) if weight is None else row_weights(chunk[weight], weight)
+    outcome = np.full(len(chunk), OTHER, np.int8) if known is None else \
+        code_outcome(chunk[known], bad, good).label
+    return (score, np.asarray(w, np.float64), refused, outcome, first_rule(chunk, exclude),
+            segment)
 
 
 # ---- score bands -------------------------------------------------------------------------------

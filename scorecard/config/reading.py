@@ -204,7 +204,7 @@ def read_config(source: Source, root: yaml.MappingNode, base: Path, default_name
         fairness=FairnessConfig(**v.section(source, ("fairness",), top.get("fairness"),
                                            _FAIRNESS_SCHEMA)),
         grades=_read_grades(source, top.get("grades")),
-        rejects=_read_rejects(source, top.get("rejects"), base, segments),
+        rejects=_read_rejects(source, top.get("rejects"), base),
         segments=segments,
         config_file=source.file,
         key_lines=FrozenMapping((display(path), line) for path, line in source.lines.items()
@@ -390,15 +390,11 @@ _REJECTS_SCHEMA = {
 }
 
 
-def _read_rejects(source: Source, node: yaml.Node | None, base: Path,
-                  segments=None) -> RejectsConfig | None:
+def _read_rejects(source: Source, node: yaml.Node | None, base: Path) -> RejectsConfig | None:
     """The rejects section, or None when absent; a setting of another method is refused."""
     if node is None or is_null(node):
         return None
     path = ("rejects",)
-    if segments is not None:
-        source.fail(path, "cannot be given with segments yet: build each segment's card with "
-                          "its own config to infer its rejects")
     values = v.section(source, path, node, _REJECTS_SCHEMA)
     v.require(source, path, values, ("source",))
     method = values.get("method", "fuzzy")

@@ -380,9 +380,10 @@ def demo_config_text(source: str = "applications.csv") -> str:
 def segmented_config_text(source: str = "applications.csv") -> str:
     """The demo config with one card per customer segment (new, existing) instead of one card.
 
-    The same sections as :func:`demo_config_text`, except: ``segments`` on ``customer``, no
-    declined applications (reject inference runs on single cards only), and its own outputs, so
-    that ``scorecard challenge`` can put the two builds side by side.
+    The same sections as :func:`demo_config_text` (the staff exclusion and the declined
+    applications among them: each card infers the outcomes of its own segment's declined
+    applicants), plus ``segments`` on ``customer``, and its own outputs, so that ``scorecard
+    challenge`` can put the two builds side by side.
 
     Examples
     --------
@@ -390,8 +391,8 @@ def segmented_config_text(source: str = "applications.csv") -> str:
     {'new': ['new'], 'existing': ['existing']}
     """
     text = demo_config_text(source)
-    start, end = text.index("\nrejects:\n"), text.index("\nengine:")
-    text = text[:start] + _SEGMENTS_SECTION + text[end:]
+    end = text.index("\nengine:")
+    text = text[:end] + _SEGMENTS_SECTION + text[end:]
     for old, new in (("name: Cargo-bike lease applications (invented demo data)",
                       "name: Cargo-bike lease applications by customer segment (invented demo data)"),
                      ("workbook: out/scorecard.xlsx", "workbook: out/segmented.xlsx"),
@@ -407,7 +408,8 @@ segments:
   # New and existing customers differ in kind: a new customer's existing leases are held
   # elsewhere and add risk, an existing customer's are leases with us kept going and lower it.
   # One card per segment lets each find its own direction; both cards share the scaling above,
-  # so one cut-off means the same odds for new and existing customers.
+  # so one cut-off means the same odds for new and existing customers. The declined
+  # applications are split by the same column, and each card infers its own segment's.
   column: customer
   groups:
     new: [new]

@@ -18,7 +18,7 @@ import numpy as np
 import pandas as pd
 
 from scorecard.binning.fine import NumericLayout, numeric_codes, numeric_summary, regular_range
-from scorecard.card.scoring import bin_codes
+from scorecard.card.scoring import apply_scorecard, bin_codes
 from scorecard.data.coding import categorical_codes, level_labels, numeric_values
 from scorecard.data.outcome import BAD, GOOD
 from scorecard.data.samples import DEVELOPMENT, EXCLUDED
@@ -361,3 +361,23 @@ def _rows_at(frame: pd.DataFrame, drafts, at: np.ndarray) -> pd.DataFrame:
     # Only the columns the segment's characteristics read, and only its rows: each row is
     # coded once, by its own segment's bins.
     return frame[[c.name for c in drafts]].take(at)
+
+
+def scores_by_segment(frame: pd.DataFrame, rows: SegmentFacts, cards: tuple) -> tuple:
+    """Each row's score and refusal under its own segment's card (``cards[s]``, None for a
+    segment that asks no score); rows of no segment score 0."""
+    score = np.zeros(len(frame), np.int64)
+    refused = np.zeros(len(frame), bool)
+    for index, card in enumerate(cards):
+        if card is None:
+            continue
+        at = np.flatnonzero(rows.segment == index)
+        if len(at):
+            scored = apply_scorecard(card, frame[list(card.names)].take(at))
+            score[at], refused[at] = scored.score, scored.rejected
+    return score, refused
+
+
+def merge_scores(a: tuple, b: tuple) -> tuple:
+    """Per-row arrays of two neighbouring chunks, the earlier first."""
+    return tuple(np.concatenate([x, y]) for x, y in zip(a, b))

@@ -75,6 +75,10 @@ def write_segmented_workbook(result, path) -> Path:
             from scorecard.outputs.workbook.fairness_sheet import write_fairness_sheet
             write_fairness_sheet(wb.create_sheet(segment_sheet_name("Fairness", name, taken)),
                                  part.fairness)
+        if part.rejects is not None:
+            from scorecard.outputs.workbook.rejects_sheet import write_rejects_sheet
+            write_rejects_sheet(wb.create_sheet(segment_sheet_name("Reject inference", name,
+                                                                   taken)), part.rejects, part)
     wb.properties.creator = "scorecard"
     path = Path(path)
     save_book(wb, path)
