@@ -605,6 +605,37 @@ def test_each_card_with_declined_applications_is_the_card_built_alone_on_its_own
         assert result.segments[name].rejects.rows == int((member == index).sum())
 
 
+def test_the_engines_agree_on_segments_with_declined_applications(tmp_path):
+    # Invariant: one chunk, small chunks and a Dask cluster over Parquet parts of the accepts
+    # and of the declined give the same segmented model with reject inference (parcelling: its
+    # draws follow the declined rows in file order on every engine).
+    distributed = pytest.importorskip("distributed")
+    from scorecard.engines.dask_engine import DaskEngine
+
+    accepts, declined = through_the_door(5000, 24)
+    for name, frame, parts in (("accepts", accepts, 3), ("declined", declined, 2)):
+        (tmp_path / name).mkdir()
+        size = -(-len(frame) // parts)
+        for i in range(parts):
+            frame.iloc[i * size:(i + 1) * size].to_parquet(tmp_path / name / f"p{i}.parquet",
+                                                           index=False)
+    (tmp_path / "c.yaml").write_text(
+        SEGMENTED.format(data="accepts", segments=BY_GROUPS, stem="s")
+        + "rejects: {source: declined, method: parcelling, known_outcome: true_outcome}\n")
+    config = load_config(tmp_path / "c.yaml")
+    whole = build_segmented(config, LocalEngine(read_frame(tmp_path / "accepts")), None,
+                            LocalEngine(read_frame(tmp_path / "declined")))
+    chunked = build_segmented(config, LocalEngine(read_frame(tmp_path / "accepts"), chunk_rows=777),
+                              None, LocalEngine(read_frame(tmp_path / "declined"), chunk_rows=555))
+    with distributed.LocalCluster(n_workers=2, processes=True, threads_per_worker=1,
+                                  dashboard_address=":0") as cluster, \
+            DaskEngine(tmp_path / "accepts", cluster.scheduler_address) as engine, \
+            DaskEngine(tmp_path / "declined", cluster.scheduler_address) as rejects_engine:
+        on_dask = build_segmented(config, engine, None, rejects_engine)
+    for other in (chunked, on_dask):
+        assert json.loads(other.card.to_json()) == json.loads(whole.card.to_json())
+
+
 def test_declined_applications_without_a_segment_are_one_error_line(tmp_path):
     accepts, declined = through_the_door(3000, 23)
     broken = declined.copy()
