@@ -484,9 +484,11 @@ def _one_pass(ask: Ask):
     if ask.kind == BINS:
         return engine.reduce(bin_counts, merge_bin_counts, ask.rows, ask.what,
                              columns=names) if ask.what else []
-    radix = pattern_radix(ask.what)
-    return engine.reduce(coded_patterns, lambda a, c: merge_patterns(a, c, radix), ask.rows,
-                         ask.what, columns=names)
+    if ask.kind == PATTERNS:
+        radix = pattern_radix(ask.what)
+        return engine.reduce(coded_patterns, lambda a, c: merge_patterns(a, c, radix), ask.rows,
+                             ask.what, columns=names)
+    raise ValueError(f"no pass answers {ask.kind!r}")
 
 
 def _build_steps(config, engine, progress, rows, fairness, caught):

@@ -122,6 +122,12 @@ def build_segmented(config: Config, engine, progress=None,
                                                  delimiter=r.delimiter))
     try:
         return _build_segmented(config, engine, progress, rejects_engine)
+    except InputError as exc:
+        # A pass shared by every segment names the column (and row); the message gains the
+        # file it is in, as for one card.
+        if str(exc).startswith("column "):
+            raise InputError(f"{config.data.source}: {exc}") from None
+        raise
     finally:
         if own_rejects:
             rejects_engine.close()
