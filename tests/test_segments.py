@@ -669,3 +669,120 @@ def test_the_segmented_demo_shows_an_exclusion_two_segments_and_reject_inference
         staff = int(((accepts["customer"] == name) & (accepts["staff_application"] == "yes")).sum())
         assert staff > 0 and part.samples.left_out >= staff
     assert sum(p.rejects.excluded for p in result.segments.values()) > 0
+
+
+def _psi_by_pandas(baseline: pd.Series, current: pd.Series, band_labels) -> float:
+    """PSI = sum (a - e) ln(a / e) over the bands (published), shares counted by pandas."""
+    edges = [int(label.split(" to ")[0]) for label in band_labels] + [np.inf]
+    e, a = (pd.cut(x, edges, right=False).value_counts(normalize=True, sort=False).to_numpy()
+            for x in (baseline, current))
+    assert (e > 0).all() and (a > 0).all()
+    return float(((a - e) * np.log(a / e)).sum())
+
+
+def _ranking_by_libraries(frame: pd.DataFrame) -> tuple[float, float, float]:
+    """AUC by sklearn's roc_auc_score (goods scoring higher), Gini = 2 AUC - 1 (published),
+    KS by scipy's two-sample Kolmogorov-Smirnov statistic of goods' and bads' scores."""
+    from scipy.stats import ks_2samp
+    from sklearn.metrics import roc_auc_score
+
+    good = frame["outcome"] == "good"
+    auc = roc_auc_score(good, frame["score"])
+    ks = ks_2samp(frame.loc[good, "score"], frame.loc[~good, "score"]).statistic
+    return auc, 2 * auc - 1, ks
+
+
+def test_compare_gives_each_segment_its_own_score_index_and_ranking(reversed_case, tmp_path):
+    # Reference libraries: per segment, pandas over the scored files' score column gives the
+    # PSI (with the product's band starts), sklearn the AUC, scipy the KS, on the same rows.
+    from openpyxl import load_workbook
+
+    folder, _, _ = reversed_case
+    model, data, fresh = folder / "out/segmented.json", folder / "data.csv", folder / "fresh.csv"
+    result = api.compare(model, data, fresh, json_path=tmp_path / "c.json",
+                         workbook=tmp_path / "c.xlsx")
+    scored = {}
+    for name, path in (("baseline", data), ("current", fresh)):
+        api.score(model, path, tmp_path / f"{name}.csv", keep=["outcome", "customer"])
+        scored[name] = pd.read_csv(tmp_path / f"{name}.csv").dropna(subset=["score"])
+    saved = json.loads((tmp_path / "c.json").read_text())["segments"]
+    levels = {"new": ["new"], "existing": ["existing", "renewed"]}
+    for name, part in result.segments.items():
+        rows = {k: f[f["customer"].isin(levels[name])] for k, f in scored.items()}
+        psi = _psi_by_pandas(rows["baseline"]["score"], rows["current"]["score"],
+                             part.score.table["Band"])
+        assert part.score.index == pytest.approx(psi, rel=1e-9)
+        assert part.score.table["Baseline rows"].sum() == len(rows["baseline"])
+        assert len(part.score.table) == 10
+        assert saved[name]["score"]["psi"] == pytest.approx(psi, rel=1e-9)
+        for sample in ("baseline", "current"):
+            auc, gini, ks = _ranking_by_libraries(rows[sample])
+            goods, bads, d = part.performance[sample]
+            assert (d.auc, d.gini, d.ks) == pytest.approx((auc, gini, ks), rel=1e-9)
+            assert goods + bads == len(rows[sample])
+            assert saved[name]["performance"][sample]["gini"] == pytest.approx(gini, rel=1e-9)
+    # The segments differ in kind, so neither segment's ranking equals the pooled one.
+    pooled = result.performance["current"].discrimination.auc
+    assert all(abs(p.performance["current"][2].auc - pooled) > 1e-3
+               for p in result.segments.values())
+    sheet = load_workbook(tmp_path / "c.xlsx")["By segment"]
+    cells = list(sheet.iter_rows(values_only=True))
+    header = cells[0]
+    for row in cells[1:3]:
+        part = result.segments[row[0]]
+        assert row[header.index("Score stability index")] == pytest.approx(part.score.index)
+        assert row[header.index("Current Gini")] == pytest.approx(
+            part.performance["current"][2].gini)
+    assert "segment new:" in result.text() and "current AUC" in result.text()
+
+
+def test_monitor_gives_each_segment_its_own_score_index_and_ranking(reversed_case, tmp_path):
+    # Reference libraries: per period and segment, pandas gives the PSI against that segment's
+    # rows of the baseline file, sklearn the Gini, scipy the KS, on the same rows.
+    from openpyxl import load_workbook
+
+    folder, _, segmented = reversed_case
+    model, data = folder / "out/segmented.json", folder / "data.csv"
+    rows = pd.read_csv(folder / "fresh.csv")
+    rows["on"] = np.where(rows["id"] < 1500, "2026-01-15", "2026-02-15")
+    rows.to_csv(tmp_path / "dated.csv", index=False)
+    result = api.monitor(model, tmp_path / "dated.csv", "on", baseline=data,
+                         json_path=tmp_path / "m.json", workbook=tmp_path / "m.xlsx")
+    api.score(model, tmp_path / "dated.csv", tmp_path / "s.csv", keep=["outcome", "customer", "on"])
+    api.score(model, data, tmp_path / "b.csv", keep=["customer"])
+    scored, base = pd.read_csv(tmp_path / "s.csv"), pd.read_csv(tmp_path / "b.csv")
+    levels = {"new": ["new"], "existing": ["existing", "renewed"]}
+    saved = json.loads((tmp_path / "m.json").read_text())
+    for p, on, kept in zip(result.periods, ("2026-01-15", "2026-02-15"), saved["periods"]):
+        for name, part in p.segments.items():
+            mine = scored[(scored["on"] == on) & scored["customer"].isin(levels[name])]
+            psi = _psi_by_pandas(base.loc[base["customer"].isin(levels[name]), "score"],
+                                 mine["score"], part.score.table["Band"])
+            assert part.rows == len(mine)
+            assert part.score.index == pytest.approx(psi, rel=1e-9)
+            _, gini, ks = _ranking_by_libraries(mine)
+            assert (part.outcomes.gini, part.outcomes.ks) == pytest.approx((gini, ks), rel=1e-9)
+            assert kept["segments"][name]["gini"] == pytest.approx(gini, rel=1e-9)
+    # The stored baseline: each segment against its own card's development counts, and each
+    # card's own holdout Gini in the development summary.
+    stored = api.monitor(model, tmp_path / "dated.csv", "on")
+    for name, part in segmented.segments.items():
+        dev = part.card.development
+        assert stored.periods[0].segments[name].score.table["Baseline rows"].sum() == \
+            pytest.approx(sum(dev.score_goods) + sum(dev.score_bads))
+        assert stored.development["segments"][name]["gini"] == dev.performance["holdout"]["gini"]
+    # Invariant: counted in small chunks, the per-segment counts merge to the same figures.
+    from scorecard.evaluation.monitoring import monitor
+
+    chunked = monitor(model, tmp_path / "dated.csv", "on", baseline=data,
+                      engine=LocalEngine(read_frame(tmp_path / "dated.csv"), chunk_rows=700))
+    assert [{n: (s.rows, s.score.index, s.outcomes) for n, s in p.segments.items()}
+            for p in chunked.periods] == \
+        [{n: (s.rows, s.score.index, s.outcomes) for n, s in p.segments.items()}
+         for p in result.periods]
+    cells = list(load_workbook(tmp_path / "m.xlsx")["By segment"].iter_rows(values_only=True))
+    header = cells[0]
+    assert [(r[0], r[1]) for r in cells[1:7]] == [
+        (n, p) for n in ("new", "existing") for p in ("development", "2026-01", "2026-02")]
+    assert cells[2][header.index("Score PSI")] == pytest.approx(
+        result.periods[0].segments["new"].score.index)

@@ -28,7 +28,10 @@ current sample's Hosmer-Lemeshow p-value is at least 0.05.
 A segmented model scores each row with its segment's card on one scale, so the score's index,
 the ranking and the calibration are those of the pooled scores of every segment; each card's
 characteristics are compared on its own segment's rows, named ``<characteristic> (<segment>)``
-(:mod:`scorecard.evaluation.segment_counts`).
+(:mod:`scorecard.evaluation.segment_counts`). Beside the pooled figures, each segment gets its
+own score index (bands cut at that segment's baseline score quantiles, so a segment that only
+grows or shrinks in the mix does not move its own index) and its own AUC, Gini and KS in each
+file that holds the outcome (:class:`SegmentComparison`).
 """
 
 from __future__ import annotations
@@ -121,6 +124,41 @@ class SamplePerformance(NamedTuple):
     attributes: pd.DataFrame
 
 
+class SegmentComparison(NamedTuple):
+    """One segment of a segmented model, on that segment's rows alone.
+
+    Attributes
+    ----------
+    rows : dict
+        ``{'baseline': N, 'current': M}`` rows the segment takes in each file.
+    characteristics : list of str
+        Its card's characteristics under their pooled names.
+    score : IndexResult or None
+        The score's index over bands cut at the segment's baseline score quantiles; None when
+        either file has no scored row in the segment.
+    performance : dict
+        ``'baseline'`` / ``'current'`` -> (goods, bads, Discrimination or None) for the files
+        with an outcome; None where the segment lacks goods or bads.
+    """
+
+    rows: dict
+    characteristics: list
+    score: IndexResult | None
+    performance: dict
+
+    def to_dict(self) -> dict:
+        s = self.score
+        return {"rows": dict(self.rows), "characteristics": list(self.characteristics),
+                "score": None if s is None else {
+                    "psi": s.index, "status": s.status, "critical_value": s.critical_value,
+                    "beyond_chance": s.beyond_chance},
+                "performance": {sample: {"goods": goods, "bads": bads,
+                                         "auc": None if d is None else d.auc,
+                                         "gini": None if d is None else d.gini,
+                                         "ks": None if d is None else d.ks}
+                                for sample, (goods, bads, d) in self.performance.items()}}
+
+
 class Comparison(NamedTuple):
     """Stability and performance of a scorecard between a baseline and a current file.
 
@@ -144,6 +182,8 @@ class Comparison(NamedTuple):
         The verdicts of the module docstring; None when they cannot be assessed.
     watch, shift : float
         The status cut-offs used.
+    segments : dict
+        Segment name -> :class:`SegmentComparison` under a segmented model; empty for one card.
     """
 
     model: str
@@ -191,7 +231,8 @@ class Comparison(NamedTuple):
             "ranking_held": self.ranking_held,
             "calibration_held": self.calibration_held,
             "performance": {name: _performance_dict(p) for name, p in self.performance.items()},
-            **({"segments": self.segments} if self.segments else {}),
+            **({"segments": {name: part.to_dict() for name, part in self.segments.items()}}
+               if self.segments else {}),
         }
 
     def to_json(self) -> str:
@@ -213,9 +254,18 @@ class Comparison(NamedTuple):
         lines.append(f"ranking {_verdict(self.ranking_held)}, "
                      f"calibration {_verdict(self.calibration_held)}")
         for name, part in self.segments.items():
-            lines.append(f"segment {name}: {part['rows'][BASELINE]} -> {part['rows'][CURRENT]} "
-                         f"rows; characteristics scored by its own card, named '<name> ({name})'")
+            lines.append(_segment_line(name, part))
         return "\n".join(lines)
+
+
+def _segment_line(name: str, part: SegmentComparison) -> str:
+    line = (f"segment {name}: {part.rows[BASELINE]} -> {part.rows[CURRENT]} rows; score index "
+            + ("not assessed" if part.score is None
+               else f"{part.score.index:.4f} {part.score.status}"))
+    for sample, (_, _, d) in part.performance.items():
+        if d is not None:
+            line += f"; {sample} AUC {d.auc:.4f}, Gini {d.gini:.4f}, KS {d.ks:.4f}"
+    return line + f"; characteristics scored by its own card, named '<name> ({name})'"
 
 
 def _verdict(held: bool | None) -> str:
@@ -259,18 +309,21 @@ def _finite(value):
 
 
 def _count_file(card, path, frame: pd.DataFrame) -> tuple[_FileCounts, dict]:
-    """Score ``frame`` once and keep only counts; with them the rows of each segment of a
-    segmented model (empty for one card)."""
+    """Score ``frame`` once and keep only counts; with them, under a segmented model, each
+    segment's counts by its own card (empty for one card)."""
     require_characteristics(card, path, frame)
     label = outcome_labels(card, frame)
     try:
         if isinstance(card, SegmentedScorecard):
-            counts, rows = count_segments(card, frame, label)
+            counted = count_segments(card, frame, label)
+            counts = counted.pooled
+            parts = {name: counts_of_group(part, 0, str(path))
+                     for name, part in counted.segments.items()}
         else:
-            counts, rows = count_groups(card, frame, label=label), {}
+            counts, parts = count_groups(card, frame, label=label), {}
     except InputError as exc:
         raise InputError(f"{path}: {exc}") from None
-    return counts_of_group(counts, 0, str(path)), rows
+    return counts_of_group(counts, 0, str(path)), parts
 
 
 def counts_of_group(counts: GroupCounts, i: int, path: str) -> _FileCounts:
@@ -289,12 +342,18 @@ def _band_sums(values: np.ndarray, index: np.ndarray, n_bands: int) -> np.ndarra
     return np.bincount(index, weights=values, minlength=n_bands)
 
 
-def _stability(card, base: _FileCounts, cur: _FileCounts, starts, watch, shift):
+def score_index(card, base: _FileCounts, cur: _FileCounts, starts, watch, shift) -> IndexResult:
+    """The score's stability index from ``base`` to ``cur`` over the bands starting at
+    ``starts``."""
     index = np.searchsorted(starts, np.arange(card.min_score, card.max_score + 1), "right") - 1
     n = len(starts)
-    score = score_stability(_band_sums(base.score_rows, index, n),
-                            _band_sums(cur.score_rows, index, n),
-                            band_labels(starts, card.max_score), watch=watch, shift=shift)
+    return score_stability(_band_sums(base.score_rows, index, n),
+                           _band_sums(cur.score_rows, index, n),
+                           band_labels(starts, card.max_score), watch=watch, shift=shift)
+
+
+def _stability(card, base: _FileCounts, cur: _FileCounts, starts, watch, shift):
+    score = score_index(card, base, cur, starts, watch, shift)
     chars = tuple(characteristic_stability(c, b, m, watch=watch, shift=shift)
                   for c, b, m in zip(card.characteristics, base.bin_rows, cur.bin_rows))
     return StabilityComparison(base.path, cur.path, score, chars)
@@ -510,12 +569,32 @@ def compare(model_path, baseline_path, current_path, *, bands=None, watch=None,
         ranking_held=_ranking_held(performance),
         calibration_held=_calibration_held(performance),
         watch=watch, shift=shift,
-        segments=_segments(model, base_segments, cur_segments))
+        segments=_segments(model, base_segments, cur_segments, bands, watch, shift))
 
 
-def _segments(model, base: dict, cur: dict) -> dict:
-    """Per segment: its rows in each file and its characteristics' pooled names."""
-    return {name: {"rows": {BASELINE: base[name], CURRENT: cur[name]},
-                   "characteristics": [segment_label(c, name)
-                                       for c in model.segments[name].names]}
-            for name in base}
+def _segments(model, base: dict, cur: dict, bands: int, watch, shift) -> dict:
+    """Per segment: its rows in each file, its characteristics' pooled names, its own score
+    index and each file's AUC, Gini and KS on its rows alone."""
+    out = {}
+    for name, b in base.items():
+        card, c = model.segments[name], cur[name]
+        score = None
+        if b.score_rows.sum() > 0 and c.score_rows.sum() > 0:
+            starts = band_edges(ScoreHistogram(card.min_score, b.score_rows,
+                                               np.zeros_like(b.score_rows)), bands)
+            score = score_index(card, b, c, starts, watch, shift)
+        out[name] = SegmentComparison(
+            {BASELINE: b.rows, CURRENT: c.rows},
+            [segment_label(n, name) for n in card.names], score,
+            {sample: ranking_of(counts) for sample, counts in ((BASELINE, b), (CURRENT, c))
+             if counts.score_goods is not None})
+    return out
+
+
+def ranking_of(counts: _FileCounts) -> tuple:
+    """(goods, bads, AUC/Gini/KS) of the scored rows with an outcome; the measures are None
+    without both goods and bads."""
+    goods, bads = counts.score_goods.sum(), counts.score_bads.sum()
+    ranked = discrimination(counts.score_goods, counts.score_bads) \
+        if goods > 0 and bads > 0 else None
+    return int(goods), int(bads), ranked

@@ -21,7 +21,12 @@ A segmented model is monitored as ``compare`` compares it: the score's measures 
 scores of every segment, each card's characteristics on its own segment's rows, named
 ``<characteristic> (<segment>)``. Its stored development baseline is every card's development
 counts pooled; the development AUC, Gini and KS are per card and do not pool, so the
-development summary leaves them out.
+development summary leaves them out. Beside the pooled figures every period gets each
+segment's own (:class:`SegmentPeriod`): its rows, its score index against that segment's
+baseline (bands cut at its own baseline deciles; its card's development counts, or its rows of
+the baseline file), and Gini and KS with intervals where the segment has ``min_bads`` goods
+and bads; the development summary gets each card's own holdout Gini and KS. The period's
+status stays that of the pooled score and the characteristics.
 """
 
 from __future__ import annotations
@@ -46,10 +51,16 @@ from scorecard.evaluation.comparison import (
     _stability,
     check_band_options,
     counts_of_group,
+    score_index,
 )
 from scorecard.evaluation.group_counts import GroupCounts, count_groups
 from scorecard.evaluation.scored_rows import outcome_labels, read_rows
-from scorecard.evaluation.segment_counts import count_segments, pooled_card
+from scorecard.evaluation.segment_counts import (
+    SegmentCounts,
+    count_segments,
+    merge_segment_counts,
+    pooled_card,
+)
 from scorecard.evaluation.histograms import ScoreHistogram, band_edges
 from scorecard.evaluation.stability import IndexResult
 from scorecard.measures.ranking import gini_interval, ks_interval
@@ -94,14 +105,14 @@ def period_label(key: int, every: str) -> str:
     return f"{1970 + key // 12}-{key % 12 + 1:02d}"
 
 
-def period_counts(frame: pd.DataFrame, card: Scorecard, column: str, every: str) -> GroupCounts:
+def period_counts(frame: pd.DataFrame, card: Scorecard, column: str, every: str):
     """The pass of ``monitor`` over one chunk of rows: counts per period (see the module).
 
-    Under a segmented model each row is counted with its segment's card
-    (:func:`~scorecard.evaluation.segment_counts.count_segments`)."""
+    Under a segmented model each row is counted with its segment's card, and the result is a
+    :class:`~scorecard.evaluation.segment_counts.SegmentCounts` (pooled and per segment)."""
     keys = period_keys(frame[column], column, every)
     if isinstance(card, SegmentedScorecard):
-        return count_segments(card, frame, outcome_labels(card, frame), keys).pooled
+        return count_segments(card, frame, outcome_labels(card, frame), keys)
     return count_groups(card, frame, keys, outcome_labels(card, frame))
 
 
@@ -118,6 +129,31 @@ class Outcomes(NamedTuple):
     ks: float
     ks_low: float
     ks_high: float
+
+
+class SegmentPeriod(NamedTuple):
+    """One segment of a segmented model in one period, against that segment's baseline.
+
+    ``score`` is None where the period's segment has no scored row; ``outcomes`` as in
+    :class:`PeriodResult`.
+    """
+
+    rows: int
+    rejected: int
+    mean_score: float
+    score: IndexResult | None
+    outcome_rows: int
+    outcomes: Outcomes | None
+
+    def to_dict(self) -> dict:
+        s, o = self.score, self.outcomes
+        return {"rows": self.rows, "rejected": self.rejected, "mean_score": self.mean_score,
+                "score": None if s is None else {
+                    "psi": s.index, "status": s.status, "critical_value": s.critical_value,
+                    "beyond_chance": s.beyond_chance},
+                "gini": None if o is None else o.gini, "ks": None if o is None else o.ks,
+                "outcome_rows": self.outcome_rows,
+                "outcomes": None if o is None else o._asdict()}
 
 
 class PeriodResult(NamedTuple):
@@ -138,6 +174,7 @@ class PeriodResult(NamedTuple):
     expected_bad_rate: float
     outcome_rows: int
     outcomes: Outcomes | None
+    segments: dict = {}     # segment name -> SegmentPeriod, under a segmented model
 
     @property
     def status(self) -> str:
@@ -243,6 +280,8 @@ def _period_dict(p: PeriodResult) -> dict:
         "approval_rate": p.approval_rate, "expected_bad_rate": p.expected_bad_rate,
         "outcome_rows": p.outcome_rows,
         "outcomes": None if o is None else o._asdict(),
+        **({"segments": {name: part.to_dict() for name, part in p.segments.items()}}
+           if p.segments else {}),
     }
 
 
@@ -324,8 +363,9 @@ def _check_options(every, bands, watch, shift, min_bads, cutoff, level):
         raise InputError(f"level: must lie strictly between 0 and 1, got {level!r}")
 
 
-def count_periods(card: Scorecard, data, column: str, every: str, engine=None) -> GroupCounts:
-    """Counts of ``data`` per period, from one pass on ``engine`` (default: a local engine).
+def count_periods(card: Scorecard, data, column: str, every: str, engine=None):
+    """Counts of ``data`` per period, from one pass on ``engine`` (default: a local engine):
+    GroupCounts, or SegmentCounts under a segmented model.
 
     The local engine reads only the columns the pass needs and runs it in chunks; a Dask
     engine (:class:`scorecard.engines.dask_engine.DaskEngine`) runs it on every partition of a
@@ -365,7 +405,10 @@ def count_periods(card: Scorecard, data, column: str, every: str, engine=None) -
             engine.close()
 
 
-def merge_periods(a: GroupCounts, b: GroupCounts) -> GroupCounts:
+def merge_periods(a, b):
+    """Counts of two chunks as one: GroupCounts, or SegmentCounts under a segmented model."""
+    if isinstance(a, SegmentCounts):
+        return merge_segment_counts(a, b)
     from scorecard.evaluation.group_counts import merge_group_counts
     return merge_group_counts(a, b)
 
@@ -468,8 +511,10 @@ def monitor(model_path, data_path, period, *, every=MONTH, baseline=None, cutoff
     if baseline is None:
         base = baseline_from_model(card, str(model_path))
         baseline_name = base.path
+        base_parts = {name: baseline_from_model(c, str(model_path))
+                      for name, c in getattr(model, "segments", {}).items()}
     else:
-        base = _count_file(model, baseline, read_rows(baseline))[0]
+        base, base_parts = _count_file(model, baseline, read_rows(baseline))
         baseline_name = str(baseline)
     if base.score_rows.sum() == 0:
         raise InputError(f"{baseline_name}: the scorecard refuses every row, so there are no "
@@ -477,6 +522,12 @@ def monitor(model_path, data_path, period, *, every=MONTH, baseline=None, cutoff
     starts = band_edges(ScoreHistogram(card.min_score, base.score_rows,
                                        np.zeros_like(base.score_rows)), bands)
     counts = count_periods(model, data_path, period, every, engine)
+    parts = {}
+    if isinstance(counts, SegmentCounts):
+        counts, parts = counts.pooled, counts.segments
+    own_starts = {name: band_edges(ScoreHistogram(model.segments[name].min_score, b.score_rows,
+                                                  np.zeros_like(b.score_rows)), bands)
+                  for name, b in base_parts.items() if b.score_rows.sum() > 0}
     periods = []
     for i, key in enumerate(counts.groups):
         label = period_label(int(key), every)
@@ -491,7 +542,30 @@ def monitor(model_path, data_path, period, *, every=MONTH, baseline=None, cutoff
             label, cur.rows, cur.rejected, _scored_mean(card, cur.score_rows), stability.score,
             stability.characteristics, _approval(card, cur.score_rows, cur.rows, cutoff),
             _expected_bad_rate(card, cur.score_rows), labelled,
-            _outcomes(card, cur, min_bads, level)))
+            _outcomes(card, cur, min_bads, level),
+            {name: _segment_period(model.segments[name], base_parts[name],
+                                   _group(part, key, label), own_starts.get(name), watch, shift,
+                                   min_bads, level)
+             for name, part in parts.items()}))
+    development = _development_summary(card, base, cutoff)
+    if base_parts:
+        development["segments"] = {name: _development_summary(model.segments[name], b, cutoff)
+                                   for name, b in base_parts.items()}
     return Monitoring(str(model_path), str(data_path), period, every, baseline_name, cutoff,
-                      min_bads, watch, shift, _development_summary(card, base, cutoff),
-                      tuple(periods))
+                      min_bads, watch, shift, development, tuple(periods))
+
+
+def _group(counts: GroupCounts, key, label: str) -> _FileCounts:
+    """The counts of the group ``key`` (every group of a pass is present in each segment's)."""
+    return counts_of_group(counts, int(np.searchsorted(counts.groups, key)), label)
+
+
+def _segment_period(card, base: _FileCounts, cur: _FileCounts, starts, watch, shift,
+                    min_bads: int, level: float) -> SegmentPeriod:
+    """One segment's period against its own baseline (see the module docstring)."""
+    scored = cur.score_rows.sum() > 0 and starts is not None
+    labelled = 0 if cur.score_goods is None else int(cur.score_goods.sum()
+                                                     + cur.score_bads.sum())
+    return SegmentPeriod(cur.rows, cur.rejected, _scored_mean(card, cur.score_rows),
+                         score_index(card, base, cur, starts, watch, shift) if scored else None,
+                         labelled, _outcomes(card, cur, min_bads, level))

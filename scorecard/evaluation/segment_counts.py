@@ -22,7 +22,7 @@ from scorecard.card.scorecard import Development
 from scorecard.card.scoring import UnusualValues
 from scorecard.card.segmented import SegmentedScorecard
 from scorecard.data.outcome import OTHER
-from scorecard.evaluation.group_counts import GroupCounts, count_groups
+from scorecard.evaluation.group_counts import GroupCounts, count_groups, merge_group_counts
 
 
 def segment_label(characteristic: str, segment: str) -> str:
@@ -89,10 +89,15 @@ class SegmentCounts(NamedTuple):
         characteristics in :class:`PooledCard` order; unusual values under the pooled names.
     rows : dict
         Segment name -> rows of the file that segment takes.
+    segments : dict
+        Segment name -> that segment's rows counted with its own card alone (scores from the
+        card's own lowest score, its own bins), on the groups of ``pooled``: what each
+        segment's score measures read.
     """
 
     pooled: GroupCounts
     rows: dict
+    segments: dict = {}
 
 
 def count_segments(model: SegmentedScorecard, frame: pd.DataFrame,
@@ -129,7 +134,7 @@ def count_segments(model: SegmentedScorecard, frame: pd.DataFrame,
     outcome = label is not None
     score = {part: np.zeros((g, width)) for part in ("rows", "goods", "bads")}
     bins = {part: [] for part in ("rows", "goods", "bads")}
-    unusual, rows = {}, {}
+    unusual, rows, own = {}, {}, {}
     # Rows no segment takes: refused by the model, so in no score and no bin.
     lost = segment < 0
     rejected = np.bincount(index[lost], minlength=g).astype(float)
@@ -156,12 +161,39 @@ def count_segments(model: SegmentedScorecard, frame: pd.DataFrame,
         unusual.update({segment_label(k, name): v for k, v in counts.unusual.items()})
         rejected[at] += counts.rejected
         left_out[at] += counts.left_out
+        own[name] = spread_groups(counts, groups)
     pooled = GroupCounts(
         groups, np.bincount(index, minlength=g).astype(float), rejected, left_out,
         score["rows"], score["goods"] if outcome else None, score["bads"] if outcome else None,
         bins["rows"], bins["goods"] if outcome else None, bins["bads"] if outcome else None,
         unusual)
-    return SegmentCounts(pooled, rows)
+    return SegmentCounts(pooled, rows, own)
+
+
+def merge_segment_counts(a: SegmentCounts, b: SegmentCounts) -> SegmentCounts:
+    """The counts of two chunks of rows as one (groups are the union of both)."""
+    return SegmentCounts(merge_group_counts(a.pooled, b.pooled),
+                         {k: a.rows[k] + b.rows[k] for k in a.rows},
+                         {k: merge_group_counts(a.segments[k], b.segments[k])
+                          for k in a.segments})
+
+
+def spread_groups(counts: GroupCounts, groups: np.ndarray) -> GroupCounts:
+    """``counts`` on the groups ``groups`` (a superset of its own), zero where it had none."""
+    g = len(groups)
+
+    def zeros(table):
+        return None if table is None else np.zeros((g,) + table.shape[1:])
+
+    def zeros_each(tables):
+        return None if tables is None else [zeros(t) for t in tables]
+
+    blank = GroupCounts(groups, np.zeros(g), np.zeros(g), np.zeros(g),
+                        zeros(counts.score_rows), zeros(counts.score_goods),
+                        zeros(counts.score_bads), zeros_each(counts.bin_rows),
+                        zeros_each(counts.bin_goods), zeros_each(counts.bin_bads),
+                        {k: type(v)(*(0 for _ in v)) for k, v in counts.unusual.items()})
+    return merge_group_counts(counts, blank)
 
 
 def _count_card(card, frame: pd.DataFrame, label, keys) -> GroupCounts:

@@ -1,8 +1,9 @@
 """The validator's workbook of ``scorecard compare``: what moved, and does the scorecard hold?
 
 Sheets, in order: Summary (the caution, the findings in sentences, every index), Score
-stability, Characteristic stability, Performance. Every finding is written in words, so that
-nothing rests on colour.
+stability, Characteristic stability, Performance, and By segment under a segmented model (each
+segment's rows, own score index and AUC, Gini and KS). Every finding is written in words, so
+that nothing rests on colour.
 """
 
 from __future__ import annotations
@@ -29,7 +30,7 @@ from scorecard.outputs.workbook.tables import (
     write_table,
 )
 
-SHEETS = ("Summary", "Score stability", "Characteristic stability", "Performance")
+SHEETS = ("Summary", "Score stability", "Characteristic stability", "Performance", "By segment")
 INDEX = "0.0000"
 P_VALUE = "0.0000"
 # The caution spans the width of the index table, so it reads as one paragraph above it.
@@ -74,6 +75,8 @@ def write_compare_workbook(comparison: Comparison, path) -> None:
     _write_score_sheet(book.create_sheet(SHEETS[1]), comparison)
     _write_characteristic_sheet(book.create_sheet(SHEETS[2]), comparison)
     _write_performance_sheet(book.create_sheet(SHEETS[3]), comparison)
+    if comparison.segments:
+        _write_segments_sheet(book.create_sheet(SHEETS[4]), comparison)
     save_book(book, path)
 
 
@@ -309,3 +312,40 @@ def _write_sample_tables(ws: Worksheet, p: SamplePerformance, row: int) -> int:
                                   "Bads": style.COUNT, "Bad rate": style.PERCENT,
                                   "Weight of evidence": style.SIGNED_WOE})
     return row
+
+
+def segments_frame(comparison: Comparison) -> pd.DataFrame:
+    """Per segment: rows in each file, its own score index, and each file's AUC, Gini and KS
+    on the segment's rows alone (blank where the file has no outcome or the segment lacks
+    goods or bads)."""
+    records = []
+    for name, part in comparison.segments.items():
+        s = part.score
+        record = {"Segment": name, "Baseline rows": part.rows[BASELINE],
+                  "Current rows": part.rows[CURRENT],
+                  "Score stability index": None if s is None else s.index,
+                  "Status": "not assessed" if s is None else s.status,
+                  "Critical value (95%)": None if s is None else s.critical_value}
+        for sample in (BASELINE, CURRENT):
+            d = part.performance.get(sample, (0, 0, None))[2]
+            for measure in ("auc", "gini", "ks"):
+                heading = f"{sample.capitalize()} {'Gini' if measure == 'gini' else measure.upper()}"
+                record[heading] = None if d is None else getattr(d, measure)
+        records.append(record)
+    return pd.DataFrame.from_records(records)
+
+
+def _write_segments_sheet(ws: Worksheet, comparison: Comparison) -> None:
+    table = segments_frame(comparison)
+    header, last = write_table(ws, table, formats={
+        "Baseline rows": style.COUNT, "Current rows": style.COUNT,
+        "Score stability index": INDEX, "Critical value (95%)": INDEX,
+        **{c: style.MEASURE for c in table.columns if c.split(" ")[-1] in ("AUC", "Gini", "KS")}})
+    finish_table_sheet(ws, header, last, len(table.columns))
+    _note_below(ws, last + 2, [
+        "Each segment's rows alone, scored by its own card; the Summary's figures pool every "
+        "segment (one scale).",
+        "Score stability index: bands cut at the segment's own baseline score quantiles, so a "
+        "segment that only grows or shrinks in the mix keeps its own index.",
+        "AUC, Gini and KS: blank where the file has no outcome column or the segment lacks "
+        "goods or bads."])

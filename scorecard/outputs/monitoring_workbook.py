@@ -2,7 +2,9 @@
 
 Sheets, in order: Periods (the period-by-index table with its statuses, then the caution and
 line charts of the score's stability index and the Gini over the periods), Characteristic
-stability (characteristic by period: the index, then its status in words). A status is always
+stability (characteristic by period: the index, then its status in words), and By segment
+under a segmented model (each segment's development row and periods: rows, own score index,
+Gini and KS). A status is always
 written as a word; its fill only repeats it.
 """
 
@@ -20,7 +22,7 @@ from scorecard.outputs.workbook import style
 from scorecard.outputs.workbook.charts import Plotted, line_chart
 from scorecard.outputs.workbook.tables import finish_table_sheet, set_print_layout, write_table
 
-SHEETS = ("Periods", "Characteristic stability")
+SHEETS = ("Periods", "Characteristic stability", "By segment")
 INDEX = "0.0000"
 SCORE = "0.0"
 # Watch takes the light warm tint of higher risk; shift a deeper one of the same hue.
@@ -62,6 +64,8 @@ def write_monitoring_workbook(result: Monitoring, path) -> None:
     periods.title = SHEETS[0]
     _write_periods(periods, result)
     _write_characteristics(book.create_sheet(SHEETS[1]), result)
+    if result.periods[0].segments:
+        _write_segments(book.create_sheet(SHEETS[2]), result)
     save_book(book, path)
 
 
@@ -150,3 +154,45 @@ def _write_characteristics(ws: Worksheet, result: Monitoring) -> None:
         _colour_statuses(ws, j, s_header + 1, s_last)
     finish_table_sheet(ws, header, last, len(index.columns))
     set_print_layout(ws, repeat_rows=f"{header}:{header}")
+
+
+def segments_frame(result: Monitoring) -> pd.DataFrame:
+    """Segment by period: each segment's development row, then its periods."""
+    records = []
+    for name, dev in result.development.get("segments", {}).items():
+        records.append({"Segment": name, "Period": "development", "Rows": dev["rows"],
+                        "Refused": None, "Mean score": dev["mean_score"], "Score PSI": None,
+                        "Score status": "", "Critical value": None, "Gini": dev["gini"],
+                        "Gini low": None, "Gini high": None, "KS": dev["ks"], "KS low": None,
+                        "KS high": None})
+        for p in result.periods:
+            part = p.segments[name]
+            s, o = part.score, part.outcomes
+            records.append({
+                "Segment": name, "Period": p.period, "Rows": part.rows,
+                "Refused": part.rejected, "Mean score": part.mean_score,
+                "Score PSI": None if s is None else s.index,
+                "Score status": "not assessed" if s is None else s.status,
+                "Critical value": None if s is None else s.critical_value,
+                **{k: None if o is None else getattr(o, f) for k, f in (
+                    ("Gini", "gini"), ("Gini low", "gini_low"), ("Gini high", "gini_high"),
+                    ("KS", "ks"), ("KS low", "ks_low"), ("KS high", "ks_high"))}})
+    return pd.DataFrame.from_records(records)
+
+
+def _write_segments(ws: Worksheet, result: Monitoring) -> None:
+    table = segments_frame(result)
+    header, last = write_table(ws, table, formats={k: v for k, v in _FORMATS.items()
+                                                   if k in table.columns})
+    _colour_statuses(ws, list(table.columns).index("Score status") + 1, header + 1, last)
+    finish_table_sheet(ws, header, last, len(table.columns))
+    notes = [
+        "Each segment's rows alone, scored by its own card; the Periods sheet pools every "
+        "segment (one scale).",
+        "Score PSI: against the segment's own baseline (its card's development counts, or its "
+        "rows of the baseline file), over bands cut at that baseline's deciles.",
+        f"Gini and KS only where the segment has at least {result.min_bads} goods and "
+        f"{result.min_bads} bads in the period; the development rows show each card's holdout "
+        "figures."]
+    for row, text in enumerate(notes, start=last + 2):
+        ws.cell(row, 1, text).font = style.NOTE_FONT
