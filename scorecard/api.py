@@ -246,13 +246,16 @@ def challenge(champion, challenger, data, *, approval_rate=None, json_path=None,
 def diff(old_model, new_model, *, json_path=None):
     """What changed from the model file ``old_model`` to ``new_model``; JSON written if asked.
 
-    Returns the :class:`~scorecard.evaluation.model_diff.ModelDiff`.
+    Two single cards give a :class:`~scorecard.evaluation.model_diff.ModelDiff`, two segmented
+    models a :class:`~scorecard.evaluation.model_diff.SegmentedDiff` (cards matched by segment
+    name); one of each is refused with an InputError.
     """
-    from scorecard.card.segmented import load_single_card
-    from scorecard.evaluation.model_diff import diff_scorecards
+    from scorecard.card.segmented import load_model
+    from scorecard.evaluation.model_diff import diff_models
     outputs = check_outputs(_report_outputs(json_path, None),
                             {"the older model": old_model, "the newer model": new_model})
-    result = diff_scorecards(load_single_card(old_model, "diff"), load_single_card(new_model, "diff"))
+    result = diff_models(load_model(old_model), load_model(new_model), str(old_model),
+                         str(new_model))
     _write_report(outputs, result, None)
     return result
 

@@ -111,15 +111,20 @@ def _print_summary(result) -> None:
         click.echo(f"left out ({len(dropped)}):")
         for r in dropped:
             click.echo(f"  {r.name}: {r.status} at {r.stage}: {r.reason}")
-    if isinstance(result.previous, type(card)):
-        from scorecard.evaluation.model_diff import diff_scorecards
-        changes = diff_scorecards(result.previous, card)
+    _print_changes(result)
+    for kind, path in result.outputs.items():
+        click.echo(f"  {kind}: {path}")
+
+
+def _print_changes(result) -> None:
+    """What changed against the model file the build replaced, when it is of the same kind."""
+    if isinstance(result.previous, type(result.card)):
+        from scorecard.evaluation.model_diff import diff_models
+        changes = diff_models(result.previous, result.card)
         click.echo(f"against the model file it replaced: {'no changes' if changes.empty else ''}"
                    .rstrip())
         for line in changes.lines():
             click.echo(f"  {line}")
-    for kind, path in result.outputs.items():
-        click.echo(f"  {kind}: {path}")
 
 
 def _print_segments(result) -> None:
@@ -130,6 +135,7 @@ def _print_segments(result) -> None:
     shown = {c: "{:,.0f}".format for c in ("Rows", "Goods", "Bads", "Characteristics")}
     click.echo(table.to_string(index=False, na_rep="", float_format="{:.4f}".format,
                                formatters=shown))
+    _print_changes(result)
     for kind, path in result.outputs.items():
         click.echo(f"  {kind}: {path}")
 

@@ -319,10 +319,6 @@ def test_reports_on_a_segmented_model(reversed_case, tmp_path):
     model, fresh = folder / "out/segmented.json", folder / "fresh.csv"
     strategy = api.strategy(model, fresh)
     assert strategy.rows == 4000 and strategy.table["approval_rate"].iloc[0] == 1.0
-    for args in (["diff", str(model), str(model)],):
-        ran = CliRunner().invoke(main, args)
-        assert ran.exit_code == 2 and ran.stderr.count("\n") == 1, args
-        assert "a segmented model (2 cards by customer)" in ran.stderr
     for form in ("pmml", "sql"):
         ran = CliRunner().invoke(main, ["export", str(model), "--format", form,
                                         "--out", str(tmp_path / f"m.{form}")])
@@ -786,3 +782,59 @@ def test_monitor_gives_each_segment_its_own_score_index_and_ranking(reversed_cas
         (n, p) for n in ("new", "existing") for p in ("development", "2026-01", "2026-02")]
     assert cells[2][header.index("Score PSI")] == pytest.approx(
         result.periods[0].segments["new"].score.index)
+
+
+def test_diff_matches_segmented_cards_by_segment_name(reversed_case, tmp_path):
+    # Invariants: a model against itself has no changes; an edit of one segment's card shows
+    # only under that segment, as diff_scorecards of the two cards shows it; a segment renamed
+    # enters and leaves; a segmented model against a single card is one error line.
+    from scorecard.evaluation.model_diff import diff_scorecards
+
+    folder, _, _ = reversed_case
+    model = folder / "out/segmented.json"
+    same = CliRunner().invoke(main, ["diff", str(model), str(model)])
+    assert same.exit_code == 0 and same.output.strip() == "no changes"
+    raw = json.loads(model.read_text())
+    assert raw["segments"]["names"] == ["new", "existing"]
+    raw["segments"]["groups"][1] = ["existing"]
+    # A bin whose points can move by one inside its characteristic's range, so that the
+    # card's score range (and its stored development histogram) stays as it was.
+    first, moved = next((c, b) for c in raw["cards"][1]["characteristics"] for b in c["bins"]
+                        if min(x["points"] for x in c["bins"]) < b["points"] - 1
+                        and b["points"] < max(x["points"] for x in c["bins"]))
+    moved["points"] -= 1
+    (tmp_path / "edited.json").write_text(json.dumps(raw))
+    old, new = load_model(model), load_model(tmp_path / "edited.json")
+    ran = CliRunner().invoke(main, ["diff", str(model), str(tmp_path / "edited.json"),
+                                    "--json", str(tmp_path / "d.json")])
+    assert ran.exit_code == 0, ran.output
+    card_lines = diff_scorecards(old.segments["existing"], new.segments["existing"]).lines()
+    assert card_lines == [f"{first['name']}: points {moved['label']} "
+                          f"{moved['points'] + 1} -> {moved['points']}"]
+    assert ran.output.splitlines() == ["segments levels existing: existing, renewed -> existing",
+                                       f"segment existing: {card_lines[0]}"]
+    saved = json.loads((tmp_path / "d.json").read_text())["segments"]
+    assert saved["rule"] == {"levels existing": {"before": "existing, renewed",
+                                                 "after": "existing"}}
+    assert saved["cards"]["new"]["changed"] == [] and saved["entered"] == saved["left"] == []
+    raw["segments"]["names"][0] = "fresh"
+    (tmp_path / "renamed.json").write_text(json.dumps(raw))
+    renamed = CliRunner().invoke(main, ["diff", str(model), str(tmp_path / "renamed.json")])
+    assert "segment entered: fresh" in renamed.output and "segment left: new" in renamed.output
+    for args in ([str(folder / "out/one.json"), str(model)],
+                 [str(model), str(folder / "out/one.json")]):
+        refused = CliRunner().invoke(main, ["diff", *args])
+        assert refused.exit_code == 2 and refused.stderr.count("\n") == 1, refused.stderr
+        assert refused.stderr.startswith(f"error: {model}: a segmented model (2 cards by "
+                                         "customer) against a single card")
+
+
+def test_build_prints_the_diff_against_the_segmented_model_it_replaces(reversed_case, tmp_path):
+    # Invariant: the same config on the same data rebuilds the same model: no changes.
+    folder, _, _ = reversed_case
+    for name in ("data.csv", "segmented.yaml", "out/segmented.json"):
+        (tmp_path / name).parent.mkdir(exist_ok=True)
+        shutil.copy(folder / name, tmp_path / name)
+    ran = CliRunner().invoke(main, ["build", str(tmp_path / "segmented.yaml")])
+    assert ran.exit_code == 0, ran.output
+    assert "against the model file it replaced: no changes" in ran.output

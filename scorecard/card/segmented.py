@@ -274,12 +274,3 @@ def load_model(path):
         raise InputError(f"{path}: cannot read the model file ({exc.__class__.__name__})") from None
     return model_from_json(text, str(path))
 
-
-def load_single_card(path, command: str) -> Scorecard:
-    """The one card of a model file, for a command that does not yet read segmented models."""
-    model = load_model(path)
-    if isinstance(model, SegmentedScorecard):
-        raise InputError(f"{path}: a segmented model ({len(model.cards)} cards by "
-                         f"{model.rule.column}); {command} reads a single card so far (score, "
-                         "export, strategy, challenge, compare and monitor read segmented models)")
-    return model

@@ -9,6 +9,13 @@ after; the AUC, Gini and KS of each sample both builds measured.
 Attributes are matched by their rule, not their position, so a moved cut names exactly the
 bins on either side of it. A change of coefficients alone shows only as changed points, one line
 per characteristic, never as coefficient noise.
+
+Two segmented models (:func:`diff_models`) are compared segment by segment, cards matched by
+segment name: first the rule that picks a card (its column, and each segment's levels or the
+cuts), then the segments that entered or left, then, for every segment in both, the lines of
+its two cards' diff, each prefixed ``segment <name>:``. A segmented model against a single card
+has no card to match the single card with, so it is refused with one error line (``challenge``
+compares the two on data instead).
 """
 
 from __future__ import annotations
@@ -18,6 +25,8 @@ import math
 from typing import NamedTuple
 
 from scorecard.card.scorecard import Bin, Characteristic, Scorecard
+from scorecard.card.segmented import SegmentedScorecard
+from scorecard.errors import InputError
 
 # Information values and measures closer than this read as unchanged (they are printed to 4
 # decimals; a difference below it is rounding, not an edit).
@@ -217,3 +226,116 @@ def diff_scorecards(old: Scorecard, new: Scorecard) -> ModelDiff:
     changed = tuple(change for n, c in new_chars.items() if n in old_chars
                     for change in (_characteristic_change(old_chars[n], c),) if change)
     return ModelDiff(scaling, entered, left, changed, _performance(old, new))
+
+
+class SegmentedDiff(NamedTuple):
+    """The difference between two segmented models (see the module docstring).
+
+    ``rule`` maps what changed in the rule (``column``, ``levels <segment>`` or ``cuts``) to
+    (before, after); ``entered`` and ``left`` name segments; ``cards`` maps every segment in
+    both models to its :class:`ModelDiff`.
+    """
+
+    rule: dict
+    entered: tuple[str, ...]
+    left: tuple[str, ...]
+    cards: dict
+
+    @property
+    def empty(self) -> bool:
+        return not (self.rule or self.entered or self.left) and all(
+            d.empty for d in self.cards.values())
+
+    def lines(self) -> list[str]:
+        """One line per change, for a terminal."""
+        out = [f"segments {k}: {a} -> {b}" for k, (a, b) in self.rule.items()]
+        out += [f"segment entered: {name}" for name in self.entered]
+        out += [f"segment left: {name}" for name in self.left]
+        out += [f"segment {name}: {line}" for name, d in self.cards.items()
+                for line in d.lines()]
+        return out
+
+    def text(self) -> str:
+        return "\n".join(self.lines()) if not self.empty else "no changes"
+
+    def to_dict(self) -> dict:
+        return {"segments": {
+            "rule": {k: {"before": a, "after": b} for k, (a, b) in self.rule.items()},
+            "entered": list(self.entered), "left": list(self.left),
+            "cards": {name: d.to_dict() for name, d in self.cards.items()}}}
+
+    def to_json(self) -> str:
+        return json.dumps(self.to_dict(), indent=1, allow_nan=False) + "\n"
+
+
+def _rule_text(rule, name: str) -> str:
+    """What a segment takes: its levels, or its range of a numeric column."""
+    index = rule.names.index(name)
+    if rule.cuts is None:
+        return ", ".join(rule.groups[index])
+    low, high = rule.bounds(index)
+    return " and ".join(part for part in (
+        None if low is None else f">= {low:g}", None if high is None else f"< {high:g}") if part) \
+        or "every value"
+
+
+def diff_segmented(old: SegmentedScorecard, new: SegmentedScorecard) -> SegmentedDiff:
+    """What changed from ``old`` to ``new``, segment by segment (cards matched by name).
+
+    Examples
+    --------
+    >>> from scorecard.card.scorecard import RANGE
+    >>> from scorecard.card.points import scaling
+    >>> from scorecard.card.segmented import SegmentRule
+    >>> def card(points):
+    ...     b = (Bin("low", RANGE, 60, 40, -0.4, points, upper=1.0),
+    ...          Bin("high", RANGE, 90, 10, 1.0, 30, lower=1.0))
+    ...     c = Characteristic("x", "numeric", b, 1.0, "R01", "x is low", cuts=(1.0,))
+    ...     return Scorecard("demo", scaling(600, 50, 20), 0.5, (c,))
+    >>> rule = SegmentRule("s", ("a", "b"), groups=(("a",), ("b",)))
+    >>> old = SegmentedScorecard("demo", rule, (card(10), card(10)))
+    >>> wider = SegmentRule("s", ("a", "b"), groups=(("a", "c"), ("b",)))
+    >>> print(diff_segmented(old, SegmentedScorecard("demo", wider, (card(10), card(12)))).text())
+    segments levels a: a -> a, c
+    segment b: x: points low 10 -> 12
+    """
+    rule = {}
+    if old.rule.column != new.rule.column:
+        rule["column"] = (old.rule.column, new.rule.column)
+    both = [n for n in new.rule.names if n in old.rule.names]
+    if old.rule.kind != new.rule.kind or (old.rule.cuts is not None
+                                          and old.rule.cuts != new.rule.cuts):
+        rule["cuts" if new.rule.cuts is not None else "kind"] = (
+            _kind_text(old.rule), _kind_text(new.rule))
+    elif old.rule.groups is not None:
+        for name in both:
+            before, after = _rule_text(old.rule, name), _rule_text(new.rule, name)
+            if before != after:
+                rule[f"levels {name}"] = (before, after)
+    old_cards, new_cards = old.segments, new.segments
+    return SegmentedDiff(
+        rule, tuple(n for n in new.rule.names if n not in old_cards),
+        tuple(n for n in old.rule.names if n not in new_cards),
+        {n: diff_scorecards(old_cards[n], new_cards[n]) for n in both})
+
+
+def _kind_text(rule) -> str:
+    if rule.cuts is None:
+        return "groups of levels"
+    return "cuts " + ", ".join(f"{c:g}" for c in rule.cuts)
+
+
+def diff_models(old, new, old_source: str = "the older model",
+                new_source: str = "the newer model"):
+    """:func:`diff_scorecards` of two single cards, :func:`diff_segmented` of two segmented
+    models; InputError for one of each."""
+    old_split, new_split = isinstance(old, SegmentedScorecard), isinstance(new, SegmentedScorecard)
+    if old_split and new_split:
+        return diff_segmented(old, new)
+    if not (old_split or new_split):
+        return diff_scorecards(old, new)
+    split, source = (old, old_source) if old_split else (new, new_source)
+    raise InputError(f"{source}: a segmented model ({len(split.cards)} cards by "
+                     f"{split.rule.column}) against a single card; diff matches cards by "
+                     "segment, so it compares two single cards or two segmented models "
+                     "(challenge compares any two on the same data)")
