@@ -134,6 +134,16 @@ def test_the_workbook_carries_the_json_numbers(weak_model, model_path, demo_dir,
     _assert_book_matches_json(book, written)
     summary = [row[0] for row in book["Summary"].iter_rows(values_only=True)]
     assert any(str(line).startswith("The challenger ranks better") for line in summary)
+    # The files compared, by name only: the report may travel, the machine's folders stay.
+    named = {"Champion": weak_model.name, "Challenger": model_path.name,
+             "Data": DRIFTED_FILE}
+    assert [f"{k}: {v}" for k, v in named.items()] == [
+        line for line in summary if ": " in str(line) and str(line).split(":")[0] in named]
+    assert written["files"] == {k.lower(): v for k, v in named.items()}
+    assert run.output.splitlines()[0] == (f"champion {weak_model.name} against challenger "
+                                          f"{model_path.name} on {DRIFTED_FILE}")
+    shown = [str(c) for row in book["Summary"].iter_rows(values_only=True) for c in row if c]
+    assert not any(str(tmp_path) in c or str(demo_dir) in c for c in shown + [run.output])
 
 
 def test_the_workbook_is_refused_over_an_input(weak_model, model_path, demo_dir, tmp_path):

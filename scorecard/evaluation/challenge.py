@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import json
 import math
+from pathlib import Path
 from typing import NamedTuple
 
 import numpy as np
@@ -45,6 +46,8 @@ class Challenge(NamedTuple):
     # When either card is segmented: per segment name, (champion, challenger, difference, rows)
     # on that segment's rows alone; the measures above are pooled over every segment.
     segments: dict = {}
+    # "champion" / "challenger" / "data" -> the file's name (no folder: a report may travel).
+    files: dict = {}
 
     def to_dict(self) -> dict:
         def measures(d: Discrimination) -> dict:
@@ -58,7 +61,7 @@ class Challenge(NamedTuple):
                                 "bad_rate": None if math.isnan(row.bad_rate) else row.bad_rate}
                      for row in self.swap.itertuples()},
             "approval_rate": self.approval_rate, "cutoffs": self.cutoffs,
-            "rows": self.rows, "left_out": self.left_out,
+            "rows": self.rows, "left_out": self.left_out, "files": dict(self.files),
             **({"segments": {name: {"champion": measures(a), "challenger": measures(b),
                                     "difference": _difference(d), "rows": n}
                              for name, (a, b, d, n) in self.segments.items()}}
@@ -71,7 +74,8 @@ class Challenge(NamedTuple):
     def text(self) -> str:
         d = self.difference
         said = verdict(d)
-        lines = [f"{self.rows:,} rows compared ({self.left_out:,} left out)",
+        lines = [*([files_line(self.files)] if self.files else []),
+                 f"{self.rows:,} rows compared ({self.left_out:,} left out)",
                  f"  champion    AUC {self.champion.auc:.4f}  Gini {self.champion.gini:.4f}  "
                  f"KS {self.champion.ks:.4f}",
                  f"  challenger  AUC {self.challenger.auc:.4f}  Gini {self.challenger.gini:.4f}  "
@@ -89,6 +93,12 @@ class Challenge(NamedTuple):
             lines.append(f"    {name:12s} {n:>9,} rows  {a.auc:.4f}  {b.auc:.4f}  "
                          f"{d.difference:+.4f} (p {d.p_value:.4g}): {verdict(d)}")
         return "\n".join(lines)
+
+
+def files_line(files: dict) -> str:
+    """The files compared, by name."""
+    return (f"champion {files['champion']} against challenger {files['challenger']} on "
+            f"{files['data']}")
 
 
 def challenge(champion_path, challenger_path, data_path, *,
@@ -150,7 +160,9 @@ def challenge(champion_path, challenger_path, data_path, *,
         difference=_paired(a, b, is_bad),
         approval_rate=float(rate), cutoffs={"champion": cut_a, "challenger": cut_b},
         swap=swap.set_index("cell").loc[list(SWAP_CELLS)].reset_index(),
-        rows=int(used.sum()), left_out=int((~used).sum()), segments=by_segment)
+        rows=int(used.sum()), left_out=int((~used).sum()), segments=by_segment,
+        files={"champion": Path(champion_path).name, "challenger": Path(challenger_path).name,
+               "data": Path(data_path).name})
 
 
 def _paired(a: np.ndarray, b: np.ndarray, is_bad: np.ndarray) -> PairedAUC:

@@ -1,9 +1,9 @@
 """The validator's workbook of ``scorecard challenge``: does the challenger beat the champion?
 
-Sheets, in order: Summary (the caution, both cards' measures on the same rows, DeLong's paired
-test of the AUC difference and its verdict in words, the rows compared and left out), Swap set
-(the cells at the approval rate), and By segment when either card is segmented. The numbers are
-those of the JSON, cell for cell.
+Sheets, in order: Summary (the caution, the files compared by name, both cards' measures on
+the same rows, DeLong's paired test of the AUC difference and its verdict in words, the rows
+compared and left out), Swap set (the cells at the approval rate), and By segment when either
+card is segmented. The numbers are those of the JSON, cell for cell.
 """
 
 from __future__ import annotations
@@ -148,7 +148,8 @@ def _write_summary(ws: Worksheet, result: Challenge) -> None:
     caution.alignment = Alignment(wrap_text=True, vertical="top")
     ws.merge_cells(start_row=2, start_column=1, end_row=2, end_column=_CAUTION_COLUMNS)
     ws.row_dimensions[2].height = 60
-    rows = [f"Rows compared: {result.rows:,}",
+    rows = [*(f"{role.capitalize()}: {name}" for role, name in result.files.items()),
+            f"Rows compared: {result.rows:,}",
             f"Rows left out: {result.left_out:,} (refused by either card, or an outcome neither "
             "good nor bad)",
             f"Swap set at {result.approval_rate:.0%} approved: champion cut at "
