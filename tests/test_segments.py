@@ -128,7 +128,7 @@ def test_the_segmented_model_beats_one_card_where_an_effect_reverses(reversed_ca
     result = api.challenge(folder / "out/one.json", folder / "out/segmented.json",
                            folder / "fresh.csv")
     assert result.difference.ci_low > 0 and result.difference.p_value < 0.001
-    assert "the challenger ranks better" in result.text().splitlines()[3]
+    assert "the challenger ranks better" in result.text().splitlines()[4]
     assert set(result.segments) == {"new", "existing"}
     assert sum(n for *_, n in result.segments.values()) == result.rows == 4000
     assert all(d.difference > 0 for _, _, d, _ in result.segments.values())
@@ -838,3 +838,94 @@ def test_build_prints_the_diff_against_the_segmented_model_it_replaces(reversed_
     ran = CliRunner().invoke(main, ["build", str(tmp_path / "segmented.yaml")])
     assert ran.exit_code == 0, ran.output
     assert "against the model file it replaced: no changes" in ran.output
+
+
+EXCLUDING = """\
+name: {name}
+data:
+  source: data.csv
+  target: outcome
+  bad: [bad]
+  good: [good]
+  ignore: [id, staff]
+  exclude:
+    - {{column: staff, in: [yes], reason: staff application}}
+samples: {{holdout: 0.3, seed: 7}}
+grades: {{count: 5}}
+{segments}output: {{workbook: out/{name}.xlsx, model: out/{name}.json}}
+"""
+
+
+@pytest.fixture(scope="module")
+def excluded_case(tmp_path_factory):
+    """The reversed simulation with staff rows to exclude, open outcomes and risk grades; a
+    single card and a segmented model from the same rows."""
+    folder = tmp_path_factory.mktemp("excluded")
+    frame = simulate(5000, 6).drop(columns="tenure")
+    rng = np.random.default_rng(6)
+    frame["staff"] = np.where(rng.random(len(frame)) < 0.05, "yes", "no")
+    frame.loc[rng.random(len(frame)) < 0.04, "outcome"] = "open"
+    frame.to_csv(folder / "data.csv", index=False)
+    (folder / "one.yaml").write_text(EXCLUDING.format(name="one", segments=""))
+    (folder / "split.yaml").write_text(EXCLUDING.format(
+        name="split", segments=f"segments: {BY_GROUPS}\n"))
+    return folder, frame, api.build(folder / "one.yaml"), api.build(folder / "split.yaml")
+
+
+def _overview_table(ws, first: str) -> pd.DataFrame:
+    cells = list(ws.iter_rows(values_only=True))
+    start = next(i for i, row in enumerate(cells) if row[0] == first)
+    end = next(i for i in range(start + 1, len(cells)) if cells[i][0] is None)
+    width = next(j for j, v in enumerate(cells[start]) if v is None) \
+        if None in cells[start] else len(cells[start])
+    return pd.DataFrame([row[:width] for row in cells[start + 1:end]],
+                        columns=list(cells[start][:width]))
+
+
+def test_the_segmented_overview_shows_the_exclusion_waterfall(excluded_case):
+    # Exact counts from pandas on the data file; invariant: the single card built from the
+    # same rows, rules and seed shows the same waterfall line for line.
+    from openpyxl import load_workbook
+
+    folder, frame, one, split = excluded_case
+    staff = frame["staff"] == "yes"
+    shown = _overview_table(load_workbook(folder / "out/split.xlsx")["Overview"], "Step")
+    removed = dict(zip(shown["Step"], shown["Rows removed"]))
+    left = dict(zip(shown["Step"], shown["Rows left"]))
+    assert left["Rows read"] == len(frame) == 5000
+    rule = next(step for step in shown["Step"] if step.startswith("Rule 1"))
+    assert removed[rule] == int(staff.sum()) and left[rule] == int((~staff).sum())
+    other = int((~staff & (frame["outcome"] == "open")).sum())
+    assert removed["Outcome neither good nor bad"] == other
+    used = shown["Step"].iloc[-1]
+    assert used.startswith("Rows used") and left[used] == int((~staff).sum()) - other
+    expected = one.waterfall.frame()
+    assert shown["Step"].tolist() == expected["Step"].tolist()
+    assert shown["Reason"].fillna("").tolist() == expected["Reason"].tolist()
+    assert shown["Rows left"].tolist() == expected["Rows left"].tolist()
+
+
+def test_the_segmented_workbook_has_pooled_score_bands_and_grades(excluded_case):
+    # Invariants: each pooled band holds the goods and bads of every segment's holdout scores in
+    # its range (the single card's sheet writers, fed every segment's counts on one scale);
+    # the grades cover every pooled holdout row.
+    from openpyxl import load_workbook
+
+    folder, _, _, split = excluded_case
+    book = load_workbook(folder / "out/split.xlsx")
+    assert book.sheetnames[:3] == ["Overview", "Score bands", "Risk grades"]
+    bands = _overview_table(book["Score bands"], "Band")
+    hists = [part.histograms["holdout"] for part in split.segments.values()]
+    for low, high, goods, bads in zip(bands["Lowest score"], bands["Highest score"],
+                                      bands["Goods"], bands["Bads"]):
+        inside = [(h.goods[max(low - h.low, 0):max(high - h.low + 1, 0)].sum(),
+                   h.bads[max(low - h.low, 0):max(high - h.low + 1, 0)].sum()) for h in hists]
+        assert (goods, bads) == (sum(g for g, _ in inside), sum(b for _, b in inside))
+    holdout = sum(h.goods.sum() + h.bads.sum() for h in hists)
+    assert bands["Rows"].sum() == holdout == sum(part.samples.rows["holdout"]
+                                                 for part in split.segments.values())
+    assert bands["Lowest score"].iloc[0] == split.card.min_score
+    notes = [row[0] for row in book["Score bands"].iter_rows(values_only=True)]
+    assert any(str(text).startswith("Every segment's scores pooled") for text in notes)
+    grades = _overview_table(book["Risk grades"], "Grade")
+    assert len(grades) == 5 and grades["Rows"].sum() == holdout

@@ -30,7 +30,7 @@ FAIRNESS = "Fairness"
 REJECT_INFERENCE = "Reject inference"
 
 
-def write_workbook(result, path) -> Path:
+def write_workbook(result, path, waterfall=None) -> Path:
     """Write the workbook of a build to ``path``, whole or not at all.
 
     Parameters
@@ -40,6 +40,9 @@ def write_workbook(result, path) -> Path:
         sheet.
     path : path
         The .xlsx file to write; its folder is created if needed.
+    waterfall : Waterfall, optional
+        For a segmented build, the exclusion waterfall of the rows read (a single card's build
+        carries its own).
 
     Returns
     -------
@@ -56,7 +59,7 @@ def write_workbook(result, path) -> Path:
     """
     if getattr(result, "segments", None) is not None:
         from scorecard.outputs.workbook.segments_book import write_segmented_workbook
-        return write_segmented_workbook(result, path)
+        return write_segmented_workbook(result, path, waterfall)
     wb = Workbook()
     wb.remove(wb.active)
     ws = {name: wb.create_sheet(name) for name in SHEETS}

@@ -31,6 +31,8 @@ def write_grades_sheet(ws: Worksheet, result) -> None:
                              "worse grade never has a lower PD.")
     row = note(ws, row, "Observed bad rate with a 95% Wilson score interval for a binomial "
                         "proportion.")
+    for text in getattr(result, "notes", ()):
+        row = note(ws, row, text)
     if grades.shift is not None:
         row = note(ws, row, f"Calibrated to a long-run average bad rate of "
                             f"{grades.long_run_bad_rate:.2%}: the intercept moves by "

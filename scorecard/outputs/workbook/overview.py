@@ -101,10 +101,7 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     page.table(frames.samples_frame(samples),
                {"Rows": style.COUNT, "Goods": style.COUNT, "Bads": style.COUNT,
                 "Bad rate": style.PERCENT})
-    waterfall = getattr(result, "waterfall", None)
-    if waterfall is not None:
-        page.heading("From rows read to rows used (exclusion waterfall)")
-        page.table(waterfall.frame(), {"Rows removed": style.COUNT, "Rows left": style.COUNT})
+    waterfall_table(page, getattr(result, "waterfall", None))
     for name, what in getattr(result, "extreme_values", {}).items():
         page.paragraph(f"Warning: column {name}: {what}.", style.BOLD)
 
@@ -184,3 +181,12 @@ def source_facts(page, source) -> None:
         page.fact("Data query", source.query)
     else:
         page.fact("Data file", Path(source).name)
+
+
+def waterfall_table(page, waterfall) -> None:
+    """The exclusion waterfall under its heading: rows read, removed by each rule, of another
+    outcome, used (nothing when the build has none)."""
+    if waterfall is None:
+        return
+    page.heading("From rows read to rows used (exclusion waterfall)")
+    page.table(waterfall.frame(), {"Rows removed": style.COUNT, "Rows left": style.COUNT})

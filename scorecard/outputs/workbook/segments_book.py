@@ -1,7 +1,11 @@
-"""The workbook of a segmented build: an Overview of the segments, then each card's sheets.
+"""The workbook of a segmented build: an Overview of the segments, the pooled score's sheets,
+then each card's sheets.
 
-The Overview holds the table of segments (rows, goods, bads, bad rate, characteristics and the
-AUC of each sample, per segment and pooled over all), the shared scaling and the run manifest.
+The Overview holds the exclusion waterfall of the rows read, the table of segments (rows,
+goods, bads, bad rate, characteristics and the AUC of each sample, per segment and pooled over
+all), the shared scaling and the run manifest. Score bands (and Risk grades when the config
+asks for grades) follow for every segment's scores pooled on the one scale, written by the
+single card's own sheet writers (:mod:`scorecard.outputs.workbook.pooled_scores`).
 Each segment's card follows with the sheets of a single card, named ``<sheet> (<segment>)``:
 Characteristics, Bins, Model, Points, Score bands and Stability, and Fairness when the config
 names protected columns (each segment's card examined on its own rows). The Calculator sheet of
@@ -26,9 +30,11 @@ from scorecard.outputs.workbook import (
     style,
 )
 from scorecard.outputs.workbook.manifest import run_manifest
+from scorecard.outputs.workbook.pooled_scores import pooled_scores
 from scorecard.outputs.workbook.tables import set_print_layout
 
 CARD_SHEETS = ("Characteristics", "Bins", "Model", "Points", "Score bands", "Stability")
+POOLED_BANDS = "Score bands"
 MAX_SHEET_NAME = 31
 _NOT_IN_SHEET_NAME = re.compile(r"[\[\]:*?/\\']")
 
@@ -53,13 +59,19 @@ def segment_sheet_name(sheet: str, segment: str, taken: set) -> str:
     return name
 
 
-def write_segmented_workbook(result, path) -> Path:
-    """Write the workbook of a :class:`~scorecard.build.segments.SegmentedBuildResult`."""
+def write_segmented_workbook(result, path, waterfall=None) -> Path:
+    """Write the workbook of a :class:`~scorecard.build.segments.SegmentedBuildResult`;
+    ``waterfall`` is the exclusion waterfall of the rows read, for the Overview."""
     wb = Workbook()
     ws = wb.active
     ws.title = "Overview"
-    _write_overview(ws, result)
-    taken = {"overview"}
+    _write_overview(ws, result, waterfall)
+    pooled = pooled_scores(result)
+    sheets.write_score_bands(wb.create_sheet(POOLED_BANDS), pooled)
+    if result.config.grades is not None:
+        from scorecard.outputs.workbook.grades_sheet import TITLE, write_grades_sheet
+        write_grades_sheet(wb.create_sheet(TITLE), pooled)
+    taken = {name.lower() for name in wb.sheetnames}
     for name, part in result.segments.items():
         own = {sheet: wb.create_sheet(segment_sheet_name(sheet, name, taken))
                for sheet in CARD_SHEETS}
@@ -85,7 +97,7 @@ def write_segmented_workbook(result, path) -> Path:
     return path
 
 
-def _write_overview(ws, result) -> None:
+def _write_overview(ws, result, waterfall) -> None:
     config, card = result.config, result.card
     ws.column_dimensions["A"].width = overview.LABEL_WIDTH
     for k in range(overview.VALUE_COLUMNS):
@@ -101,8 +113,11 @@ def _write_overview(ws, result) -> None:
                    "score means the same odds in every segment and one cut-off serves all.")
     page.paragraph(CAUTION, style.BOLD)
 
-    page.heading("Segments")
+    page.heading("Data")
     overview.source_facts(page, config.data.source)
+    overview.waterfall_table(page, waterfall)
+
+    page.heading("Segments")
     page.fact("Segment column", card.rule.column)
     for name, levels in zip(card.rule.names, _rules(card.rule)):
         page.fact(f"Segment {name}", levels)
@@ -112,7 +127,8 @@ def _write_overview(ws, result) -> None:
                        **{c: style.MEASURE for c in table.columns if c.startswith("AUC")}})
     page.paragraph("AUC of a segment: its own rows scored by its own card. AUC of all "
                    "segments: every row scored by its segment's card and ranked together, "
-                   "which is what one cut-off across the segments acts on.", style.NOTE_FONT)
+                   "which is what one cut-off across the segments acts on (sheet "
+                   f"{POOLED_BANDS}: every segment's scores pooled).", style.NOTE_FONT)
 
     page.heading("Scaling (every card)")
     s = card.scaling
@@ -132,6 +148,8 @@ def _write_overview(ws, result) -> None:
     page.fact(overview.QUERY_HASH_LABEL if manifest.data_query else overview.DATA_HASH_LABEL,
               manifest.data_sha256)
     page.fact("Random seed of the holdout split", manifest.seed)
+    for number, rule in enumerate(manifest.exclusions, start=1):
+        page.fact(f"Exclusion rule {number} (data.exclude)", rule)
     for name, version in manifest.versions:
         page.fact(f"Version of {name}", version)
     page.fact(overview.RUN_TIME_LABEL, manifest.run_time)

@@ -135,6 +135,9 @@ def write_score_bands(ws: Worksheet, result) -> None:
     if perf is not None and not math.isnan(perf.ks):
         row = note(ws, row, f"Largest gap between the cumulative shares of bads and goods "
                             f"(KS): {perf.ks:.1%} at score {hist.low + perf.ks_index}.")
+    # What the scores are when they are not one card's (a segmented model's pooled scores).
+    for text in getattr(result, "notes", ()):
+        row = note(ws, row, text)
     row = _cutoff_view(ws, result, row + 1)
     grid = charts.chart_grid(charts.table_width_cm(ws, len(gains.columns)))
     chart_row = row + 1
