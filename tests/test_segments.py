@@ -332,7 +332,8 @@ def test_the_workbook_has_an_overview_of_segments_and_each_cards_sheets(reversed
     book = load_workbook(folder / "out/segmented.xlsx")
     assert book.sheetnames[0] == "Overview"
     for name in ("new", "existing"):
-        for sheet in ("Characteristics", "Bins", "Model", "Points", "Score bands", "Stability"):
+        for sheet in ("Characteristics", "Bins", "Model", "Points", "Score bands", "Stability",
+                      "Calculator"):
             assert f"{sheet} ({name})" in book.sheetnames
     cells = [[c for c in row] for row in book["Overview"].iter_rows(values_only=True)]
     header = next(i for i, row in enumerate(cells) if row[0] == "Segment")
@@ -913,7 +914,7 @@ def test_the_segmented_workbook_has_pooled_score_bands_and_grades(excluded_case)
 
     folder, _, _, split = excluded_case
     book = load_workbook(folder / "out/split.xlsx")
-    assert book.sheetnames[:3] == ["Overview", "Score bands", "Risk grades"]
+    assert book.sheetnames[:4] == ["Overview", "Score bands", "Calculator", "Risk grades"]
     bands = _overview_table(book["Score bands"], "Band")
     hists = [part.histograms["holdout"] for part in split.segments.values()]
     for low, high, goods, bads in zip(bands["Lowest score"], bands["Highest score"],
@@ -929,3 +930,108 @@ def test_the_segmented_workbook_has_pooled_score_bands_and_grades(excluded_case)
     assert any(str(text).startswith("Every segment's scores pooled") for text in notes)
     grades = _overview_table(book["Risk grades"], "Grade")
     assert len(grades) == 5 and grades["Rows"].sum() == holdout
+
+
+@pytest.fixture(scope="module")
+def demo_segmented(tmp_path_factory):
+    """The demo's segmented config (an exclusion, categorical and numeric characteristics,
+    sentinels, missing values) built on 4,000 rows: (result, folder)."""
+    from scorecard.demo.files import write_demo
+
+    folder = tmp_path_factory.mktemp("demo_segmented")
+    write_demo(folder, rows=4000)
+    return api.build(folder / "scorecard_segmented.yaml"), folder
+
+
+def _calculator_rows(model, frame: pd.DataFrame) -> pd.DataFrame:
+    """Rows of each segment as they come, and rows with the values that choose a card's
+    special attributes: missing, a sentinel, a level no card saw, a value at a cut, and a
+    segment value no segment takes (missing, and unlisted)."""
+    from scorecard.card.scorecard import SENTINEL, UNSEEN
+
+    rule = model.rule
+    picked = [frame[frame[rule.column].isin(g)].head(2) for g in rule.groups]
+    rows = pd.concat(picked, ignore_index=True)
+    special = []
+    for index, card in enumerate(model.cards):
+        base = picked[index].iloc[0].copy()
+        row = base.copy()
+        for char in card.characteristics:
+            if char.kind == "numeric":
+                sentinel = next((b.value for b in char.bins if b.kind == SENTINEL), None)
+                row[char.name] = sentinel if sentinel is not None else char.cuts[0]
+            elif any(b.kind == UNSEEN for b in char.bins):
+                row[char.name] = "a level never seen"
+        special.append(row)
+        row = base.copy()
+        for char in card.characteristics:
+            if char.bin_index("missing") is not None:
+                row[char.name] = None
+        special.append(row)
+    for value in (None, "not a customer kind"):
+        row = picked[0].iloc[0].copy()
+        row[rule.column] = value
+        special.append(row)
+    return pd.concat([rows, pd.DataFrame(special)], ignore_index=True)
+
+
+@pytest.mark.skipif(shutil.which("soffice") is None, reason="LibreOffice (soffice) is not installed")
+def test_the_calculator_picks_the_card_by_segment_as_scorecard_score_does(demo_segmented,
+                                                                         tmp_path):
+    # Reference: the product's own scorer (`scorecard score`) on the same raw values; a real
+    # spreadsheet program (LibreOffice) evaluates every formula of the workbook's calculators.
+    from openpyxl import load_workbook
+    from test_workbook import _recalculate
+
+    from scorecard.outputs.workbook.tables import safe_value
+
+    result, folder = demo_segmented
+    model = result.card
+    rows = _calculator_rows(model, pd.read_csv(folder / "applications_recent_by_month.csv"))
+    rows.to_csv(tmp_path / "rows.csv", index=False)
+    ran = CliRunner().invoke(main, ["score", str(result.outputs["model"]),
+                                    str(tmp_path / "rows.csv"), "--out",
+                                    str(tmp_path / "scored.csv")])
+    assert ran.exit_code == 0, ran.output
+    scored = pd.read_csv(tmp_path / "scored.csv")
+    files = []
+    for j, record in enumerate(rows.to_dict("records")):
+        book = load_workbook(result.outputs["workbook"])
+        # Only the calculators and the points they read: the other sheets hold no formula the
+        # calculators use, and LibreOffice would spend its time drawing their charts.
+        for sheet in list(book.worksheets):
+            if not sheet.title.startswith(("Calculator", "Points")):
+                book.remove(sheet)
+        ws = book["Calculator"]
+        ws.cell(2, 2).value = safe_value(record[model.rule.column])
+        for i, char in enumerate(model.characteristics, start=3):
+            assert ws.cell(i, 1).value == char.name
+            ws.cell(i, 2).value = safe_value(record[char.name])
+        book.save(tmp_path / f"row{j}.xlsx")
+        files.append(tmp_path / f"row{j}.xlsx")
+    k = len(model.characteristics)
+    for j, path in enumerate(_recalculate(files, tmp_path)):
+        ws = load_workbook(path, data_only=True)["Calculator"]
+        expected = scored.iloc[j]
+        case = (j, rows.iloc[j][model.rule.column])
+        if pd.isna(expected["segment"]):
+            # No segment takes the value: no card, no score.
+            assert ws.cell(2, 3).value == "#N/A" and ws.cell(k + 4, 4).value == "#N/A", case
+            assert ws.cell(2, 5).value.startswith(("no segment", "empty: no segment")), case
+            continue
+        assert ws.cell(2, 3).value == expected["segment"], case
+        assert ws.cell(k + 4, 4).value == expected["score"], case
+        card = model.segments[expected["segment"]]
+        for i, char in enumerate(model.characteristics, start=3):
+            points = ws.cell(i, 4).value
+            if char.name in card.names:
+                assert points == expected[f"points_{char.name}"], (case, char.name)
+                assert ws.cell(i, 5).value == "ok", (case, char.name)
+            else:
+                assert points is None and pd.isna(expected[f"points_{char.name}"])
+                assert ws.cell(i, 5).value == "not used by this segment's card"
+    assert scored["segment"].isna().sum() == 2 and scored["score"].notna().sum() == len(rows) - 2
+    # The entries went through the special attributes this test is about.
+    typed = rows.to_numpy().ravel().tolist()
+    assert -999 in typed and "a level never seen" in typed
+    assert rows[list(model.names)].isna().any(axis=1).sum() >= 2

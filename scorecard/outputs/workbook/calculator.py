@@ -16,6 +16,7 @@ from __future__ import annotations
 import re
 
 import pandas as pd
+from openpyxl.utils import quote_sheetname
 from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.datavalidation import DataValidation
 from openpyxl.worksheet.worksheet import Worksheet
@@ -35,7 +36,15 @@ from scorecard.outputs.workbook.tables import (
 POINTS_SHEET = "Points"
 ATTRIBUTE_COLUMN, POINTS_COLUMN = "B", "C"
 HEADERS = ["Characteristic", "Value or attribute", "Attribute", "Points", "Check"]
+DRIVEN_HEADERS = ["Characteristic", "Value (from the Calculator)", "Attribute", "Points", "Check"]
 MAX_NAME = 200
+HOW = ("For a numeric characteristic type its value in column B (leave the cell empty for a "
+       "missing value); the table on the right finds its attribute. For a categorical one "
+       "choose an attribute from the list. The points come from the Points sheet; a check "
+       "other than 'ok' means the entry has no attribute.")
+DRIVEN_HOW = ("This card's calculator reads the values typed on the Calculator sheet (type them "
+              "there): a numeric value or a categorical level in column B finds its attribute "
+              "by the table on the right; the points come from this card's Points sheet.")
 
 
 def defined_name(prefix: str, text: str, taken: set) -> str:
@@ -95,31 +104,50 @@ def typical_value(char, index: int) -> float | None:
     return None
 
 
-def write_calculator(ws: Worksheet, card, points_header: int) -> None:
-    """Fill the calculator; ``points_header`` is the header row of the Points sheet's table."""
-    wb = ws.parent
-    taken: set = set()
-    for col, text in enumerate(HEADERS, start=1):
+def write_headers(ws: Worksheet, headers=HEADERS) -> None:
+    """The calculator's header row (row 1) and the height of its first entry row."""
+    for col, text in enumerate(headers, start=1):
         cell = ws.cell(1, col, text)
         cell.font, cell.fill, cell.border = style.HEADER_FONT, style.HEADER_FILL, style.HEADER_BORDER
         cell.alignment = style.HEADER_RIGHT if text == "Points" else style.HEADER_LEFT
     ws.row_dimensions[1].height = header_height(1)
     ws.row_dimensions[2].height = FIRST_ROW_HEIGHT
+
+
+def write_calculator(ws: Worksheet, card, points_header: int, *, points_sheet=POINTS_SHEET,
+                     taken: set | None = None, inputs: dict | None = None) -> None:
+    """Fill the calculator; ``points_header`` is the header row of the Points sheet's table.
+
+    ``points_sheet`` names the sheet of the card's points and ``taken`` the workbook names in
+    use (a segmented workbook holds one calculator per card). With ``inputs`` (characteristic
+    name -> a cell of another sheet, ``"Calculator!$B$3"``) the sheet takes no entries of its
+    own: it reads each raw value there, a categorical characteristic's level included, as the
+    segmented workbook's Calculator drives its cards' calculators.
+    """
+    wb = ws.parent
+    taken = set() if taken is None else taken
+    write_headers(ws, HEADERS if inputs is None else DRIVEN_HEADERS)
     k = len(card.characteristics)
-    labels = _totals(ws, k + 1, card.scaling)
+    labels = write_totals(ws, k + 1, card.scaling, None if inputs is None else DRIVEN_HOW)
     value_formulas = write_value_rules(ws, card,
-                                       lambda prefix, c: defined_name(prefix, c.name, taken))
+                                       lambda prefix, c: defined_name(prefix, c.name, taken),
+                                       levels=inputs is not None)
+    sheet = quote_sheetname(points_sheet)
     first = points_header + 1
     for row, char in enumerate(card.characteristics, start=2):
         last = first + len(char.bins) - 1
         attributes = defined_name("attributes", char.name, taken)
         points = defined_name("points", char.name, taken)
         wb.defined_names[attributes] = DefinedName(
-            attributes, attr_text=f"{POINTS_SHEET}!${ATTRIBUTE_COLUMN}${first}:${ATTRIBUTE_COLUMN}${last}")
+            attributes, attr_text=f"{sheet}!${ATTRIBUTE_COLUMN}${first}:${ATTRIBUTE_COLUMN}${last}")
         wb.defined_names[points] = DefinedName(
-            points, attr_text=f"{POINTS_SHEET}!${POINTS_COLUMN}${first}:${POINTS_COLUMN}${last}")
-        _characteristic_row(ws, row, char, attributes, points, first - 1,
-                            value_formulas.get(char.name))
+            points, attr_text=f"{sheet}!${POINTS_COLUMN}${first}:${POINTS_COLUMN}${last}")
+        if inputs is None:
+            _characteristic_row(ws, row, char, attributes, points, first - 1,
+                                value_formulas.get(char.name))
+        else:
+            _driven_row(ws, row, char, attributes, points, first - 1,
+                        value_formulas[char.name], inputs[char.name])
         first = last + 1
     names = [c.name for c in card.characteristics]
     choices = [label for c in card.characteristics for label in card_frames.attribute_labels(c)]
@@ -155,15 +183,30 @@ def _characteristic_row(ws, row, char, attributes, points, offset, value_formula
                               showErrorMessage=True, errorTitle="Not an attribute",
                               error="Choose one of the attributes in the list.")
         wrong = '"choose one of its attributes"'
-    position = f"SUMPRODUCT(EXACT({attributes},C{row})*(ROW({attributes})-{offset}))"
-    ws.cell(row, 4, f"=IF(ISERROR(C{row}),NA(),INDEX({points},{position}))").number_format = \
-        style.INTEGER
-    ws.cell(row, 5, f'=IF(ISERROR(D{row}),{wrong},"ok")').alignment = style.TEXT
+    _points_and_check(ws, row, attributes, points, offset, wrong)
     ws.add_data_validation(rule)
     rule.add(entry)
 
 
-def _totals(ws, last_char_row: int, scaling) -> list[str]:
+def _driven_row(ws, row, char, attributes, points, offset, value_formula, source) -> None:
+    """A characteristic row whose raw value is read from ``source`` (another sheet's cell)."""
+    ws.cell(row, 1, safe_value(char.name)).alignment = style.TEXT
+    ws.cell(row, 2, f'=IF(ISBLANK({source}),"",{source})').alignment = style.TEXT
+    ws.cell(row, 3, "=" + value_formula(source)).alignment = style.TEXT
+    other = "type a number" if char.kind == "numeric" else "a level this card has no attribute for"
+    wrong = f'IF(ISBLANK({source}),"empty, and it has no missing attribute","{other}")'
+    _points_and_check(ws, row, attributes, points, offset, wrong)
+
+
+def _points_and_check(ws, row, attributes, points, offset, wrong) -> None:
+    """Columns D and E: the attribute's points from the Points sheet, and the check."""
+    position = f"SUMPRODUCT(EXACT({attributes},C{row})*(ROW({attributes})-{offset}))"
+    ws.cell(row, 4, f"=IF(ISERROR(C{row}),NA(),INDEX({points},{position}))").number_format = \
+        style.INTEGER
+    ws.cell(row, 5, f'=IF(ISERROR(D{row}),{wrong},"ok")').alignment = style.TEXT
+
+
+def write_totals(ws, last_char_row: int, scaling, how: str | None = None) -> list[str]:
     """Total score, odds and bad probability, and the scaling they are computed from.
 
     Returns the labels written in column A.
@@ -188,12 +231,7 @@ def _totals(ws, last_char_row: int, scaling) -> list[str]:
         if row in (total, odds, probability):
             cell.font = style.BOLD
     ws.cell(base - 1, 1, "Scaling").font = style.HEADING_FONT
-    how = ws.cell(offset + 2, 1, "For a numeric characteristic type its value in column B "
-                                 "(leave the cell empty for a missing value); the table on the "
-                                 "right finds its attribute. For a categorical one choose an "
-                                 "attribute from the list. The points come from the Points "
-                                 "sheet; a check other than 'ok' means the entry has no "
-                                 "attribute.")
+    how = ws.cell(offset + 2, 1, how or HOW)
     how.font, how.alignment = style.NOTE_FONT, style.WRAP
     # The rules table fills the columns to the right, so the note wraps within the calculator,
     # over three rows of their own height: a taller row would open a gap in that table.

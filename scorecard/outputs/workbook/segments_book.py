@@ -3,13 +3,15 @@ then each card's sheets.
 
 The Overview holds the exclusion waterfall of the rows read, the table of segments (rows,
 goods, bads, bad rate, characteristics and the AUC of each sample, per segment and pooled over
-all), the shared scaling and the run manifest. Score bands (and Risk grades when the config
-asks for grades) follow for every segment's scores pooled on the one scale, written by the
-single card's own sheet writers (:mod:`scorecard.outputs.workbook.pooled_scores`).
+all), the shared scaling and the run manifest. Score bands follows for every segment's scores
+pooled on the one scale, then the Calculator (the segment value and the raw values typed once,
+the card picked by formula, :mod:`scorecard.outputs.workbook.segment_calculator`), then Risk
+grades when the config asks for grades; Score bands and Risk grades are written by the single
+card's own sheet writers (:mod:`scorecard.outputs.workbook.pooled_scores`).
 Each segment's card follows with the sheets of a single card, named ``<sheet> (<segment>)``:
-Characteristics, Bins, Model, Points, Score bands and Stability, and Fairness when the config
-names protected columns (each segment's card examined on its own rows). The Calculator sheet of
-a single card is not repeated per segment; the Overview says how to read a score instead.
+Characteristics, Bins, Model, Points, Score bands, Stability and Calculator (the single card's,
+reading the Calculator's entries), Fairness when the config names protected columns (each
+segment's card examined on its own rows) and Reject inference with declined applications.
 """
 
 from __future__ import annotations
@@ -24,7 +26,9 @@ from scorecard.outputs.atomic import save_book
 from scorecard.outputs.cautions import CAUTION
 from scorecard.outputs.workbook import (
     bins_sheet,
+    calculator,
     overview,
+    segment_calculator,
     sheets,
     stability_sheet,
     style,
@@ -33,7 +37,8 @@ from scorecard.outputs.workbook.manifest import run_manifest
 from scorecard.outputs.workbook.pooled_scores import pooled_scores
 from scorecard.outputs.workbook.tables import set_print_layout
 
-CARD_SHEETS = ("Characteristics", "Bins", "Model", "Points", "Score bands", "Stability")
+CARD_SHEETS = ("Characteristics", "Bins", "Model", "Points", "Score bands", "Stability",
+               "Calculator")
 POOLED_BANDS = "Score bands"
 MAX_SHEET_NAME = 31
 _NOT_IN_SHEET_NAME = re.compile(r"[\[\]:*?/\\']")
@@ -68,21 +73,29 @@ def write_segmented_workbook(result, path, waterfall=None) -> Path:
     _write_overview(ws, result, waterfall)
     pooled = pooled_scores(result)
     sheets.write_score_bands(wb.create_sheet(POOLED_BANDS), pooled)
+    calculator_sheet = wb.create_sheet(segment_calculator.SHEET)
     if result.config.grades is not None:
         from scorecard.outputs.workbook.grades_sheet import TITLE, write_grades_sheet
         write_grades_sheet(wb.create_sheet(TITLE), pooled)
     taken = {name.lower() for name in wb.sheetnames}
+    names: set = set()          # workbook names of the formulas, shared by every calculator
+    inputs = segment_calculator.input_cells(result.card)
+    calculators = {}
     for name, part in result.segments.items():
         own = {sheet: wb.create_sheet(segment_sheet_name(sheet, name, taken))
                for sheet in CARD_SHEETS}
         sheets.write_characteristics(own["Characteristics"], part)
         bins_sheet.write_bins(own["Bins"], part)
         sheets.write_model(own["Model"], part)
-        sheets.write_points(own["Points"], part)
+        points_header, _ = sheets.write_points(own["Points"], part)
         sheets.write_score_bands(own["Score bands"], part)
         limits = part.config.stability
         stability_sheet.write_stability(own["Stability"], part.stability,
                                         watch=limits.watch, shift=limits.shift)
+        calculators[name] = own["Calculator"].title
+        calculator.write_calculator(own["Calculator"], part.card, points_header,
+                                    points_sheet=own["Points"].title, taken=names,
+                                    inputs=inputs)
         if part.fairness is not None:
             from scorecard.outputs.workbook.fairness_sheet import write_fairness_sheet
             write_fairness_sheet(wb.create_sheet(segment_sheet_name("Fairness", name, taken)),
@@ -91,6 +104,10 @@ def write_segmented_workbook(result, path, waterfall=None) -> Path:
             from scorecard.outputs.workbook.rejects_sheet import write_rejects_sheet
             write_rejects_sheet(wb.create_sheet(segment_sheet_name("Reject inference", name,
                                                                    taken)), part.rejects, part)
+    segment_calculator.write_segment_calculator(calculator_sheet, result.card, calculators,
+                                                names)
+    # Spreadsheet programs compute the calculators' formulas when the file opens.
+    wb.calculation.fullCalcOnLoad = True
     wb.properties.creator = "scorecard"
     path = Path(path)
     save_book(wb, path)
@@ -136,10 +153,10 @@ def _write_overview(ws, result, waterfall) -> None:
     page.fact("Good:bad odds at the base score", s.base_odds, "0.##")
     page.fact("Points to double the odds", s.pdo, "0.##")
     page.fact("Lowest and highest attainable score", f"{card.min_score} to {card.max_score}")
-    page.paragraph("The Calculator of a single card is not written for a segmented model: "
-                   "add the points of the attributes on the segment's Points sheet; the odds "
-                   "of a score are base odds x 2^((score - base score) / points to double).",
-                   style.NOTE_FONT)
+    page.paragraph("The Calculator takes the value of the segment column and the raw values, "
+                   "and scores them with the segment's card (each card's own Calculator sheet "
+                   "does the work); the odds of a score are base odds x 2^((score - base "
+                   "score) / points to double).", style.NOTE_FONT)
 
     manifest = run_manifest(config, rows_sha256=result.rows_sha256)
     page.heading("Run manifest")
