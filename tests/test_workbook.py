@@ -645,6 +645,49 @@ def test_libreoffice_recalculates_typed_values_to_the_scores_of_scorecard_score(
     assert odd
 
 
+@pytest.mark.skipif(shutil.which("soffice") is None, reason="LibreOffice (soffice) is not installed")
+def test_the_calculator_says_a_refused_value_is_refused_as_scorecard_score_does(tmp_path):
+    # Reference: the product's own scorer on the same raw values: a value in a bin the card
+    # refuses gets no score, no points for that characteristic and REJECTED:<name>; the
+    # spreadsheet (LibreOffice recalculating) shows no points, no total and says why.
+    from cli_harness import assert_done, run
+
+    config = _tiny_config(tmp_path)
+    config.write_text(config.read_text().replace(
+        "scoring: {out_of_range: worst}", "scoring: {out_of_range: reject, unseen_level: reject}"))
+    result = scorecard.api.build(config)
+    card = result.card
+    numeric = next(c for c in card.characteristics if c.kind == "numeric")
+    categorical = next(c for c in card.characteristics if c.kind == "categorical")
+    unseen = card_frames.attribute_labels(categorical)[categorical.bin_index(UNSEEN)]
+    beyond = numeric.development_range[1] + 10
+    assert numeric.bins[numeric.bin_index(OUT_OF_RANGE)].rejected
+    assert categorical.bins[categorical.bin_index(UNSEEN)].rejected
+    plain = [lv for b in categorical.bins for lv in b.levels][0]
+    raw = pd.DataFrame({numeric.name: [beyond, 0.0], categorical.name: [plain, "houseboat"]})
+    raw.to_csv(tmp_path / "raw.csv", index=False)
+    assert_done(run("score", result.outputs["model"], tmp_path / "raw.csv", "--out",
+                    tmp_path / "scored.csv"))
+    scored = pd.read_csv(tmp_path / "scored.csv")
+    attribute = card_frames.attribute_labels(categorical)[
+        next(i for i, b in enumerate(categorical.bins) if plain in b.levels)]
+    entries = {"Beyond": {numeric.name: beyond, categorical.name: attribute},
+               "Unseen": {numeric.name: 0.0, categorical.name: unseen}}
+    book = _calculator_copies(result.outputs["workbook"], tmp_path / "refused.xlsx", card, [],
+                              entries)
+    done = load_workbook(_recalculate([book], tmp_path)[0], data_only=True)
+    k = len(card.characteristics)
+    for title, char, j in (("Beyond", numeric, 0), ("Unseen", categorical, 1)):
+        ws = done[title]
+        row = 2 + card.names.index(char.name)
+        assert pd.isna(scored.loc[j, "score"]) and pd.isna(scored.loc[j, f"points_{char.name}"])
+        assert scored.loc[j, "reason_1"] == f"REJECTED:{char.name}"
+        assert ws.cell(row, 5).value == f"refused: the card gives no score (REJECTED:{char.name})"
+        assert ws.cell(row, 4).value == "#N/A" and ws.cell(k + 3, 4).value == "#N/A"
+        other = 2 + card.names.index((categorical if char is numeric else numeric).name)
+        assert ws.cell(other, 5).value == "ok"
+
+
 def test_calculator_lists_come_from_named_ranges_on_the_points_sheet(book):
     ws = book["Calculator"]
     rules = ws.data_validations.dataValidation

@@ -22,7 +22,7 @@ from openpyxl.worksheet.datavalidation import DataValidation
 from openpyxl.worksheet.worksheet import Worksheet
 
 from scorecard.card import frames as card_frames
-from scorecard.card.scoring import bin_codes
+from scorecard.card.scoring import REFUSED_PREFIX, bin_codes
 from scorecard.outputs.workbook import style
 from scorecard.outputs.workbook.calculator_values import write_value_rules
 from scorecard.outputs.workbook.tables import (
@@ -41,7 +41,8 @@ MAX_NAME = 200
 HOW = ("For a numeric characteristic type its value in column B (leave the cell empty for a "
        "missing value); the table on the right finds its attribute. For a categorical one "
        "choose an attribute from the list. The points come from the Points sheet; a check "
-       "other than 'ok' means the entry has no attribute.")
+       "other than 'ok' means the entry has no attribute, or one the card refuses to score "
+       "(then there is no total, as scorecard score gives none).")
 DRIVEN_HOW = ("This card's calculator reads the values typed on the Calculator sheet (type them "
               "there): a numeric value or a categorical level in column B finds its attribute "
               "by the table on the right; the points come from this card's Points sheet.")
@@ -183,7 +184,7 @@ def _characteristic_row(ws, row, char, attributes, points, offset, value_formula
                               showErrorMessage=True, errorTitle="Not an attribute",
                               error="Choose one of the attributes in the list.")
         wrong = '"choose one of its attributes"'
-    _points_and_check(ws, row, attributes, points, offset, wrong)
+    _points_and_check(ws, row, char, attributes, points, offset, wrong)
     ws.add_data_validation(rule)
     rule.add(entry)
 
@@ -195,15 +196,38 @@ def _driven_row(ws, row, char, attributes, points, offset, value_formula, source
     ws.cell(row, 3, "=" + value_formula(source)).alignment = style.TEXT
     other = "type a number" if char.kind == "numeric" else "a level this card has no attribute for"
     wrong = f'IF(ISBLANK({source}),"empty, and it has no missing attribute","{other}")'
-    _points_and_check(ws, row, attributes, points, offset, wrong)
+    _points_and_check(ws, row, char, attributes, points, offset, wrong)
 
 
-def _points_and_check(ws, row, attributes, points, offset, wrong) -> None:
-    """Columns D and E: the attribute's points from the Points sheet, and the check."""
+def formula_text(value) -> str:
+    """A string literal of a formula.
+
+    Examples
+    --------
+    >>> print(formula_text('5" tyres'))
+    "5"" tyres"
+    """
+    return '"' + str(value).replace('"', '""') + '"'
+
+
+def _points_and_check(ws, row, char, attributes, points, offset, wrong) -> None:
+    """Columns D and E: the attribute's points from the Points sheet, and the check.
+
+    An attribute the card refuses (a bin whose scoring rule is ``reject``) gives no points and
+    so no total, as ``scorecard score`` leaves the row's score empty, and its check says so.
+    """
     position = f"SUMPRODUCT(EXACT({attributes},C{row})*(ROW({attributes})-{offset}))"
-    ws.cell(row, 4, f"=IF(ISERROR(C{row}),NA(),INDEX({points},{position}))").number_format = \
-        style.INTEGER
-    ws.cell(row, 5, f'=IF(ISERROR(D{row}),{wrong},"ok")').alignment = style.TEXT
+    lookup = f"INDEX({points},{position})"
+    check = '"ok"'
+    refused = [label for label, b in zip(card_frames.attribute_labels(char), char.bins)
+               if b.rejected]
+    if refused:
+        test = "OR(" + ",".join(f"EXACT(C{row},{formula_text(label)})" for label in refused) + ")"
+        lookup = f"IF({test},NA(),{lookup})"
+        check = (f'IF({test},{formula_text(f"refused: the card gives no score ({REFUSED_PREFIX}{char.name})")},'
+                 f'"ok")')
+    ws.cell(row, 4, f"=IF(ISERROR(C{row}),NA(),{lookup})").number_format = style.INTEGER
+    ws.cell(row, 5, f"=IF(ISERROR(C{row}),{wrong},{check})").alignment = style.TEXT
 
 
 def write_totals(ws, last_char_row: int, scaling, how: str | None = None) -> list[str]:

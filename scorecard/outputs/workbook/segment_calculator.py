@@ -24,6 +24,7 @@ from scorecard.outputs.workbook import style
 from scorecard.outputs.workbook.calculator import (
     default_attribute,
     defined_name,
+    formula_text,
     typical_value,
     write_headers,
     write_totals,
@@ -52,11 +53,6 @@ def input_cells(model) -> dict:
 def card_rows(card) -> dict:
     """Characteristic name -> its row on the card's own calculator sheet."""
     return {c.name: 2 + i for i, c in enumerate(card.characteristics)}
-
-
-def _text(value: str) -> str:
-    """A string literal of a formula."""
-    return '"' + str(value).replace('"', '""') + '"'
 
 
 def write_segment_calculator(ws: Worksheet, model, sheets: dict, taken: set) -> None:
@@ -114,7 +110,7 @@ def _by_segment(model, sheets: dict, name: str, col: int, absent: str) -> str:
         rows = card_rows(card)
         value = (f"{quote_sheetname(sheets[segment])}!{letter}{rows[name]}"
                  if name in rows else absent)
-        out = f"IF(EXACT($C${SEGMENT_ROW},{_text(segment)}),{value},{out})"
+        out = f"IF(EXACT($C${SEGMENT_ROW},{formula_text(segment)}),{value},{out})"
     if col == 5:
         return f'IF(ISERROR($C${SEGMENT_ROW}),"no segment",{out})'
     return f"IF(ISERROR($C${SEGMENT_ROW}),NA(),{out})"
