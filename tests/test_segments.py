@@ -352,22 +352,12 @@ def test_compare_pools_the_scores_and_keeps_each_cards_characteristics(reversed_
     model, data, fresh = folder / "out/segmented.json", folder / "data.csv", folder / "fresh.csv"
     result = api.compare(model, data, fresh, json_path=tmp_path / "c.json",
                          workbook=tmp_path / "c.xlsx")
-    scored = {}
-    for name, path in (("baseline", data), ("current", fresh)):
-        api.score(model, path, tmp_path / f"{name}.csv", keep=["outcome"])
-        scored[name] = pd.read_csv(tmp_path / f"{name}.csv").dropna(subset=["score"])
+    scored = _scored_files(model, {"baseline": data, "current": fresh}, tmp_path)
     # Reference: pandas over the scored files' score column, with the product's band starts;
     # PSI = sum (a - e) ln(a / e), published.
     table = result.stability.score.table
-    starts = [int(label.split(" to ")[0]) for label in table["Band"]]
-    edges = starts + [np.inf]
-    shares = {name: pd.cut(frame["score"], edges, right=False).value_counts(normalize=True,
-                                                                             sort=False).to_numpy()
-              for name, frame in scored.items()}
-    e, a = shares["baseline"], shares["current"]
-    assert (e > 0).all() and (a > 0).all()
-    assert result.stability.score.index == pytest.approx(float(((a - e) * np.log(a / e)).sum()),
-                                                         rel=1e-9)
+    psi = _psi_by_pandas(scored["baseline"]["score"], scored["current"]["score"], table["Band"])
+    assert result.stability.score.index == pytest.approx(psi, rel=1e-9)
     assert table["Baseline rows"].sum() == len(scored["baseline"]) == 6000
     # Reference library: sklearn's AUC of the pooled scores, goods scoring higher.
     current = scored["current"]
@@ -668,6 +658,16 @@ def test_the_segmented_demo_shows_an_exclusion_two_segments_and_reject_inference
     assert sum(p.rejects.excluded for p in result.segments.values()) > 0
 
 
+def _scored_files(model, files: dict, folder) -> dict:
+    """``scorecard score`` of each file (keeping the outcome and the segment column), the rows
+    it scored."""
+    scored = {}
+    for name, path in files.items():
+        api.score(model, path, folder / f"{name}.csv", keep=["outcome", "customer"])
+        scored[name] = pd.read_csv(folder / f"{name}.csv").dropna(subset=["score"])
+    return scored
+
+
 def _psi_by_pandas(baseline: pd.Series, current: pd.Series, band_labels) -> float:
     """PSI = sum (a - e) ln(a / e) over the bands (published), shares counted by pandas."""
     edges = [int(label.split(" to ")[0]) for label in band_labels] + [np.inf]
@@ -698,10 +698,7 @@ def test_compare_gives_each_segment_its_own_score_index_and_ranking(reversed_cas
     model, data, fresh = folder / "out/segmented.json", folder / "data.csv", folder / "fresh.csv"
     result = api.compare(model, data, fresh, json_path=tmp_path / "c.json",
                          workbook=tmp_path / "c.xlsx")
-    scored = {}
-    for name, path in (("baseline", data), ("current", fresh)):
-        api.score(model, path, tmp_path / f"{name}.csv", keep=["outcome", "customer"])
-        scored[name] = pd.read_csv(tmp_path / f"{name}.csv").dropna(subset=["score"])
+    scored = _scored_files(model, {"baseline": data, "current": fresh}, tmp_path)
     saved = json.loads((tmp_path / "c.json").read_text())["segments"]
     levels = {"new": ["new"], "existing": ["existing", "renewed"]}
     for name, part in result.segments.items():

@@ -16,6 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from scorecard.build.result import BuildResult
 from scorecard.evaluation.histograms import (
     ScoreHistogram,
     band_edges,
@@ -47,21 +48,9 @@ class PooledScores:
                     "all on the one scale, so one cut-off acts on them together. Each "
                     "segment's own bands are on its Score bands (<segment>) sheet.",)
 
-    def band_cutoffs(self):
-        """Approval rate and bad rates when cutting at each score band's lowest score."""
-        from scorecard.evaluation.strategy import band_cutoffs
-        hist = self.histograms[self.gains_sample]
-        return band_cutoffs(hist.low, hist.goods, hist.bads, self.band_starts)
-
-    def grades(self):
-        """The risk grades the config asks for, on the pooled scores; None without them."""
-        spec = getattr(self.config, "grades", None)
-        if spec is None:
-            return None
-        from scorecard.evaluation.grades import grade_table
-        return grade_table(self.histograms[self.gains_sample], self.card.scaling,
-                           count=spec.count, edges=spec.edges,
-                           long_run_bad_rate=spec.long_run_bad_rate)
+    # The build result's own readings of its scores, so that both are read alike.
+    band_cutoffs = BuildResult.band_cutoffs
+    grades = BuildResult.grades
 
 
 def pooled_scores(result) -> PooledScores:
