@@ -30,7 +30,8 @@ from scorecard.outputs.workbook.tables import (
     write_table,
 )
 
-SHEETS = ("Summary", "Score stability", "Characteristic stability", "Performance", "By segment")
+SHEETS = ("Summary", "Score stability", "Characteristic stability", "Performance")
+SEGMENTS_SHEET = "By segment"      # after the others, under a segmented model
 INDEX = "0.0000"
 P_VALUE = "0.0000"
 # The caution spans the width of the index table, so it reads as one paragraph above it.
@@ -76,7 +77,7 @@ def write_compare_workbook(comparison: Comparison, path) -> None:
     _write_characteristic_sheet(book.create_sheet(SHEETS[2]), comparison)
     _write_performance_sheet(book.create_sheet(SHEETS[3]), comparison)
     if comparison.segments:
-        _write_segments_sheet(book.create_sheet(SHEETS[4]), comparison)
+        _write_segments_sheet(book.create_sheet(SEGMENTS_SHEET), comparison)
     save_book(book, path)
 
 

@@ -22,7 +22,8 @@ from scorecard.outputs.workbook import style
 from scorecard.outputs.workbook.charts import Plotted, line_chart
 from scorecard.outputs.workbook.tables import finish_table_sheet, set_print_layout, write_table
 
-SHEETS = ("Periods", "Characteristic stability", "By segment")
+SHEETS = ("Periods", "Characteristic stability")
+SEGMENTS_SHEET = "By segment"      # after the others, under a segmented model
 INDEX = "0.0000"
 SCORE = "0.0"
 # Watch takes the light warm tint of higher risk; shift a deeper one of the same hue.
@@ -65,7 +66,7 @@ def write_monitoring_workbook(result: Monitoring, path) -> None:
     _write_periods(periods, result)
     _write_characteristics(book.create_sheet(SHEETS[1]), result)
     if result.periods[0].segments:
-        _write_segments(book.create_sheet(SHEETS[2]), result)
+        _write_segments(book.create_sheet(SEGMENTS_SHEET), result)
     save_book(book, path)
 
 
