@@ -984,6 +984,14 @@ def test_the_calculator_picks_the_card_by_segment_as_scorecard_score_does(demo_s
 
     result, folder = demo_segmented
     model = result.card
+    # The Overview's waterfall carries the declined applications' own lines (exact counts by
+    # pandas on the declined file).
+    waterfall = _overview_table(load_workbook(result.outputs["workbook"])["Overview"], "Step")
+    left = dict(zip(waterfall["Step"], waterfall["Rows left"]))
+    declined = pd.read_csv(folder / "declined.csv")
+    assert left["Declined applications read"] == len(declined)
+    assert left["Declined applications left for reject inference"] == int(
+        (declined["staff_application"] != "yes").sum())
     rows = _calculator_rows(model, pd.read_csv(folder / "applications_recent_by_month.csv"))
     rows.to_csv(tmp_path / "rows.csv", index=False)
     ran = CliRunner().invoke(main, ["score", str(result.outputs["model"]),
