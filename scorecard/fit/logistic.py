@@ -77,6 +77,40 @@ class _Optimum(NamedTuple):
     hessian: np.ndarray
     converged: bool
     iterations: int
+    last: RowSums                # the pass at the coefficients (over the wider design if any)
+
+
+class RowSums(NamedTuple):
+    """Sums over the rows at some coefficients; a field is None where it was not made.
+
+    Attributes
+    ----------
+    eta : ndarray of shape (n,)
+        Linear predictor of each row.
+    gradient : ndarray of shape (k,)
+        ``X' (s - n p)``: the score of each column.
+    information : ndarray of shape (k, k)
+        ``X' diag(n p (1 - p)) X``.
+    log_likelihood : float
+    """
+
+    eta: np.ndarray | None = None
+    gradient: np.ndarray | None = None
+    information: np.ndarray | None = None
+    log_likelihood: float | None = None
+
+
+class NewtonResult(NamedTuple):
+    """What :func:`newton_fit` returns: the coefficients (intercept first), the information
+    matrix of the last full Newton step, the log-likelihood and the linear predictor of each
+    row, all at the optimum; with a wider design, the sums over all of its columns there
+    (:class:`RowSums`, the information matrix at the optimum itself), else None."""
+
+    coefficients: np.ndarray
+    information: np.ndarray
+    log_likelihood: float
+    eta: np.ndarray
+    wide: RowSums | None = None
 
 
 def fit_logistic(X, successes, failures, names=None, start=None) -> LogisticFit:
@@ -121,27 +155,40 @@ def fit_logistic(X, successes, failures, names=None, start=None) -> LogisticFit:
     """
     X1, s, f = _prepare(X, successes, failures)
     names = _column_names(names, X1.shape[1] - 1)
+    return fit_prepared(X1, s, f, names, _start(start, X1.shape[1]), stacklevel=3)
+
+
+def fit_prepared(X1, s, f, names, start=None, *, hessian=None, stacklevel=2) -> LogisticFit:
+    """The unchecked core of :func:`fit_logistic`, for a design prepared once.
+
+    ``X1`` holds the intercept column first and only rows of positive weight; ``names`` are
+    the names of its other columns. ``hessian``, when given, is the information matrix at
+    ``start`` (a caller that fitted these columns before holds it), so that the first Newton
+    step makes no pass over the design for it; the optimum does not depend on it.
+    """
     _require_full_rank(X1, names)
-    optimum = _newton(X1, s, f, _start(start, X1.shape[1]), np.zeros(X1.shape[1]))
-    coefficients = optimum.coefficients
+    optimum = _newton(X1, s, f, start, np.zeros(X1.shape[1]), at_start=RowSums(
+        information=hessian))
+    coefficients, eta = optimum.coefficients, optimum.last.eta
     # The information matrix at the optimum itself, not the one Newton's last step reused.
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        information = information_at(X1, s + f, X1 @ coefficients)
+        information = information_at(X1, s + f, eta)
         try:
             standard_errors = np.sqrt(np.diag(np.linalg.inv(information)))
         except np.linalg.LinAlgError:
             standard_errors = np.full(X1.shape[1], np.inf)
-    trouble = _trouble(optimum, standard_errors, X1)
+    trouble = _trouble(optimum, standard_errors)
     if trouble is None:
         converged, iterations = True, optimum.iterations
     else:
         coefficients, standard_errors, iterations = _ridge_fallback(X1, s, f)
+        eta = X1 @ coefficients
         converged = False
         warnings.warn(
             f"logistic fit on {', '.join(names) or 'the intercept alone'}: {trouble}; "
             f"returning a ridge-penalised fit (strength {_FALLBACK_RIDGE:g} per unit weight on "
             "standardised columns) whose standard errors are approximate",
-            stacklevel=2,
+            stacklevel=stacklevel,
         )
     z_values = coefficients / standard_errors
     return LogisticFit(
@@ -150,7 +197,7 @@ def fit_logistic(X, successes, failures, names=None, start=None) -> LogisticFit:
         standard_errors=standard_errors,
         z_values=z_values,
         p_values=2.0 * special.ndtr(-np.abs(z_values)),
-        log_likelihood=_log_likelihood(X1 @ coefficients, s, f),
+        log_likelihood=_log_likelihood(eta, s, f),
         converged=converged,
         iterations=iterations,
     )
@@ -191,8 +238,8 @@ def fit_logistic_fast(X, successes, failures, start=None) -> tuple[np.ndarray, n
     array([-1.0986,  2.1972])
     """
     X1, s, f = _prepare(X, successes, failures)
-    coefficients, _, _ = newton_fit(X1, s, f, _start(start, X1.shape[1]))
-    return coefficients, information_at(X1, s + f, X1 @ coefficients)
+    fitted = newton_fit(X1, s, f, _start(start, X1.shape[1]))
+    return fitted.coefficients, information_at(X1, s + f, fitted.eta)
 
 
 def penalised_fit(X, successes, failures, penalty: float) -> np.ndarray:
@@ -213,24 +260,34 @@ def penalised_fit(X, successes, failures, penalty: float) -> np.ndarray:
     return _newton(X1, s, f, None, weights).coefficients
 
 
-def newton_fit(X1, s, f, start=None, tolerance=_STEP_TOLERANCE, *,
-               hessian=None) -> tuple[np.ndarray, np.ndarray, float]:
+def newton_fit(X1, s, f, start=None, tolerance=_STEP_TOLERANCE, *, at_start=None,
+               wide=None) -> NewtonResult:
     """The unchecked core of :func:`fit_logistic_fast`, for designs prepared once.
 
     ``X1`` holds the intercept column and only rows of positive weight. Returns the
     coefficients, the information matrix of the last full Newton step (close to the one at the
-    optimum) and the log-likelihood at the optimum. ``hessian``, when given, is the information
-    matrix at ``start``, which a caller may already hold (forward selection's score test does);
-    the first step then makes no pass over the design for it.
+    optimum), the log-likelihood and the linear predictor at the optimum.
+
+    ``at_start``, when given, is what the caller already holds at ``start``
+    (:class:`RowSums`; forward selection's score test holds it all): its information matrix
+    spares the first Newton step a weighted cross product, and with its gradient too the
+    first pass over the rows is not made at all. ``wide``, when given, is a design whose
+    leading columns are ``X1``: the last pass, at the optimum, then sums over all of its
+    columns, which is all that a score test of the others needs (``NewtonResult.wide``).
     """
-    optimum = _newton(X1, s, f, start, np.zeros(X1.shape[1]), tolerance, hessian)
+    optimum = _newton(X1, s, f, start, np.zeros(X1.shape[1]), tolerance, at_start, wide)
     if not optimum.converged:
         warnings.warn(
             f"fast logistic fit did not converge after {optimum.iterations} iterations "
             "(the data may be separated); returning the last iterate",
             stacklevel=3,
         )
-    return optimum.coefficients, optimum.hessian, _log_likelihood(X1 @ optimum.coefficients, s, f)
+    last = optimum.last
+    log_likelihood = last.log_likelihood
+    if log_likelihood is None:
+        log_likelihood = _log_likelihood(last.eta, s, f)
+    return NewtonResult(optimum.coefficients, optimum.hessian, log_likelihood, last.eta,
+                        last if wide is not None and optimum.converged else None)
 
 
 def score_test(X_in, X_candidates, successes, failures, coefficients):
@@ -291,6 +348,14 @@ def score_statistics(X1, Z, s, f, coefficients):
     weighted = X1 * weight[:, None]
     return score_statistics_from_sums(Z.T @ (s - (s + f) * p), (Z * Z).T @ weight,
                                       weighted.T @ Z, weighted.T @ X1)
+
+
+def sums_at(X1, s, f, eta) -> tuple[np.ndarray, np.ndarray]:
+    """The score ``X1' (s - n p)`` and information ``X1' diag(n p (1 - p)) X1`` of every column
+    at the linear predictor ``eta``, in one pass over the rows: all that score tests of columns
+    against a model fitted on others need (see :func:`score_statistics_from_sums`)."""
+    sums = _sweep(X1, s, s + f, eta=eta, information=True)
+    return sums.gradient, sums.information
 
 
 def score_statistics_from_sums(score, own, cross, information):
@@ -411,7 +476,16 @@ def _column_names(names, k: int) -> tuple[str, ...]:
 
 
 def _require_full_rank(X1: np.ndarray, names: tuple[str, ...]) -> None:
-    scaled = X1 / np.maximum(np.abs(X1).max(axis=0), np.finfo(float).tiny)
+    scale = np.maximum(np.maximum(X1.max(axis=0), -X1.min(axis=0)), np.finfo(float).tiny)
+    # The eigenvalues of the scaled cross products X'X are the squared singular values of the
+    # scaled design, and rounding moves them by about n * eps of the largest. A smallest one
+    # a thousand times beyond that is full rank by numpy's matrix_rank rule as well, which is
+    # all that most designs need: a k x k eigenproblem, not an SVD of the n x k design. Only a
+    # design near that line pays for the SVD, which also names the offending column.
+    eigenvalues = np.linalg.eigvalsh(weighted_gram(X1) / np.outer(scale, scale))
+    if eigenvalues[0] > 1e3 * max(X1.shape) * np.finfo(float).eps * eigenvalues[-1]:
+        return
+    scaled = X1 / scale
     if np.linalg.matrix_rank(scaled) == X1.shape[1]:
         return
     for j in range(1, X1.shape[1]):
@@ -422,7 +496,7 @@ def _require_full_rank(X1: np.ndarray, names: tuple[str, ...]) -> None:
             )
 
 
-def _trouble(optimum: _Optimum, standard_errors, X1) -> str | None:
+def _trouble(optimum: _Optimum, standard_errors) -> str | None:
     """Say why a fit cannot be reported as a maximum-likelihood fit, if it can't."""
     if not optimum.converged:
         return (
@@ -433,7 +507,7 @@ def _trouble(optimum: _Optimum, standard_errors, X1) -> str | None:
         return "the maximum-likelihood fit gave non-finite numbers"
     # Odds beyond e**30 on an observed pattern mean a coefficient has run off to where the
     # weights underflow, which a step-size test can mistake for convergence.
-    if np.max(np.abs(X1 @ optimum.coefficients)) > _SEPARATED_LOG_ODDS:
+    if np.max(np.abs(optimum.last.eta)) > _SEPARATED_LOG_ODDS:
         return "fitted probabilities of 0 or 1 show that the data are separated"
     return None
 
@@ -453,58 +527,160 @@ def _log_likelihood(eta, s, f) -> float:
     return float((s * eta - (s + f) * np.logaddexp(0.0, eta)).sum())
 
 
-def _newton(X1, s, f, start, penalty, tolerance=_STEP_TOLERANCE, hessian=None) -> _Optimum:
+def _newton(X1, s, f, start, penalty, tolerance=_STEP_TOLERANCE, at_start=None,
+            wide=None) -> _Optimum:
     """Maximise the log-likelihood minus ``sum(penalty * b**2) / 2`` by damped Newton steps.
 
-    The linear predictor of each accepted iterate is kept, so each iteration costs one
-    product with the design for the predictor and one for the information matrix.
-    ``hessian``, when given, is the information matrix at ``start``.
+    Each iterate is visited by one pass over the rows (:func:`_sweep`) that yields its linear
+    predictor and gradient and, while steps are large, its information matrix and
+    log-likelihood. ``at_start`` (:class:`RowSums`) holds what the caller knows at ``start``.
+    ``wide``, when given, is a design whose leading columns are ``X1``: the pass at the optimum
+    then sums over all of its columns (``_Optimum.last``), as a score test of the others needs.
     """
     n = s + f
+    k = X1.shape[1]
     if start is None:
-        start = np.zeros(X1.shape[1])
+        start = np.zeros(k)
         start[0] = np.log(s.sum() / f.sum())
     b = np.asarray(start, dtype=float).copy()
-    eta = X1 @ b
-    current = _log_likelihood(eta, s, f) - 0.5 * penalty @ b**2
-    last_step = np.inf
+    known = at_start if at_start is not None else RowSums()
+    hessian = known.information
+    if known.gradient is None or hessian is None:
+        here = _sweep(X1, s, n, b, information=hessian is None)
+        hessian = here.information if hessian is None else hessian
+    else:
+        eta = X1 @ b if known.eta is None else known.eta
+        here = RowSums(eta, known.gradient, hessian, known.log_likelihood)
+    gradient = here.gradient[:k] - penalty * b
+    current = None     # the penalised log-likelihood at b, made when a step needs checking
+    if known.log_likelihood is not None:
+        current = known.log_likelihood - 0.5 * penalty @ b**2
     for iteration in range(1, _MAX_ITERATIONS + 1):
-        p = special.expit(eta)
-        gradient = X1.T @ (s - n * p) - penalty * b
-        # Near the optimum the information matrix barely changes, so the last one is reused:
-        # the gradient is exact, so the iterates still converge to the exact optimum, and each
-        # step costs two products with the design instead of a weighted cross product.
-        if last_step > _CHECKED_STEP ** 2 and not (iteration == 1 and hessian is not None):
-            hessian = information_at(X1, n, eta)
         try:
             step = np.linalg.solve(hessian + np.diag(penalty), gradient)
         except np.linalg.LinAlgError:
             # A full-rank design whose weights have underflowed is separated: report it as
             # non-convergence. A rank-deficient one is the caller's error.
-            _require_full_rank(X1, _column_names(None, X1.shape[1] - 1))
+            _require_full_rank(X1, _column_names(None, k - 1))
             break
         scale = 1.0
         # Halving guards the rare overshoot far from the optimum; near it the full step is taken.
-        while scale > 1e-10:
+        while True:
             candidate = b + scale * step
-            candidate_eta = X1 @ candidate
-            if np.max(np.abs(scale * step)) <= _CHECKED_STEP * (1.0 + np.max(np.abs(b))):
+            size = np.max(np.abs(scale * step))
+            checked = size > _CHECKED_STEP * (1.0 + np.max(np.abs(b)))
+            size /= 1.0 + np.max(np.abs(candidate))
+            last = size <= tolerance
+            if checked and current is None:
+                current = _log_likelihood(here.eta, s, f) - 0.5 * penalty @ b**2
+            # Near the optimum the information matrix barely changes, so the last one is
+            # reused: the gradient is exact, so the iterates still converge to the exact
+            # optimum, and the pass makes no weighted cross product.
+            there = _sweep(X1, s, n, candidate, log_likelihood=checked or last,
+                           information=size > _CHECKED_STEP ** 2 or (last and wide is not None),
+                           wide=wide if last else None)
+            if not checked:
                 value = current
                 break
-            value = _log_likelihood(candidate_eta, s, f) - 0.5 * penalty @ candidate**2
-            if value >= current - 1e-12 * abs(current):
+            value = there.log_likelihood - 0.5 * penalty @ candidate**2
+            if value >= current - 1e-12 * abs(current) or scale <= 1e-10:
                 break
             scale /= 2
-        b, eta, current = candidate, candidate_eta, value
-        last_step = np.max(np.abs(scale * step)) / (1.0 + np.max(np.abs(b)))
-        if last_step <= tolerance:
+        b, here, current = candidate, there, value
+        if there.information is not None:
+            hessian = there.information[:k, :k]
+        gradient = there.gradient[:k] - penalty * b
+        if last:
             # The information matrix of the last full Newton step: within a step of 1e-4 of
             # the optimum, which is close enough for z-values that only rank coefficients.
-            return _Optimum(b, hessian, True, iteration)
-    return _Optimum(b, hessian, False, iteration)
+            return _Optimum(b, hessian, True, iteration, here)
+    return _Optimum(b, hessian, False, iteration, here._replace(log_likelihood=None))
+
+
+# Rows per block of a pass: a block of a dozen or so columns stays in the cache from its
+# linear predictor to its cross product.
+_BLOCK_ROWS = 1 << 13
+
+
+def _sweep(X1, s, n, b=None, *, eta=None, log_likelihood=False, information=False,
+           wide=None) -> RowSums:
+    """The linear predictor, gradient and, on request, information matrix and log-likelihood
+    at coefficients ``b`` (or at the linear predictor ``eta``), in one pass over the rows.
+
+    A block of rows at a time goes from its linear predictor through its fitted probabilities
+    to its sums, so nothing row-sized is made but the predictor itself; the information matrix
+    comes from the block scaled by the roots of its weights and multiplied by its own transpose
+    (a symmetric rank-k update in BLAS). With ``wide``, whose leading columns are ``X1``, the
+    gradient and the information matrix span all of its columns.
+    """
+    design = X1 if wide is None else wide
+    rows, k = X1.shape
+    m = design.shape[1]
+    given = eta is not None
+    if not given:
+        eta = np.empty(rows)
+    gradient, gram, total = np.zeros(m), np.zeros((m, m)) if information else None, 0.0
+    size = min(rows, _BLOCK_ROWS)
+    p, q, work = np.empty(size), np.empty(size), np.empty(size)
+    scaled = np.empty((size, m)) if information else None
+    for start in range(0, rows, _BLOCK_ROWS):
+        stop = min(start + _BLOCK_ROWS, rows)
+        h = stop - start
+        block, e, sb, nb = design[start:stop], eta[start:stop], s[start:stop], n[start:stop]
+        if not given:
+            np.matmul(block[:, :k], b, out=e)
+        pb, wb = special.expit(e, out=p[:h]), work[:h]
+        np.multiply(nb, pb, out=wb)
+        np.subtract(sb, wb, out=wb)
+        gradient += block.T @ wb
+        if information or log_likelihood:
+            qb = special.expit(np.negative(e, out=q[:h]), out=q[:h])
+        if log_likelihood:
+            # s log p + f log(1 - p) = s eta + n log(1 - p), and 1 - p is at hand; where it
+            # underflows (odds past e**700), the slower form that cannot.
+            with np.errstate(divide="ignore"):
+                part = float((sb * e).sum() + (nb * np.log(qb)).sum())
+            if not np.isfinite(part):
+                part = float((sb * e - nb * np.logaddexp(0.0, e)).sum())
+            total += part
+        if information:
+            np.multiply(nb, pb, out=wb)
+            wb *= qb
+            np.sqrt(wb, out=wb)
+            part = scaled[:h]
+            np.multiply(block, wb[:, None], out=part)
+            gram += part.T @ part
+    return RowSums(eta, gradient, gram, total if log_likelihood else None)
 
 
 def information_at(X1, n, eta) -> np.ndarray:
     """Fisher information ``X1' diag(n p (1 - p)) X1`` at the linear predictor ``eta``."""
-    weighted = X1 * (n * special.expit(eta) * special.expit(-eta))[:, None]
-    return weighted.T @ X1
+    return _sweep(X1, n, n, eta=eta, information=True).information
+
+
+def weighted_gram(X, weights=None) -> np.ndarray:
+    """``X' diag(weights) X`` for non-negative weights (all ones by default).
+
+    A block of rows at a time is scaled by the roots of its weights into one small reused
+    buffer and multiplied by its own transpose, which BLAS does as a symmetric rank-k update:
+    half the arithmetic of a general product, and no temporary the size of ``X``.
+
+    Examples
+    --------
+    >>> weighted_gram(np.array([[1.0, 2.0], [1.0, -1.0]]), np.array([1.0, 4.0]))
+    array([[ 5., -2.],
+           [-2.,  8.]])
+    """
+    n, k = X.shape
+    root = None if weights is None else np.sqrt(weights)
+    out = np.zeros((k, k))
+    buffer = np.empty((min(n, _BLOCK_ROWS), k))
+    for start in range(0, n, _BLOCK_ROWS):
+        stop = min(start + _BLOCK_ROWS, n)
+        block = buffer[: stop - start]
+        if root is None:
+            block[...] = X[start:stop]
+        else:
+            np.multiply(X[start:stop], root[start:stop, None], out=block)
+        out += block.T @ block
+    return out

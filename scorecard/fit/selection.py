@@ -30,12 +30,14 @@ from scorecard.fit.design import CodedColumns, Groups, code_columns
 from scorecard.fit.logistic import (
     SELECTION_TOLERANCE,
     LogisticFit,
+    NewtonResult,
+    RowSums,
     as_design,
     as_weights,
-    fit_logistic,
-    information_at,
+    fit_prepared,
     newton_fit,
     score_statistics_from_sums,
+    sums_at,
 )
 
 
@@ -260,8 +262,6 @@ def select_characteristics(
         iv=_information_values(information_values, names),
         kept=tuple(names.index(name) for name in keep),
         correlation=correlation,
-        spread=[],
-        fitted={},
     )
     _require_estimable(data)
 
@@ -284,11 +284,10 @@ def select_characteristics(
     chosen = tuple(names[j] for j in selected)
     # The final fit runs on one row per distinct pattern of the chosen columns: the same
     # likelihood as on every row, on far fewer rows (or on the rows, where patterns are not
-    # fewer). It starts from the selection's own fit of these columns: the same optimum, reached
-    # in a step or two.
-    grouped = data.design(selected)
-    fit = fit_logistic(grouped.design[:, 1:], grouped.successes, grouped.failures, names=chosen,
-                       start=data.fitted.get(tuple(selected)))
+    # fewer). It starts from the selection's own fit of these columns and its information
+    # matrix: the same optimum, reached in a step or two.
+    start, information = data.fitted.get(tuple(selected), (None, None))
+    fit = fit_prepared(*data.design(selected), chosen, start, hessian=information)
     _warn_about_outcome(fit, chosen, keep)
     vif = data.vif(selected)
     for j in selected:
@@ -314,20 +313,51 @@ class _Grouped(NamedTuple):
 
 # Grouping rows by their codes pays while the groups are far fewer than the rows. Past this
 # share, factorizing the codes and gathering one design row per group cost more than they save,
-# and the fits and score tests run on the rows (the patterns of all candidates) themselves.
+# and the fits run on the rows (the patterns of all candidates) themselves.
 _UNGROUPED_SHARE = 0.5
 
 
-class _Candidates(NamedTuple):
-    coded: CodedColumns          # rows of positive weight only
-    successes: np.ndarray
-    failures: np.ndarray
-    names: list[str]
-    iv: np.ndarray
-    kept: tuple[int, ...]
-    correlation: np.ndarray
-    spread: list                 # column sets whose groups are hardly fewer than the rows
-    fitted: dict                 # columns (in order) -> coefficients of their fast fit
+class _RowDesign:
+    """The values of some candidates on the rows, intercept first, in one column-major matrix.
+
+    Its columns are swapped in place so that the columns of the model at hand lead, in order:
+    the model's design is then a view of the leading columns, with no copy, and the candidates
+    that a score test weighs against it are the columns after them.
+    """
+
+    def __init__(self, coded: CodedColumns, columns):
+        self.order = [-1, *columns]          # -1 is the intercept
+        self.matrix = np.empty((coded.n_rows, len(self.order)), order="F")
+        self.matrix[:, 0] = 1.0
+        for i, j in enumerate(columns, start=1):
+            np.take(coded.values[j], coded.codes[:, j], out=self.matrix[:, i])
+
+    def holds(self, columns) -> bool:
+        return set(columns) <= set(self.order)
+
+    def leading(self, columns) -> np.ndarray:
+        """The intercept and ``columns``, in this order, as a view of the leading columns."""
+        matrix = self.matrix
+        for i, j in enumerate(columns, start=1):
+            at = self.order.index(j)
+            if at != i:
+                held = matrix[:, i].copy()
+                matrix[:, i] = matrix[:, at]
+                matrix[:, at] = held
+                self.order[i], self.order[at] = j, self.order[i]
+        return matrix[:, : 1 + len(columns)]
+
+
+class _Candidates:
+    """The rows of positive weight, and what selection learns of the candidates as it goes."""
+
+    def __init__(self, coded: CodedColumns, successes, failures, names, iv, kept, correlation):
+        self.coded = coded
+        self.successes, self.failures = successes, failures
+        self.names, self.iv, self.kept, self.correlation = names, iv, kept, correlation
+        self.spread = []          # column sets whose groups are hardly fewer than the rows
+        self.fitted = {}          # columns (in order) -> coefficients and information matrix
+        self._rows = None         # _RowDesign, made when first needed
 
     def grouped(self, groups: Groups) -> _Grouped:
         # Filled in place: one design-sized array, however many columns are chosen.
@@ -338,17 +368,17 @@ class _Candidates(NamedTuple):
                                for w in (self.successes, self.failures))
         return _Grouped(design, successes, failures)
 
-    def row_design(self, columns, capacity: int = 0) -> np.ndarray:
-        """The design of ``columns`` on the rows, intercept first, with room for more columns.
+    def hold_rows(self, columns) -> None:
+        """Make the one row design, of ``columns``: every column that a later model or score
+        test can name, so that it is made once."""
+        if self._rows is None or not self._rows.holds(columns):
+            self._rows = _RowDesign(self.coded, columns)
 
-        Column-major, so that each column is filled and read contiguously and a model of the
-        first ``k`` columns is a view of the first ``k`` of them.
-        """
-        design = np.empty((self.coded.n_rows, max(capacity, 1 + len(columns))), order="F")
-        design[:, 0] = 1.0
-        for i, j in enumerate(columns):
-            np.take(self.coded.values[j], self.coded.codes[:, j], out=design[:, 1 + i])
-        return design
+    def rows(self, columns) -> _Grouped:
+        """The design of ``columns`` on the rows, intercept first: leading columns of the row
+        design, which holds them."""
+        self.hold_rows(columns)
+        return _Grouped(self._rows.leading(columns), self.successes, self.failures)
 
     def is_spread(self, columns) -> bool:
         """Whether rows grouped by ``columns`` are known to be hardly fewer than the rows: as
@@ -364,54 +394,46 @@ class _Candidates(NamedTuple):
             if groups.count <= _UNGROUPED_SHARE * self.coded.n_rows:
                 return self.grouped(groups)
             self.spread.append(frozenset(columns))
-        return _Grouped(self.row_design(columns), self.successes, self.failures)
+        return self.rows(columns)
 
-    def fast_fit(self, columns, start=None):
-        """Coefficients, information matrix and log-likelihood of the model on ``columns``."""
+    def fast_fit(self, columns):
+        """Coefficients, information matrix and log-likelihood of the model on ``columns``.
+
+        A model fitted before starts from its optimum and its information matrix: a single
+        step that makes no pass over the design for the matrix confirms it.
+        """
         columns = tuple(columns)
-        if start is None:
-            start = self.fitted.get(columns)
-        out = newton_fit(*self.design(columns), start, SELECTION_TOLERANCE)
-        self.fitted[columns] = out[0]
-        return out
+        start, information = self.fitted.get(columns, (None, None))
+        fit = newton_fit(*self.design(columns), start, SELECTION_TOLERANCE,
+                         at_start=RowSums(information=information))
+        self.fitted[columns] = (fit.coefficients, fit.information)
+        return fit.coefficients, fit.information, fit.log_likelihood
 
-    def score(self, model: _Model, coefficients, columns):
+    def wide(self, model: _Model) -> np.ndarray | None:
+        """The row design, the model's columns leading, where the model is fitted on it: its
+        fit's last pass then sums over the candidates too."""
+        return None if model.groups is not None else self._rows.matrix
+
+    def score(self, model: _Model, fit: NewtonResult, columns):
         """Score-test statistics and p-values of ``columns``, each against the fitted model,
         and the information matrix of the model and the candidates at its optimum.
 
-        The model's fitted probability is a function of the group, so the sums over rows that
-        the test needs are made block by block from the codes. Returns the statistics, the
-        p-values and the sums (:class:`_Sums`).
+        The sums the tests need are those of the row design, the model's columns leading and
+        the candidates after them, at the model's optimum: the last pass of a fit on the rows
+        made them (``fit.wide``); a fit on groups needs one more pass, at its fitted values.
+        Returns the statistics, the p-values and the sums (:class:`_Sums`).
         """
-        design, groups = model.grouped.design, model.groups
-        eta = design @ coefficients
-        p, q = special.expit(eta), special.expit(-eta)
-        n = self.successes + self.failures
-        if groups is None:
-            # One design row per row: the sums are products with the design itself.
-            residual = self.successes - n * p
-            variance_weight = n * p * q
-            weighted = design * variance_weight[:, None]
-            information = weighted.T @ design
+        self.hold_rows(model.columns + list(columns))
+        self._rows.leading(model.columns)
+        if fit.wide is not None:
+            totals, gram = fit.wide.gradient, fit.wide.information
         else:
-            information = information_at(design, model.grouped.successes
-                                         + model.grouped.failures, eta)
-            fitted = p[groups.index]
-            residual = self.successes - n * fitted
-            variance_weight = n * fitted * q[groups.index]
-        m = len(columns)
-        score, own = np.zeros(m), np.zeros(m)
-        cross = np.zeros((design.shape[1], m))
-        for start, stop, block in self.coded.blocks(columns):
-            v = variance_weight[start:stop]
-            score += block.T @ residual[start:stop]
-            own += (block * block).T @ v
-            if groups is None:
-                cross += weighted[start:stop].T @ block
-            else:
-                cross += (design[groups.index[start:stop]] * v[:, None]).T @ block
-        return (*score_statistics_from_sums(score, own, cross, information),
-                _Sums(information, cross, own))
+            eta = fit.eta if model.groups is None else fit.eta[model.groups.index]
+            totals, gram = sums_at(self._rows.matrix, self.successes, self.failures, eta)
+        k, at = 1 + len(model.columns), [self._rows.order.index(j) for j in columns]
+        sums = _Sums(gram[:k, :k], gram[:k, at], gram[at, at], totals[:k], totals[at])
+        return (*score_statistics_from_sums(sums.scores, sums.own, sums.cross, sums.information),
+                sums)
 
     def vif(self, columns) -> np.ndarray:
         """VIF from the correlation matrix computed once: no pass over the patterns."""
@@ -481,45 +503,48 @@ def _prune_correlated(data: _Candidates, candidates, correlation, max_correlatio
 
 
 class _Sums(NamedTuple):
-    """Sums over rows at a fitted model, weights ``w = n p (1 - p)``: ``information`` is
-    ``X1' W X1``, ``cross`` is ``X1' W Z`` and ``own`` the diagonal of ``Z' W Z`` for the
-    candidate columns ``Z``."""
+    """Sums over rows at a fitted model, weights ``w = n p (1 - p)`` and residuals
+    ``r = s - n p``: ``information`` is ``X1' W X1``, ``cross`` is ``X1' W Z`` and ``own`` the
+    diagonal of ``Z' W Z`` for the candidate columns ``Z``; ``gradient`` is ``X1' r`` and
+    ``scores`` is ``Z' r``."""
 
     information: np.ndarray
     cross: np.ndarray
     own: np.ndarray
+    gradient: np.ndarray
+    scores: np.ndarray
 
-    def with_column(self, i: int) -> np.ndarray:
-        """The information matrix of the model with candidate ``i`` added, at the same
-        coefficients (the candidate's at zero): where the next Newton fit starts."""
+    def with_column(self, i: int, fit: NewtonResult, on_rows: bool) -> RowSums:
+        """The sums of the model with candidate ``i`` added, at the same coefficients (the
+        candidate's at zero), where the next Newton fit starts: its information matrix,
+        gradient and log-likelihood, and its linear predictor where the model is fitted on
+        the rows (on groups, the groups change)."""
         k = self.information.shape[0]
         out = np.empty((k + 1, k + 1))
         out[:k, :k] = self.information
         out[:k, k] = out[k, :k] = self.cross[:, i]
         out[k, k] = self.own[i]
-        return out
+        return RowSums(fit.eta if on_rows else None, np.append(self.gradient, self.scores[i]),
+                       out, fit.log_likelihood)
 
 
 class _Model:
     """The design of the model that forward selection grows one column at a time.
 
     Rows are grouped by their codes on the model's columns while that compresses them; once
-    the groups pass ``_UNGROUPED_SHARE`` of the rows, the design holds the rows themselves and
-    each entering column is filled into it, with no grouping at all.
+    the groups pass ``_UNGROUPED_SHARE`` of the rows, the design is the leading columns of the
+    row design, and each entering column joins them, with no grouping at all.
     """
 
-    def __init__(self, data: _Candidates, columns, capacity: int):
-        self.data, self.columns, self.capacity = data, list(columns), capacity
+    def __init__(self, data: _Candidates, columns):
+        self.data, self.columns = data, list(columns)
         self.groups = data.coded.group(self.columns)
         self._settle()
 
     def add(self, column: int) -> None:
         self.columns.append(column)
         if self.groups is None:
-            k = len(self.columns)
-            np.take(self.data.coded.values[column], self.data.coded.codes[:, column],
-                    out=self.buffer[:, k])
-            self.grouped = _Grouped(self.buffer[:, : k + 1], *self.grouped[1:])
+            self.grouped = self.data.rows(self.columns)
             return
         self.groups = self.data.coded.refine(self.groups, column)
         self._settle()
@@ -531,22 +556,22 @@ class _Model:
             return
         data.spread.append(frozenset(self.columns))
         self.groups = None
-        self.buffer = data.row_design(self.columns, self.capacity)
-        self.grouped = _Grouped(self.buffer[:, : 1 + len(self.columns)], data.successes,
-                                data.failures)
+        self.grouped = data.rows(self.columns)
 
 
 def _forward(data: _Candidates, candidates, entry_p_value, cap, fates):
     names = data.names
     chosen = list(data.kept)
-    model = _Model(data, chosen, 1 + min(cap, len(chosen) + len(candidates)))
-    coefficients, _, _ = newton_fit(*model.grouped, None, SELECTION_TOLERANCE)
-    data.fitted[tuple(chosen)] = coefficients
     remaining = sorted(candidates, key=lambda j: names[j])
+    # Every score test needs the candidates on the rows: made once, with the model's columns.
+    data.hold_rows(chosen + remaining)
+    model = _Model(data, chosen)
+    fit = newton_fit(*model.grouped, None, SELECTION_TOLERANCE, wide=data.wide(model))
+    data.fitted[tuple(chosen)] = (fit.coefficients, fit.information)
     last_p: dict[int, float] = {}
     steps = []
     while remaining and len(chosen) < cap:
-        statistics, p_values, sums = data.score(model, coefficients, remaining)
+        statistics, p_values, sums = data.score(model, fit, remaining)
         last_p = dict(zip(remaining, p_values))
         # The largest statistic is the smallest p-value, without the p-values' underflow to 0;
         # `remaining` is sorted by name, so argmax breaks ties by name.
@@ -555,16 +580,18 @@ def _forward(data: _Candidates, candidates, entry_p_value, cap, fates):
             break
         entering = remaining.pop(best)
         chosen.append(entering)
+        # On the rows, the linear predictor at the start is the last model's.
+        at_start = sums.with_column(best, fit, model.groups is None)
         model.add(entering)
-        coefficients, _, fitted = newton_fit(*model.grouped, np.append(coefficients, 0.0),
-                                             SELECTION_TOLERANCE, hessian=sums.with_column(best))
-        data.fitted[tuple(chosen)] = coefficients
+        fit = newton_fit(*model.grouped, np.append(fit.coefficients, 0.0), SELECTION_TOLERANCE,
+                         at_start=at_start, wide=data.wide(model))
+        data.fitted[tuple(chosen)] = (fit.coefficients, fit.information)
         steps.append(
             {
                 "step": len(steps) + 1,
                 "entered": names[entering],
                 "p_value": float(p_values[best]),
-                "log_likelihood": fitted,
+                "log_likelihood": fit.log_likelihood,
             }
         )
         fates[names[entering]] = Fate(
