@@ -17,7 +17,7 @@ from typing import NamedTuple
 
 import numpy as np
 
-from scorecard.data.coding import grid_cells
+from scorecard.data.coding import grid_coder
 
 GRID_STEPS = 256        # even-step candidates across the range
 # Twelve decades of two-figure candidates below the largest magnitude keep ordinary values
@@ -254,11 +254,29 @@ class NumericLayout(NamedTuple):
 
 def numeric_codes(x: np.ndarray, layout: NumericLayout) -> np.ndarray:
     """Grid cell of every value; NaN to the missing code, sentinels to their own codes."""
-    codes = grid_cells(x, layout.cuts)
-    codes[np.isnan(x)] = layout.missing_code
-    for i, value in enumerate(layout.sentinels):
-        codes[x == value] = layout.missing_code + 1 + i
-    return codes
+    return numeric_coder(layout)(x)
+
+
+def numeric_coder(layout: NumericLayout):
+    """The function ``x -> numeric_codes(x, layout)``, its grid lookup made once: for coding a
+    column a block of rows at a time.
+
+    Examples
+    --------
+    >>> code = numeric_coder(NumericLayout(np.array([2.0]), (-1.0,)))
+    >>> code(np.array([1.0, 3.0, np.nan, -1.0])).tolist()
+    [0, 1, 2, 3]
+    """
+    cells = grid_coder(layout.cuts)
+
+    def code(x: np.ndarray) -> np.ndarray:
+        codes = cells(x)
+        codes[np.isnan(x)] = layout.missing_code
+        for i, value in enumerate(layout.sentinels):
+            codes[x == value] = layout.missing_code + 1 + i
+        return codes
+
+    return code
 
 
 def regular_range(x: np.ndarray, sentinels, among: np.ndarray | None = None,

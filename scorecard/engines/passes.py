@@ -17,7 +17,13 @@ from typing import NamedTuple
 import numpy as np
 import pandas as pd
 
-from scorecard.binning.fine import NumericLayout, numeric_codes, numeric_summary, regular_range
+from scorecard.binning.fine import (
+    NumericLayout,
+    numeric_coder,
+    numeric_codes,
+    numeric_summary,
+    regular_range,
+)
 from scorecard.card.scoring import apply_scorecard, bin_codes
 from scorecard.data.coding import categorical_codes, level_labels, numeric_values
 from scorecard.data.outcome import BAD, GOOD
@@ -31,6 +37,9 @@ _THREAD_ROWS = 50_000   # below this a chunk is coded faster than threads start
 # Rows per block when laying per-characteristic codes side by side: a block of the code matrix
 # then stays in cache while every column is written into it.
 _FILL_ROWS = 1 << 16
+# Rows per block of the fused fine-class pass over one numeric column: its temporaries, a few
+# arrays of this many 8-byte values, stay in the cache.
+_FINE_ROWS = 1 << 14
 
 
 class RowFacts(NamedTuple):
@@ -113,19 +122,36 @@ def merge_summaries(a: dict, b: dict) -> dict:
     return out
 
 
-def _sample_outcome_counter(rows: RowFacts):
+class _Counter(NamedTuple):
+    """Weights by (code, sample, outcome): :meth:`keys` turns codes into cells of that table,
+    :meth:`table` adds the weights up by cell, and calling it does both."""
+
+    weight: np.ndarray
+    cell: np.ndarray
+
+    def keys(self, codes: np.ndarray, start: int = 0, out=None) -> np.ndarray:
+        """The cell of each code, for the rows from ``start`` on; into ``out`` if given."""
+        cell = self.cell[start:start + len(codes)]
+        out = np.multiply(codes, N_SAMPLES * 2, out=out)
+        out += cell
+        return out
+
+    def table(self, keys: np.ndarray, n_codes: int) -> np.ndarray:
+        cells = N_SAMPLES * 2
+        table = np.bincount(keys, weights=self.weight, minlength=n_codes * cells)
+        return table.reshape(n_codes, N_SAMPLES, 2)
+
+    def __call__(self, codes: np.ndarray, n_codes: int) -> np.ndarray:
+        return self.table(self.keys(codes), n_codes)
+
+
+def _sample_outcome_counter(rows: RowFacts) -> _Counter:
     """A function from (codes, number of codes) to weights by (code, sample, outcome)."""
     kept = rows.sample != EXCLUDED
     # Left-out rows weigh nothing, so every row can take part and no row selection is made.
     weight = np.where(kept, rows.weight, 0.0)
     cell = np.where(kept, rows.sample.astype(np.intp) * 2 + rows.label, 0)
-    cells = N_SAMPLES * 2
-
-    def counted(codes: np.ndarray, n_codes: int) -> np.ndarray:
-        table = np.bincount(codes * cells + cell, weights=weight, minlength=n_codes * cells)
-        return table.reshape(n_codes, N_SAMPLES, 2)
-
-    return counted
+    return _Counter(weight, cell)
 
 
 class FineCounts(NamedTuple):
@@ -175,17 +201,38 @@ def fine_counts(frame: pd.DataFrame, rows: RowFacts, layouts: dict) -> dict:
         name, layout = item
         series = frame[name]
         if isinstance(layout, NumericLayout):
-            x = numeric_values(series, name)
-            table = counted(numeric_codes(x, layout), layout.n_codes)
-            below, above = layout.extreme
-            far = np.flatnonzero((x < below) | (x > above)) if len(x) else np.empty(0, int)
-            return name, FineCounts(table, regular_range(x, layout.sentinels, dev),
-                                    len(x), len(far), tuple(int(i) for i in far[:REPORTED]))
+            return name, _numeric_fine(numeric_values(series, name), layout, counted, dev)
         idx = categorical_codes(series, layout)
         return name, FineCounts(counted(np.where(idx < 0, len(layout), idx), len(layout) + 1),
                                 None, len(idx))
 
     return dict(_each(one, list(layouts.items()), len(frame)))
+
+
+def _numeric_fine(x: np.ndarray, layout: NumericLayout, counted: _Counter,
+                  dev: np.ndarray) -> FineCounts:
+    """One numeric column's fine counts in one pass: a block of rows at a time is coded, keyed
+    by cell, searched for extreme values and for its range, while it is in the cache. Only
+    the keys are kept whole, and one count over them adds the weights in row order, as a count
+    of the whole column would."""
+    code = numeric_coder(layout)
+    keys = np.empty(len(x), dtype=np.intp)
+    below, above = layout.extreme
+    bounded = bool(np.isfinite(below) or np.isfinite(above))
+    low, high, extremes, first = np.nan, np.nan, 0, []
+    for start in range(0, len(x), _FINE_ROWS):
+        stop = min(start + _FINE_ROWS, len(x))
+        block = x[start:stop]
+        counted.keys(code(block), start, out=keys[start:stop])
+        if bounded:
+            far = np.flatnonzero((block < below) | (block > above))
+            extremes += len(far)
+            first.extend(start + int(i) for i in far[:REPORTED - len(first)])
+        block_low, block_high = regular_range(block, layout.sentinels, dev[start:stop])
+        low, high = np.fmin(low, block_low), np.fmax(high, block_high)
+    development = (float(low), float(high)) if len(x) else regular_range(x, layout.sentinels)
+    return FineCounts(counted.table(keys, layout.n_codes), development, len(x), extremes,
+                      tuple(first))
 
 
 def merge_fine(a: dict, b: dict) -> dict:
