@@ -301,15 +301,25 @@ def _scale(config, selection, chosen: list) -> Scorecard:
                      largest_rounding_change(exact), config.scoring.reasons)
 
 
+_HISTOGRAM_ROWS = 1 << 15
+
+
 def _histograms(card: Scorecard, patterns, names) -> dict:
     """Score histogram of each sample, straight from the pattern counts."""
     cols = [2 + names.index(c.name) for c in card.characteristics]
     tables = [np.array([b.points for b in c.bins], dtype=np.int64) for c in card.characteristics]
+    refusing = [(col, np.array([b.rejected for b in c.bins]))
+                for col, c in zip(cols, card.characteristics) if any(b.rejected for b in c.bins)]
     score = np.zeros(len(patterns.codes), dtype=np.int64)
     refused = np.zeros(len(patterns.codes), dtype=bool)
-    for col, table, char in zip(cols, tables, card.characteristics):
-        score += table[patterns.codes[:, col]]
-        refused |= np.array([b.rejected for b in char.bins])[patterns.codes[:, col]]
+    # A block of patterns at a time, so that each gathered column is added while in the cache.
+    for start in range(0, len(score), _HISTOGRAM_ROWS):
+        codes = patterns.codes[start:start + _HISTOGRAM_ROWS]
+        block, out = score[start:start + _HISTOGRAM_ROWS], refused[start:start + _HISTOGRAM_ROWS]
+        for col, table in zip(cols, tables):
+            block += table[codes[:, col]]
+        for col, rejected in refusing:
+            out |= rejected[codes[:, col]]
     low, high = card.min_score, card.max_score
     out = {}
     for code, name in SAMPLE_NAMES.items():

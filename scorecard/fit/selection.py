@@ -127,9 +127,13 @@ def weighted_correlation(X, weights, *, names=None) -> np.ndarray:
     scale = np.array([np.abs(values[share > 0]).max(initial=0.0)
                       for values, share in zip(coded.values, per_code)])
     covariance = np.zeros((k, k))
+    root = np.sqrt(w)
     for start, stop, block in coded.blocks(range(k)):
-        centred = block - mean
-        covariance += centred.T @ (w[start:stop, None] * centred)
+        # Centred and scaled by the roots of the weights in place (the block is a reused
+        # buffer), then multiplied by its own transpose: a symmetric rank-k update in BLAS.
+        block -= mean
+        block *= root[start:stop, None]
+        covariance += block.T @ block
     spread = np.sqrt(np.diag(covariance))
     constant = spread <= 1e-12 * np.maximum(scale, np.finfo(float).tiny)
     if constant.any():
