@@ -353,3 +353,48 @@ def test_score_test_from_the_empty_model():
 def test_bad_input_raises_input_error_naming_the_fault(call, match):
     with pytest.raises(InputError, match=match):
         call()
+
+
+# --- The sums over rows, made a block of rows at a time.
+
+
+@pytest.mark.parametrize("rows", [1, 8191, 8192, 20_000])
+def test_sums_by_blocks_equal_the_products_over_all_rows(rows):
+    # Reference: the textbook products X'(s - n p) and X' diag(n p q) X with numpy over the
+    # whole design (common practice), across one, exactly one and several blocks of rows.
+    from scorecard.fit.logistic import sums_at, weighted_gram
+
+    rng = np.random.default_rng(rows)
+    X1 = np.column_stack([np.ones(rows), rng.normal(size=(rows, 3))])
+    n = rng.integers(1, 5, rows).astype(float)
+    s = rng.binomial(n.astype(int), 0.3).astype(float)
+    eta = X1 @ np.array([-0.5, 0.3, -0.2, 0.1])
+    p = special.expit(eta)
+    gradient, information = sums_at(X1, s, n - s, eta)
+    np.testing.assert_allclose(gradient, X1.T @ (s - n * p), rtol=1e-10, atol=1e-9)
+    np.testing.assert_allclose(information, (X1 * (n * p * (1 - p))[:, None]).T @ X1,
+                               rtol=1e-10, atol=1e-12)
+    np.testing.assert_allclose(weighted_gram(X1), X1.T @ X1, rtol=1e-12)
+
+
+@pytest.mark.parametrize("gap", [0.0, 1e-14, 1e-9, 1e-3])
+def test_rank_check_agrees_with_numpy_matrix_rank(gap):
+    # Reference: numpy's matrix_rank (an SVD of the scaled design) decides; the check on the
+    # k x k cross products may only answer early where that answer is certain.
+    rng = np.random.default_rng(3)
+    a, b = rng.normal(size=(2, 5_000))
+    X = np.column_stack([a, b, a + b + gap * rng.normal(size=5_000)])
+    X1 = np.column_stack([np.ones(5_000), X])
+    scaled = X1 / np.abs(X1).max(axis=0)
+    full = np.linalg.matrix_rank(scaled) == 4
+    successes = rng.integers(0, 3, 5_000).astype(float)
+    failures = 2.0 - successes + 1.0
+    if full:
+        with warnings.catch_warnings():
+            # Nearly collinear columns may need the ridge fallback; only the rank check counts.
+            warnings.simplefilter("ignore")
+            fit_logistic(X, successes, failures, names=["a", "b", "c"])
+    else:
+        with pytest.raises(InputError, match="column 'c' is a linear combination"):
+            fit_logistic(X, successes, failures, names=["a", "b", "c"])
+    assert full == (gap >= 1e-9)
