@@ -14,7 +14,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from scorecard.config.exclusions import ExclusionRule
+from scorecard.config.exclusion_rule import ExclusionRule
 from scorecard.data.coding import level_codes, missing_values, number_label, numeric_values
 from scorecard.data.outcome import matching_levels
 from scorecard.errors import InputError
