@@ -47,7 +47,7 @@ def float_values(array) -> np.ndarray | None:
     if not isinstance(array, pa.Array):
         return None
     kind, n = array.type, len(array)
-    if pa.types.is_null(kind):
+    if pa.types.is_null(kind) or n == 0:
         return np.full(n, np.nan)
     if pa.types.is_boolean(kind):
         x = _bits(array.buffers()[1], array.offset, n).astype(np.float64)

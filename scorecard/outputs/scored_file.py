@@ -31,7 +31,7 @@ from scorecard.card.scoring import (REFUSED_PREFIX, UnusualValues, apply_scoreca
                                     reason_codes)
 from scorecard.card.segmented import SegmentedScorecard, apply_segmented, load_model
 from scorecard.constraints import REASONS
-from scorecard.data.arrow_columns import labelled, numbers, strings
+from scorecard.data.arrow_columns import labelled, numbers
 from scorecard.data.coding import Columns, level_codes, numeric_values
 from scorecard.data.exclusions import first_rule
 from scorecard.data.formats import (
