@@ -41,21 +41,30 @@ def _numpy_type(kind: pa.DataType):
     return None
 
 
+def _raw(array: pa.Array) -> np.ndarray | None:
+    """The values of a number or boolean array as stored (a missing row holds any value)."""
+    kind, n = array.type, len(array)
+    if n == 0:
+        return np.zeros(0)
+    if pa.types.is_boolean(kind):
+        return _bits(array.buffers()[1], array.offset, n)
+    if _numpy_type(kind) is None:
+        return None
+    raw = np.frombuffer(array.buffers()[1], dtype=_numpy_type(kind), count=array.offset + n)
+    return raw[array.offset:]
+
+
 def float_values(array) -> np.ndarray | None:
     """Numbers, booleans or nulls as float64 with NaN for a missing value; None for another
     type (text, dates, decimals, a chunked array)."""
     if not isinstance(array, pa.Array):
         return None
-    kind, n = array.type, len(array)
-    if pa.types.is_null(kind) or n == 0:
-        return np.full(n, np.nan)
-    if pa.types.is_boolean(kind):
-        x = _bits(array.buffers()[1], array.offset, n).astype(np.float64)
-    elif _numpy_type(kind) is not None:
-        raw = np.frombuffer(array.buffers()[1], dtype=_numpy_type(kind), count=array.offset + n)
-        x = raw[array.offset:].astype(np.float64)
-    else:
+    if pa.types.is_null(array.type):
+        return np.full(len(array), np.nan)
+    raw = _raw(array)
+    if raw is None:
         return None
+    x = raw.astype(np.float64)
     valid = present(array)
     if valid is not None:
         x[~valid] = np.nan
@@ -78,8 +87,10 @@ def level_values(array) -> tuple[list, np.ndarray] | None:
             return None
         array = array.dictionary_encode()
     values = array.dictionary.to_pylist()
-    codes = float_values(array.indices)
-    codes = np.where(np.isnan(codes), -1, codes).astype(np.intp)
+    codes = _raw(array.indices).astype(np.intp)
+    valid = present(array.indices)
+    if valid is not None:
+        codes[~valid] = -1
     absent = [i for i, v in enumerate(values) if v is None or v != v]   # v != v: NaN
     if absent:
         to_code = np.arange(len(values) + 1)
