@@ -7,12 +7,21 @@ invented design, and times
   already in memory (the target is at least a million rows per second), and
 * the whole command, Parquet to Parquet and CSV to CSV, reading and writing included.
 
-Run: ``python benchmarks/bench_score.py [--rows 1000000]``.
+Run: ``python benchmarks/bench_score.py [--rows 1000000]``. With ``--baseline ROOT`` (the root
+folder of another checkout, such as an export of the main branch) the whole benchmark runs in
+child processes, this checkout's and the baseline's in turn (A B A B ...), ``--runs`` times each,
+and the table gives each version's median and the median of the paired ratios: a before and
+after measured in one run.
 """
 
 from __future__ import annotations
 
 import argparse
+import os
+import re
+import statistics
+import subprocess
+import sys
 import tempfile
 import time
 from pathlib import Path
@@ -39,9 +48,45 @@ def _timed(label: str, rows: int, work) -> float:
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--rows", type=int, default=1_000_000)
+    parser.add_argument("--baseline", type=Path,
+                        help="root folder of another checkout, timed in turn with this one")
+    parser.add_argument("--runs", type=int, default=3, help="runs of each version (--baseline)")
     args = parser.parse_args()
+    if args.baseline:
+        paired(args.baseline.resolve(), args.rows, args.runs)
+        return
     with tempfile.TemporaryDirectory(prefix="bench-score-") as folder:
         run(Path(folder), args.rows)
+
+
+FIGURE = re.compile(r"^(.+?)\s+([\d.]+) s\s+[\d.]+ million rows/s$")
+
+
+def paired(baseline: Path, rows: int, runs: int) -> None:
+    """This checkout and ``baseline`` in turn, each in a child process that imports its own
+    package; medians of each and the median of the paired ratios."""
+    roots = {"this checkout": Path(__file__).resolve().parent.parent, "baseline": baseline}
+    seconds = {label: {} for label in roots}
+    for i in range(runs):
+        for label, root in roots.items():
+            env = dict(os.environ, PYTHONPATH=str(root))
+            out = subprocess.run([sys.executable, str(root / "benchmarks" / "bench_score.py"),
+                                  "--rows", str(rows)], capture_output=True, text=True,
+                                 check=True, env=env, cwd=tempfile.gettempdir()).stdout
+            for line in out.splitlines():
+                match = FIGURE.match(line.strip())
+                if match:
+                    seconds[label].setdefault(match.group(1), []).append(float(match.group(2)))
+            print(f"run {i + 1}, {label}: " + "; ".join(
+                f"{name} {times[-1]:.2f} s" for name, times in seconds[label].items()),
+                file=sys.stderr)
+    ours, theirs = seconds["this checkout"], seconds["baseline"]
+    print(f"{rows} rows, {runs} runs of each version in turn; medians\n")
+    print(f"{'measure':42s}{'baseline s':>12s}{'this s':>10s}{'this / baseline':>17s}")
+    for name, times in ours.items():
+        ratio = statistics.median(a / b for a, b in zip(times, theirs[name]))
+        print(f"{name:42s}{statistics.median(theirs[name]):12.2f}"
+              f"{statistics.median(times):10.2f}{ratio:17.2f}")
 
 
 def run(folder: Path, rows: int) -> None:

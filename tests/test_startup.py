@@ -36,9 +36,49 @@ def test_help_loads_no_heavy_library():
 
 
 def test_scoring_loads_neither_scipy_nor_the_workbook_writer():
-    # Scoring needs numpy, pandas and pyarrow; the statistics and the workbook belong to builds.
+    # Scoring needs numpy and pyarrow; the statistics and the workbook belong to builds.
     loaded = loaded_after("import scorecard.outputs.scored_file")
     assert "scipy" not in loaded and "openpyxl" not in loaded and "dask" not in loaded
+
+
+@pytest.fixture(scope="module")
+def small_scoring_case(demo_build, demo_dir, tmp_path_factory):
+    """The demo model (it records an exclusion rule), a segmented model of two copies of its
+    card, and the first 200 rows of the demo data as CSV and Parquet."""
+    import pyarrow.csv as pacsv
+    import pyarrow.parquet as pq
+
+    from scorecard.card.segmented import SegmentedScorecard, SegmentRule
+
+    folder = tmp_path_factory.mktemp("startup")
+    card = demo_build.card
+    (folder / "model.json").write_text(card.to_json(), encoding="utf-8")
+    rule = SegmentRule("customer", ("new", "existing"), groups=(("new",), ("existing",)))
+    segmented = SegmentedScorecard("demo", rule, (card, card))
+    (folder / "segmented.json").write_text(segmented.to_json(), encoding="utf-8")
+    table = pacsv.read_csv(demo_dir / "applications.csv").slice(0, 200)
+    pacsv.write_csv(table, folder / "small.csv")
+    pq.write_table(table, folder / "small.parquet")
+    return folder
+
+
+@pytest.mark.parametrize("model, data, out, options", [
+    ("model.json", "small.csv", "scored.csv", []),
+    ("model.json", "small.csv", "excluded.csv", ["--apply-exclusions"]),
+    ("segmented.json", "small.csv", "segmented.csv", []),
+    ("model.json", "small.parquet", "scored.parquet", ["--keep", "application_id"]),
+])
+def test_scoring_a_small_file_loads_neither_pandas_nor_the_build_libraries(
+        small_scoring_case, model, data, out, options):
+    # What a fresh ``scorecard score`` pays before its first row is its imports: it reads and
+    # writes through pyarrow's CSV and Parquet modules and scores on numpy, never pandas.
+    folder = small_scoring_case
+    args = ["score", str(folder / model), str(folder / data), "--out", str(folder / out)]
+    statement = ("from click.testing import CliRunner; from scorecard.cli import main; "
+                 f"result = CliRunner().invoke(main, {args + options!r}); "
+                 "assert result.exit_code == 0, result.output")
+    assert loaded_after(statement) == ["pyarrow"]
+    assert (folder / out).stat().st_size > 0
 
 
 def _blas_threads_after_import(**settings) -> str:

@@ -21,7 +21,7 @@ from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
 from scorecard.card.points import Scaling
-from scorecard.config.exclusions import ExclusionRule
+from scorecard.config.exclusion_rule import ExclusionRule
 from scorecard.constraints import REASONS, SCALE_LIMIT
 from scorecard.errors import InputError
 

@@ -10,7 +10,6 @@ from __future__ import annotations
 from typing import NamedTuple
 
 import numpy as np
-import pandas as pd
 
 from scorecard.card.points import bad_probability_of_score
 from scorecard.card.scorecard import (
@@ -42,8 +41,11 @@ def _bin_or_refuse(char: Characteristic, kind: str, what: str) -> int:
     return index
 
 
-def bin_codes(char: Characteristic, series: pd.Series) -> tuple[np.ndarray, UnusualValues]:
+def bin_codes(char: Characteristic, series) -> tuple[np.ndarray, UnusualValues]:
     """Bin index of every row for one characteristic, and counts of unseen values.
+
+    ``series`` is a pandas Series, an Arrow array, or a column prepared by
+    :class:`scorecard.data.coding.Columns` (float64 numbers or levels): one lookup serves all.
 
     Numeric: a sentinel goes to its own bin, a missing value to the missing bin, a value
     beyond the development range to the out-of-range bin when the scorecard has one (else to
@@ -58,7 +60,7 @@ def bin_codes(char: Characteristic, series: pd.Series) -> tuple[np.ndarray, Unus
     return _categorical_bin_codes(char, series, empty_missing)
 
 
-def _numeric_codes(char: Characteristic, series: pd.Series, empty_missing: bool):
+def _numeric_codes(char: Characteristic, series, empty_missing: bool):
     x = numeric_values(series, char.name)
     codes = grid_cells(x, char.cuts)
     missing = np.isnan(x)
@@ -80,7 +82,7 @@ def _numeric_codes(char: Characteristic, series: pd.Series, empty_missing: bool)
     return codes.astype(np.int16), unusual
 
 
-def _categorical_bin_codes(char: Characteristic, series: pd.Series, empty_missing: bool):
+def _categorical_bin_codes(char: Characteristic, series, empty_missing: bool):
     level_bin = {lv: i for i, b in enumerate(char.bins) for lv in b.levels}
     levels = list(level_bin)
     idx = categorical_codes(series, levels)
@@ -111,8 +113,9 @@ def points_tables(card: Scorecard) -> list[np.ndarray]:
     return [np.array([b.points for b in c.bins], dtype=np.int64) for c in card.characteristics]
 
 
-def apply_scorecard(card: Scorecard, frame: pd.DataFrame) -> Scores:
-    """Score every row of ``frame``.
+def apply_scorecard(card: Scorecard, frame) -> Scores:
+    """Score every row of ``frame``: a pandas DataFrame, an Arrow record batch or
+    :class:`scorecard.data.coding.Columns`.
 
     Examples
     --------
@@ -122,10 +125,12 @@ def apply_scorecard(card: Scorecard, frame: pd.DataFrame) -> Scores:
     ...      Bin("missing", MISSING, 5, 5, 0.0, 20))
     >>> c = Characteristic("x", "numeric", b, 1.0, "R01", "x is low", cuts=(1.0,))
     >>> card = Scorecard("demo", scaling(600, 50, 20), 0.5, (c,))
+    >>> import pandas as pd
     >>> apply_scorecard(card, pd.DataFrame({"x": [0.5, 2.0, None]})).score.tolist()
     [10, 30, 20]
     """
-    missing = [c.name for c in card.characteristics if c.name not in frame.columns]
+    names = frame.column_names if hasattr(frame, "column_names") else frame.columns
+    missing = [c.name for c in card.characteristics if c.name not in names]
     if missing:
         raise InputError(f"column {missing[0]}: the scorecard needs it but the data lacks it")
     n, k = len(frame), len(card.characteristics)

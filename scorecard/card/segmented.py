@@ -19,7 +19,6 @@ from pathlib import Path
 from typing import NamedTuple
 
 import numpy as np
-import pandas as pd
 
 from scorecard.card.scorecard import Characteristic, Scorecard, _scorecard_from_dict
 from scorecard.card.scoring import apply_scorecard
@@ -40,6 +39,7 @@ class SegmentRule:
 
     Examples
     --------
+    >>> import pandas as pd
     >>> rule = SegmentRule("tenure", ("new", "existing"), cuts=(1.0,))
     >>> rule.codes(pd.Series([0.0, 3.0, None])).tolist()
     [0, 1, -1]
@@ -57,8 +57,11 @@ class SegmentRule:
     def kind(self) -> str:
         return "numeric" if self.cuts is not None else "categorical"
 
-    def codes(self, series: pd.Series) -> np.ndarray:
-        """Segment index of every row; :data:`NO_SEGMENT` where the column picks none."""
+    def codes(self, series) -> np.ndarray:
+        """Segment index of every row; :data:`NO_SEGMENT` where the column picks none.
+
+        ``series`` as for :func:`scorecard.card.scoring.bin_codes`.
+        """
         if self.cuts is not None:
             x = numeric_values(series, self.column)
             out = grid_cells(x, np.asarray(self.cuts, dtype=float)).astype(np.intp)
@@ -170,7 +173,7 @@ class SegmentedScores(NamedTuple):
     parts: tuple
 
 
-def apply_model(model, frame: pd.DataFrame):
+def apply_model(model, frame):
     """Scores of ``frame`` under a Scorecard or a SegmentedScorecard (same fields used by both:
     ``score``, ``rejected``, ``points``, ``refused``, ``unusual``)."""
     if isinstance(model, SegmentedScorecard):
@@ -178,8 +181,10 @@ def apply_model(model, frame: pd.DataFrame):
     return apply_scorecard(model, frame)
 
 
-def apply_segmented(model: SegmentedScorecard, frame: pd.DataFrame) -> SegmentedScores:
+def apply_segmented(model: SegmentedScorecard, frame) -> SegmentedScores:
     """Score every row of ``frame`` with the card of its segment.
+
+    ``frame`` is a pandas DataFrame or :class:`scorecard.data.coding.Columns`.
 
     Examples
     --------
@@ -191,6 +196,7 @@ def apply_segmented(model: SegmentedScorecard, frame: pd.DataFrame) -> Segmented
     ...     return Scorecard("demo", scaling(600, 50, 20), 0.0, (c,))
     >>> model = SegmentedScorecard("demo", SegmentRule("s", ("a", "b"), groups=(("a",), ("b",))),
     ...                            (card(10, 30), card(30, 10)))
+    >>> import pandas as pd
     >>> s = apply_segmented(model, pd.DataFrame({"s": ["a", "b", "c"], "x": [0.0, 0.0, 0.0]}))
     >>> s.segment.tolist(), s.score.tolist(), s.rejected.tolist()
     ([0, 1, -1], [10, 30, 0], [False, False, True])
@@ -211,7 +217,8 @@ def apply_segmented(model: SegmentedScorecard, frame: pd.DataFrame) -> Segmented
     parts = []
     for index, card in enumerate(model.cards):
         rows = np.flatnonzero(segment == index)
-        s = apply_scorecard(card, frame.iloc[rows])
+        part = frame.iloc[rows] if hasattr(frame, "iloc") else frame.take(rows)
+        s = apply_scorecard(card, part)
         columns = [chars.index(name) for name in card.names]
         score[rows] = s.score
         rejected[rows] = s.rejected

@@ -10,27 +10,20 @@ data), ``messages`` (one-line errors) and ``loading`` (the entry points). Defaul
 shared with the algorithms are declared in :mod:`scorecard.constraints`.
 """
 
-from scorecard.config.columns import check_columns
-from scorecard.config.loading import load_config, parse_config
-from scorecard.config.schema import (
-    BinningConfig,
-    CharacteristicOverride,
-    Config,
-    DataConfig,
-    EngineConfig,
-    EvaluationConfig,
-    FairnessConfig,
-    FrozenMapping,
-    GradesConfig,
-    OutOfTime,
-    OutputConfig,
-    RejectsConfig,
-    SamplesConfig,
-    ScalingConfig,
-    ScoringConfig,
-    SelectionConfig,
-    StabilityConfig,
-)
+import importlib
+
+# Where each public name lives. The names are looked up on first use (PEP 562), so importing one
+# module of the package (the exclusion rules a model file records, say) does not read the
+# whole config machinery and YAML with it: ``scorecard score`` starts faster.
+_HOMES = {"check_columns": "columns", "load_config": "loading", "parse_config": "loading"}
+
+
+def __getattr__(name: str):
+    if name not in __all__:
+        raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+    module = importlib.import_module(f"{__name__}.{_HOMES.get(name, 'schema')}")
+    return getattr(module, name)
+
 
 __all__ = [
     "BinningConfig",

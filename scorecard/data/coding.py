@@ -11,7 +11,6 @@ from functools import partial
 from typing import NamedTuple
 
 import numpy as np
-import pandas as pd
 
 from scorecard.errors import InputError
 
@@ -26,9 +25,63 @@ def level_labels(values) -> list[str]:
     return out
 
 
-def numeric_values(series: pd.Series, name: str) -> np.ndarray:
+class Levels(NamedTuple):
+    """A categorical column coded: its distinct level labels and each row's index among them
+    (-1: missing). Scoring works on this form whatever the reader gave (pandas or Arrow)."""
+
+    labels: list[str]
+    codes: np.ndarray
+
+    def take(self, rows) -> "Levels":
+        return Levels(self.labels, self.codes[rows])
+
+
+class Columns:
+    """A batch of rows as prepared columns, each a float64 array (numbers) or :class:`Levels`.
+
+    It answers what scoring asks of a DataFrame (``len``, ``columns``, ``frame[name]``), and
+    ``take`` picks rows by position, so no library is needed to score a subset of rows.
+    """
+
+    def __init__(self, columns: dict, rows: int):
+        self._columns, self.rows = dict(columns), rows
+
+    @property
+    def columns(self) -> tuple[str, ...]:
+        return tuple(self._columns)
+
+    def __len__(self) -> int:
+        return self.rows
+
+    def __getitem__(self, name: str):
+        return self._columns[name]
+
+    def take(self, rows: np.ndarray) -> "Columns":
+        return Columns({name: c.take(rows) if isinstance(c, Levels) else c[rows]
+                        for name, c in self._columns.items()}, len(rows))
+
+
+def _pandas_form(column):
+    """An Arrow column of a type without a fast route, as pandas (imported only then)."""
+    from scorecard.data.arrow_columns import is_arrow
+    return column.to_pandas() if is_arrow(column) else column
+
+
+def numeric_values(column, name: str) -> np.ndarray:
     """A column as float64 with NaN for missing; InputError naming the first row that holds
-    no number if it is not numeric."""
+    no number if it is not numeric.
+
+    ``column`` is a pandas Series, an Arrow array or an already prepared float64 array.
+    """
+    if isinstance(column, np.ndarray):
+        return column.astype(np.float64, copy=False)
+    from scorecard.data.arrow_columns import float_values, is_arrow
+    if is_arrow(column):
+        x = float_values(column)
+        if x is not None:
+            return x
+    series = _pandas_form(column)
+    import pandas as pd
     if isinstance(series.dtype, pd.CategoricalDtype) or not (
             pd.api.types.is_numeric_dtype(series.dtype) or pd.api.types.is_bool_dtype(series.dtype)):
         raise InputError(f"column {name}: {_first_non_number(series)}expected numbers, found "
@@ -36,8 +89,9 @@ def numeric_values(series: pd.Series, name: str) -> np.ndarray:
     return series.to_numpy(dtype=np.float64, na_value=np.nan)
 
 
-def _first_non_number(series: pd.Series) -> str:
+def _first_non_number(series) -> str:
     """``'row N: 'value' is not a number; '`` for the first such row, or ''."""
+    import pandas as pd
     cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
     levels = pd.Series(cat.cat.categories.astype(str))
     text = np.append(pd.to_numeric(levels, errors="coerce").isna().to_numpy(), False)
@@ -49,7 +103,7 @@ def _first_non_number(series: pd.Series) -> str:
     return f"row {row_number(series, at)}: {levels[codes[at]]!r} is not a number; "
 
 
-def row_number(series: pd.Series, position: int) -> int:
+def row_number(series, position: int) -> int:
     """Data row (from 1) of a position in ``series``.
 
     A chunk of a frame read by :func:`read_frame` keeps the frame's integer index, so the label
@@ -59,40 +113,84 @@ def row_number(series: pd.Series, position: int) -> int:
     return int(label) + 1 if isinstance(label, (int, np.integer)) else position + 1
 
 
+def level_codes(column) -> Levels:
+    """The levels of a column (pandas Series, Arrow array or Levels) and each row's index.
+
+    Examples
+    --------
+    >>> import pandas as pd
+    >>> level_codes(pd.Series(["b", None, "a", "b"], dtype="category"))
+    Levels(labels=['a', 'b'], codes=array([ 1, -1,  0,  1], dtype=int8))
+    """
+    if isinstance(column, Levels):
+        return column
+    from scorecard.data.arrow_columns import is_arrow, level_values
+    if is_arrow(column):
+        found = level_values(column)
+        if found is not None:
+            return Levels(level_labels(found[0]), found[1])
+    series = _pandas_form(column)
+    import pandas as pd
+    cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
+    return Levels(level_labels(cat.cat.categories), cat.cat.codes.to_numpy())
+
+
+def missing_values(column) -> np.ndarray:
+    """True where a column (pandas Series, Arrow array, float64 array or Levels) is missing."""
+    if isinstance(column, Levels):
+        return column.codes < 0
+    if isinstance(column, np.ndarray):
+        return np.isnan(column)
+    from scorecard.data.arrow_columns import float_values, is_arrow
+    if is_arrow(column):
+        x = float_values(column)
+        return np.isnan(x) if x is not None else level_codes(column).codes < 0
+    return column.isna().to_numpy(dtype=bool)
 
 
 _NUMBER = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?")
 
 
-def _number_label(text: str) -> str | None:
-    """The label a numeric-looking level gets when a reader parses it as a number."""
+def number_label(text: str) -> str | None:
+    """The label a numeric-looking level gets when a reader parses it as a number; None for
+    text that is not a plain decimal number.
+
+    Examples
+    --------
+    >>> number_label("01"), number_label("2.50"), number_label("owner")
+    ('1', '2.5', None)
+    """
     return level_labels([float(text)])[0] if _NUMBER.fullmatch(text) else None
 
 
-def categorical_codes(series: pd.Series, levels) -> np.ndarray:
+def categorical_codes(column, levels) -> np.ndarray:
     """Index of each row's level in ``levels``; -1 for missing, -2 for a level not in ``levels``.
 
     Levels match by text. A text that matches no level but reads as a number is looked up by
     the label of that number (``"01"`` and ``"1.0"`` find level ``"1"``): a CSV reader that
     infers types turns such a column into numbers, so the levels of a model built from it
     are number labels, while a reader that keeps text sees the digits as written. The lookup
-    works on the distinct levels only, never per row.
+    works on the distinct levels only, never per row. ``column`` is a pandas Series, an Arrow
+    array or :class:`Levels`.
 
     Examples
     --------
+    >>> import pandas as pd
     >>> categorical_codes(pd.Series(["b", "01", None, "z"]), ["1", "b"]).tolist()
     [1, 0, -1, -2]
     """
-    cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
-    index = pd.Index(list(levels))
-    labels = level_labels(cat.cat.categories)
-    lookup = index.get_indexer(labels)
+    coded = level_codes(column)
+    index: dict = {}
+    for i, level in enumerate(levels):
+        index.setdefault(level, i)
+    lookup = np.array([index.get(label, -1) for label in coded.labels], dtype=np.intp)
     unknown = np.flatnonzero(lookup < 0)
-    if len(unknown) and len(index):
-        lookup[unknown] = index.get_indexer([_number_label(labels[i]) for i in unknown])
+    if len(unknown) and index:
+        lookup[unknown] = [index.get(number_label(coded.labels[i]), -1) for i in unknown]
     lookup = np.where(lookup < 0, -2, lookup)
-    codes = cat.cat.codes.to_numpy()
+    codes = coded.codes
     return np.where(codes < 0, -1, lookup[codes] if len(lookup) else -2)
+
 
 _MAGNITUDE_BITS = np.int64(0x7FFF_FFFF_FFFF_FFFF)   # all bits of a double but the sign
 _EXPONENT_BITS = np.int64(0x7FF0_0000_0000_0000)

@@ -13,10 +13,9 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-import pandas as pd
 
-from scorecard.config.exclusions import ExclusionRule
-from scorecard.data.coding import level_labels, numeric_values
+from scorecard.config.exclusion_rule import ExclusionRule
+from scorecard.data.coding import level_codes, missing_values, number_label, numeric_values
 from scorecard.data.outcome import matching_levels
 from scorecard.errors import InputError
 
@@ -24,8 +23,9 @@ __all__ = ["DeclinedRows", "ExclusionStep", "Waterfall", "declined_rows", "exclu
            "first_rule", "rule_mask"]
 
 
-def rule_mask(series: pd.Series, rule: ExclusionRule) -> np.ndarray:
-    """True for each value of ``series`` that ``rule`` catches.
+def rule_mask(series, rule: ExclusionRule) -> np.ndarray:
+    """True for each value of ``series`` (a pandas Series or an Arrow array) that ``rule``
+    catches.
 
     ``in`` matches levels as ``data.good`` and ``data.bad`` do, and a number by its value
     whether the column holds it as a number or as text (``"1.0"`` is ``1``); ``below`` and
@@ -34,13 +34,14 @@ def rule_mask(series: pd.Series, rule: ExclusionRule) -> np.ndarray:
 
     Examples
     --------
+    >>> import pandas as pd
     >>> rule_mask(pd.Series([0.0, 0.1, None]), ExclusionRule("deposit", "below", 0.05, "none"))
     array([ True, False, False])
     >>> rule_mask(pd.Series(["yes", "No", "1.0"]), ExclusionRule("staff", "in", (True, 1), "staff"))
     array([ True, False,  True])
     """
     if rule.condition == "missing":
-        return series.isna().to_numpy(dtype=bool)
+        return missing_values(series)
     if rule.condition in ("below", "at_least"):
         try:
             x = numeric_values(series, rule.column)
@@ -50,18 +51,17 @@ def rule_mask(series: pd.Series, rule: ExclusionRule) -> np.ndarray:
         with np.errstate(invalid="ignore"):
             return x < rule.value if rule.condition == "below" else x >= rule.value
     # Work on the distinct levels, then look every row's level up: no Python per row.
-    cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
-    labels = level_labels(cat.cat.categories)
-    as_numbers = pd.to_numeric(pd.Series(labels, dtype=object), errors="coerce")
-    numeric = [level_labels([n])[0] if pd.notna(n) else label
-               for label, n in zip(labels, as_numbers)]
+    labels, codes = level_codes(series)
+    numeric = [number_label(label) or label for label in labels]
     hit = matching_levels(labels, rule.value) | matching_levels(numeric, rule.value)
     # Code -1 (missing) takes the False appended at the end.
-    return np.append(hit, False)[cat.cat.codes.to_numpy()]
+    return np.append(hit, False)[codes]
 
 
-def first_rule(frame: pd.DataFrame, rules) -> np.ndarray:
+def first_rule(frame, rules) -> np.ndarray:
     """Number (from 1) of the first rule each row meets, or 0 where none does.
+
+    ``frame`` is a pandas DataFrame or an Arrow record batch.
 
     Rule order matters: a row that several rules catch counts against the first.
 
@@ -69,6 +69,7 @@ def first_rule(frame: pd.DataFrame, rules) -> np.ndarray:
     --------
     >>> rules = (ExclusionRule("x", "below", 0, "negative"), ExclusionRule("x", "missing", True,
     ...          "blank"), ExclusionRule("x", "at_least", -5, "large"))
+    >>> import pandas as pd
     >>> first_rule(pd.DataFrame({"x": [-1.0, None, 3.0]}), rules).tolist()
     [1, 2, 3]
     """
@@ -124,8 +125,10 @@ class Waterfall:
         """Rows removed by the rules, all together."""
         return sum(step.removed for step in self.steps)
 
-    def frame(self) -> pd.DataFrame:
-        """The waterfall as the Overview shows it: Step, Reason, Rows removed, Rows left."""
+    def frame(self):
+        """The waterfall as the Overview shows it (a DataFrame): Step, Reason, Rows removed,
+        Rows left."""
+        import pandas as pd
         left_by_rules = self.rows_read - self.excluded
         samples = " + ".join(name for name, _ in self.used)
         lines = [("Rows read", "", None, self.rows_read)]

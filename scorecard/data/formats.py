@@ -81,6 +81,12 @@ def open_zip_member(path: Path) -> pa.PythonFile:
     return pa.PythonFile(archive.open(zip_member(path)), mode="r")
 
 
+def csv_source(path: Path):
+    """What pyarrow's CSV reader reads for ``path``: the path itself (it undoes gzip, bzip2 and
+    zstandard by the suffix), or a stream of the one CSV inside a zip archive."""
+    return open_zip_member(path) if data_format(path) == "zip" else str(path)
+
+
 def statistical_batches(path: Path, encoding: str,
                         chunk_rows: int = STATISTICAL_CHUNK_ROWS) -> Iterator[pa.RecordBatch]:
     """Record batches of a SAS or transport dataset, read by pandas in chunks of ``chunk_rows``."""

@@ -5,9 +5,8 @@ from __future__ import annotations
 from typing import NamedTuple
 
 import numpy as np
-import pandas as pd
 
-from scorecard.data.coding import level_labels, row_number
+from scorecard.data.coding import level_codes, level_labels, row_number
 from scorecard.errors import InputError
 
 GOOD, BAD, OTHER = 0, 1, -1
@@ -42,21 +41,20 @@ def matching_levels(labels: list[str], values) -> np.ndarray:
     return np.array([lv in exact or lv.lower() in words for lv in labels], dtype=bool)
 
 
-def code_outcome(series: pd.Series, bad, good, weight: pd.Series | None = None,
+def code_outcome(series, bad, good, weight=None,
                  weight_name: str = "weight") -> Outcome:
     """Code the outcome column by the ``bad`` and ``good`` value lists.
 
     Examples
     --------
+    >>> import pandas as pd
     >>> o = code_outcome(pd.Series(["repaid", "defaulted", "open", None]), ["defaulted"], ["repaid"])
     >>> o.label.tolist(), o.goods, o.bads, o.left_out
     ([0, 1, -1, -1], 1.0, 1.0, 2)
     """
-    cat = series if isinstance(series.dtype, pd.CategoricalDtype) else series.astype("category")
-    labels = level_labels(cat.cat.categories)
+    labels, codes = level_codes(series)
     lookup = np.where(matching_levels(labels, bad), BAD,
                       np.where(matching_levels(labels, good), GOOD, OTHER))
-    codes = cat.cat.codes.to_numpy()
     label = np.where(codes < 0, OTHER, lookup[codes] if len(lookup) else OTHER).astype(np.int8)
     w = np.ones(len(series)) if weight is None else _weights(weight, weight_name)
     w = np.where(label == OTHER, 0.0, w)
@@ -64,18 +62,20 @@ def code_outcome(series: pd.Series, bad, good, weight: pd.Series | None = None,
                    int((label == OTHER).sum()))
 
 
-def row_weights(series: pd.Series, name: str) -> np.ndarray:
+def row_weights(series, name: str) -> np.ndarray:
     """The weight column as floats; InputError naming the first missing or negative weight.
 
     Examples
     --------
+    >>> import pandas as pd
     >>> row_weights(pd.Series([1, 2.5]), "w").tolist()
     [1.0, 2.5]
     """
     return _weights(series, name)
 
 
-def _weights(series: pd.Series, name: str) -> np.ndarray:
+def _weights(series, name: str) -> np.ndarray:
+    import pandas as pd
     if not pd.api.types.is_numeric_dtype(series.dtype) or pd.api.types.is_bool_dtype(series.dtype):
         raise InputError(f"column {name}: weights must be numbers, found {series.dtype} values")
     w = series.to_numpy(dtype=np.float64, na_value=np.nan)

@@ -25,9 +25,9 @@ import pyarrow.parquet as pq
 from scorecard.config.sources import is_query
 from scorecard.data.formats import (
     KNOWN,
+    csv_source,
     data_format,
     is_tab_separated,
-    open_zip_member,
     read_spreadsheet,
     read_statistical,
 )
@@ -77,12 +77,6 @@ def read_table(path, columns=None, encoding="utf-8", delimiter=",", sheet=None,
         raise InputError(f"{path}: the text is not valid {encoding} ({exc.reason}); "
                          f"{_ENCODING_HINT}") from None
     raise InputError(f"{path}: unknown data format {path.suffix!r} (expected {KNOWN})")
-
-
-def csv_source(path: Path):
-    """What pyarrow's CSV reader reads for ``path``: the path itself (it undoes gzip, bzip2 and
-    zstandard by the suffix), or a stream of the one CSV inside a zip archive."""
-    return open_zip_member(path) if data_format(path) == "zip" else str(path)
 
 
 def _csv_options(path: Path, encoding: str, delimiter: str, threads: bool = True):

@@ -424,7 +424,7 @@ def _column_names(path) -> list[str] | None:
     import pyarrow.parquet as pq
 
     from scorecard.data.formats import data_format, is_tab_separated
-    from scorecard.data.read import csv_source
+    from scorecard.data.formats import csv_source
 
     path = Path(path)
     if not path.exists():

@@ -25,25 +25,23 @@ from typing import Iterator, NamedTuple
 
 import numpy as np
 import pyarrow as pa
-import pyarrow.compute as pc
-import pyarrow.csv as pacsv
-import pyarrow.dataset as pads
-import pyarrow.parquet as pq
 
 from scorecard.card.scorecard import MISSING, OUT_OF_RANGE, UNSEEN, Scorecard
 from scorecard.card.scoring import (REFUSED_PREFIX, UnusualValues, apply_scorecard, bad_probability,
                                     reason_codes)
 from scorecard.card.segmented import SegmentedScorecard, apply_segmented, load_model
 from scorecard.constraints import REASONS
+from scorecard.data.arrow_columns import labelled, numbers
+from scorecard.data.coding import Columns, level_codes, numeric_values
 from scorecard.data.exclusions import first_rule
 from scorecard.data.formats import (
     PARQUET_SUFFIXES,
+    csv_source,
     data_format,
     is_tab_separated,
     read_spreadsheet,
     statistical_batches,
 )
-from scorecard.data.read import csv_source
 from scorecard.errors import InputError, first_line
 from scorecard.outputs.atomic import Output, check_outputs, staged
 
@@ -217,40 +215,38 @@ def scored_batch(card: Scorecard, batch: pa.RecordBatch, keep=(), reasons: int =
     s = apply_scorecard(card, _characteristic_frame(card, batch))
     caught = np.zeros(batch.num_rows, dtype=np.int16)
     if exclusions:
-        columns = list(dict.fromkeys(rule.column for rule in card.exclusions))
-        caught = first_rule(batch.select(columns).to_pandas(), card.exclusions)
+        caught = first_rule(batch, card.exclusions)
     out = caught > 0
-    arrays = [batch.column(k).cast(schema.field(k).type) for k in keep]
-    arrays.append(pa.array(s.score, mask=s.rejected | out))
+    arrays = _kept(batch, keep, schema)
+    arrays.append(numbers(s.score, s.rejected | out))
     if exclusions:
-        why = pa.array([rule.reason for rule in card.exclusions], type=pa.string())
-        arrays.append(pa.DictionaryArray.from_arrays(
-            pa.array(caught.astype(np.int32) - 1, mask=~out), why))
-    arrays.append(pa.array(bad_probability(card, s.score), type=pa.float64(),
-                           mask=s.rejected | out))
-    arrays += [pa.array(np.ascontiguousarray(s.points[:, j]), mask=s.refused[:, j] | out)
+        arrays.append(labelled(caught.astype(np.int32) - 1,
+                               [rule.reason for rule in card.exclusions]))
+    arrays.append(numbers(bad_probability(card, s.score), s.rejected | out))
+    arrays += [numbers(s.points[:, j], s.refused[:, j] | out)
                for j in range(len(card.characteristics))]
     if reasons:
         ranked = reason_codes(card, s.points, reasons, s.refused, reason_text)
-        labels = pa.array(ranked.labels, type=pa.string())
-        for i in range(reasons):
-            column = ranked.index[:, i]
-            arrays.append(pa.DictionaryArray.from_arrays(
-                pa.array(column, type=pa.int32(), mask=(column < 0) | out), labels))
+        arrays += [labelled(ranked.index[:, i], ranked.labels, out) for i in range(reasons)]
     return pa.RecordBatch.from_arrays(arrays, schema=schema), s, caught
+
+
+def _kept(batch: pa.RecordBatch, keep, schema: pa.Schema) -> list:
+    """The ``keep`` columns as read, cast only where a later file of a folder differs."""
+    arrays = [batch.column(k) for k in keep]
+    return [a if a.type == schema.field(k).type else a.cast(schema.field(k).type)
+            for a, k in zip(arrays, keep)]
 
 
 def _segmented_batch(model: SegmentedScorecard, batch, keep, reasons, reason_text, schema):
     """Each row scored by its segment's card; a characteristic the row's card lacks is empty,
     and a row with no segment gets no score and ``REJECTED:<segment column>``."""
     s = apply_segmented(model, _characteristic_frame(model, batch))
-    arrays = [batch.column(k).cast(schema.field(k).type) for k in keep]
-    names = pa.array(model.rule.names, type=pa.string())
-    arrays.append(pa.DictionaryArray.from_arrays(
-        pa.array(s.segment, type=pa.int32(), mask=s.segment < 0), names))
-    arrays.append(pa.array(s.score, mask=s.rejected))
-    arrays.append(pa.array(bad_probability(model, s.score), type=pa.float64(), mask=s.rejected))
-    arrays += [pa.array(np.ascontiguousarray(s.points[:, j]), mask=s.refused[:, j] | ~s.used[:, j])
+    arrays = _kept(batch, keep, schema)
+    arrays.append(labelled(s.segment, model.rule.names))
+    arrays.append(numbers(s.score, s.rejected))
+    arrays.append(numbers(bad_probability(model, s.score), s.rejected))
+    arrays += [numbers(s.points[:, j], s.refused[:, j] | ~s.used[:, j])
                for j in range(len(model.names))]
     if reasons:
         labels = [REFUSED_PREFIX + model.rule.column]
@@ -261,11 +257,7 @@ def _segmented_batch(model: SegmentedScorecard, batch, keep, reasons, reason_tex
             to_all = np.array([_label_index(labels, lb) for lb in ranked.labels] + [-1],
                               dtype=np.int32)
             index[rows] = to_all[ranked.index]       # -1 (no reason) stays -1
-        table = pa.array(labels, type=pa.string())
-        for i in range(reasons):
-            column = index[:, i]
-            arrays.append(pa.DictionaryArray.from_arrays(
-                pa.array(column, type=pa.int32(), mask=column < 0), table))
+        arrays += [labelled(index[:, i], labels) for i in range(reasons)]
     return pa.RecordBatch.from_arrays(arrays, schema=schema), s
 
 
@@ -275,22 +267,14 @@ def _label_index(labels: list, label: str) -> int:
     return labels.index(label)
 
 
-def _characteristic_frame(card: Scorecard, batch: pa.RecordBatch):
-    """The characteristic columns as pandas: numbers as float64, text dictionary-encoded."""
-    columns = {}
-    for c in card.characteristics:
-        column = batch.column(c.name)
-        kind = column.type
-        if c.kind == "numeric" and (pa.types.is_integer(kind) or pa.types.is_boolean(kind)
-                                    or pa.types.is_floating(kind) or pa.types.is_null(kind)):
-            column = column.cast(pa.float64())
-        elif c.kind == "categorical" and (pa.types.is_string(kind) or pa.types.is_large_string(kind)
-                                          or pa.types.is_null(kind)):
-            column = pc.dictionary_encode(column.cast(pa.string()))
-        columns[c.name] = column
+def _characteristic_frame(card: Scorecard, batch: pa.RecordBatch) -> Columns:
+    """The characteristic columns prepared for scoring: numbers as float64, levels coded."""
+    kinds = {c.name: c.kind for c in card.characteristics}
     if isinstance(card, SegmentedScorecard):
-        columns[card.rule.column] = batch.column(card.rule.column)
-    return pa.table(columns).to_pandas(split_blocks=True)
+        kinds[card.rule.column] = card.rule.kind
+    return Columns({name: numeric_values(batch.column(name), name) if kind == "numeric"
+                    else level_codes(batch.column(name)) for name, kind in kinds.items()},
+                   batch.num_rows)
 
 
 class _Counts:
@@ -355,12 +339,14 @@ def _batches(card, path: Path, keep, encoding, delimiter, chunk_rows, block_byte
     if isinstance(card, SegmentedScorecard) and card.rule.kind == "categorical":
         levels.append(card.rule.column)
     if path.is_dir():
+        import pyarrow.dataset as pads
         form = pads.ParquetFileFormat(dictionary_columns=levels)
         dataset = pads.dataset(path, format=form)
         columns = _needed(card, path, dataset.schema.names, keep, rules)
         return dataset.schema, dataset.to_batches(columns=columns, batch_size=chunk_rows)
     kind = data_format(path)
     if kind == "parquet":
+        import pyarrow.parquet as pq
         columns = _needed(card, path, pq.read_schema(path).names, keep, rules)
         file = stack.enter_context(pq.ParquetFile(path, read_dictionary=levels))
         return file.schema_arrow, file.iter_batches(batch_size=chunk_rows, columns=columns)
@@ -419,6 +405,7 @@ def _needed(card, path: Path, names, keep, rules=()) -> list[str]:
 
 
 def _csv_reader(card, path: Path, keep, encoding, delimiter, block_bytes, rules=()):
+    import pyarrow.csv as pacsv
     if path.stat().st_size == 0:
         raise InputError(f"{path}: the file is empty")
     parse = pacsv.ParseOptions(delimiter="\t" if is_tab_separated(path) else delimiter)
@@ -450,8 +437,10 @@ def _open_writer(tmp: Path, out: Path, schema: pa.Schema):
     """Yield a function that writes one batch to ``tmp`` in the format of ``out``."""
     suffix = out.suffix.lower()
     if suffix in PARQUET_SUFFIXES:
+        import pyarrow.parquet as pq
         writer = pq.ParquetWriter(tmp, schema)
     else:
+        import pyarrow.csv as pacsv
         options = pacsv.WriteOptions(delimiter="\t" if suffix == ".tsv" else ",")
         writer = pacsv.CSVWriter(tmp, schema, write_options=options)
     try:
