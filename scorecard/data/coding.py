@@ -304,13 +304,3 @@ def _looked_up(table: _BucketTable, x: np.ndarray) -> np.ndarray:
     for _ in range(table.steps):
         cells += x >= table.cuts[cells]
     return cells
-    table = _bucket_table(cuts)
-    if table is None:
-        return np.searchsorted(cuts, x, side="right")
-    bucket = _buckets(x, table.low, table.shift)
-    np.clip(bucket, table.first, table.last, out=bucket)
-    bucket -= table.first
-    cells = table.before[bucket]
-    for _ in range(table.steps):
-        cells += x >= table.cuts[cells]
-    return cells
