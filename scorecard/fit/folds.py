@@ -78,9 +78,27 @@ class FoldLikelihood:
         held_s[:, order] = split_counts(np.asarray(successes, float)[order], folds, rng)
         held_f[:, order] = split_counts(np.asarray(failures, float)[order], folds, rng)
         self.held = (held_s, held_f)
-        self.train = (np.asarray(successes, float) - held_s, np.asarray(failures, float) - held_f)
+        self.totals = (np.asarray(successes, float), np.asarray(failures, float))
         self._woe: dict = {}
         self._done: dict = {}
+        self._groups: dict = {}
+
+    def _train(self, side: int, fold: int) -> np.ndarray:
+        # Made when needed rather than kept: on data whose rows are nearly all distinct
+        # patterns, a copy per fold would be as large as the held-out counts themselves.
+        return self.totals[side] - self.held[side][fold]
+
+    def _grouped(self, columns):
+        """Groups of ``columns``, refined from those of the columns before the last, which the
+        previous step of forward selection made."""
+        if columns not in self._groups:
+            head = columns[:-1]
+            groups = self.coded.refine(self._groups[head], columns[-1]) \
+                if columns and head in self._groups else self.coded.group(columns)
+            # Only the model and the latest candidate's groups are kept: an index per row each.
+            self._groups = {key: value for key, value in self._groups.items() if key == head}
+            self._groups[columns] = groups
+        return self._groups[columns]
 
     def woe(self, fold: int, column: int) -> np.ndarray:
         """Weight of evidence of each bin of ``column`` on the counts outside ``fold`` (or the
@@ -90,18 +108,22 @@ class FoldLikelihood:
             return self.coded.values[column]
         if key not in self._woe:
             codes, radix = self.coded.codes[:, column], self.coded.radix[column]
-            goods = np.bincount(codes, weights=self.train[0][fold], minlength=radix)
-            bads = np.bincount(codes, weights=self.train[1][fold], minlength=radix)
+            goods = np.bincount(codes, weights=self._train(0, fold), minlength=radix)
+            bads = np.bincount(codes, weights=self._train(1, fold), minlength=radix)
             with np.errstate(divide="ignore", invalid="ignore"):
                 woe = shrunk_woe(goods, bads, goods.sum(), bads.sum(), self.prior_rows)
             self._woe[key] = np.where(goods + bads > 0, woe, 0.0)
         return self._woe[key]
 
-    def log_likelihood(self, columns) -> float:
-        """Held-out log-likelihood (nats) of the model on ``columns``, summed over the folds."""
+    def log_likelihood(self, columns, start=None) -> float:
+        """Held-out log-likelihood (nats) of the model on ``columns``, summed over the folds.
+
+        ``start``: coefficients (intercept first) where each fold's fit starts, such as those of
+        the same model on all the rows, which the folds' fits lie close to.
+        """
         columns = tuple(columns)
         if columns not in self._done:
-            groups = self.coded.group(columns)
+            groups = self._grouped(columns)
             first = self.coded.codes[groups.first]
             total = 0.0
             for fold in range(self.folds):
@@ -109,17 +131,25 @@ class FoldLikelihood:
                 design[:, 0] = 1.0
                 for i, j in enumerate(columns):
                     design[:, 1 + i] = self.woe(fold, j)[first[:, j]]
-                s, f, held_s, held_f = (
+                held_s, held_f = (
                     np.bincount(groups.index, weights=w[fold], minlength=groups.count)
-                    for w in (*self.train, *self.held))
+                    for w in self.held)
+                s, f = (np.bincount(groups.index, weights=total, minlength=groups.count) - held
+                        for total, held in zip(self.totals, (held_s, held_f)))
                 fitted = s + f > 0
-                coefficients, _, _ = newton_fit(design[fitted], s[fitted], f[fitted], None,
+                coefficients, _, _ = newton_fit(design[fitted], s[fitted], f[fitted], start,
                                                 SELECTION_TOLERANCE)
                 eta = design @ coefficients
                 total -= float(held_s @ np.logaddexp(0.0, -eta) + held_f @ np.logaddexp(0.0, eta))
             self._done[columns] = total
         return self._done[columns]
 
-    def gain(self, columns, candidate: int) -> float:
-        """Held-out log-likelihood of the model with ``candidate`` minus without it (nats)."""
-        return self.log_likelihood((*columns, candidate)) - self.log_likelihood(columns)
+    def gain(self, columns, candidate: int, start=None) -> float:
+        """Held-out log-likelihood of the model with ``candidate`` minus without it (nats).
+
+        ``start``: the coefficients of the model without it, fitted on all the rows.
+        """
+        columns = tuple(columns)
+        with_it = None if start is None else np.append(start, 0.0)
+        return self.log_likelihood((*columns, candidate), with_it) \
+            - self.log_likelihood(columns, start)

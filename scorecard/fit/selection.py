@@ -597,7 +597,7 @@ def _forward(data: _Candidates, candidates, entry_p_value, cap, fates, folds=Non
             # statistic (ties by name); one with no score at all lies in the span of the model.
             last_gain.clear()
             for i in sorted(np.flatnonzero(statistics > 0), key=lambda i: -statistics[i]):
-                last_gain[remaining[i]] = folds.gain(chosen, remaining[i])
+                last_gain[remaining[i]] = folds.gain(chosen, remaining[i], coefficients)
                 if last_gain[remaining[i]] > 0:
                     best, gain = int(i), last_gain[remaining[i]]
                     break
