@@ -114,7 +114,7 @@ def test_a_characteristic_with_a_real_effect_enters_by_its_held_out_gain():
     # test at a level it cannot meet keeps it out, and then no gain is measured.
     coded, goods, bads = _coded_rows()
     names, iv = ["strong", "weak"], [0.2, 0.01]
-    result = select_characteristics(coded, goods, bads, names, iv)
+    result = select_characteristics(coded, goods, bads, names, iv, entry="gain")
     assert result.selected == ("strong", "weak")
     assert all(step["held_out_gain"] > 0 for step in result.steps)
     assert result.fates["weak"].reason.startswith("entered at step 2 with a held-out "

@@ -217,7 +217,7 @@ def test_a_kept_column_with_the_wrong_sign_stays_and_is_warned_about(coded):
 
 
 def test_noise_above_the_floor_does_not_enter(coded):
-    result = select(coded, min_iv=0.0)
+    result = select(coded, min_iv=0.0, entry="gain")
     fate = result.fates["noise"]
     assert (fate.selected, fate.stage) == (False, "stepwise")
     assert fate.reason.startswith("no held-out log-likelihood gain at the last step")
@@ -326,7 +326,7 @@ def test_ties_prefer_the_name_that_sorts_first():
         "correlation 1.00 with twin_a, which has the same IV and comes first by name"
     )
     entered = select_characteristics(
-        X, goods, 5 - goods, ["twin_b", "twin_a"], [0.4, 0.4], max_correlation=1.0
+        X, goods, 5 - goods, ["twin_b", "twin_a"], [0.4, 0.4], max_correlation=1.0, entry="gain"
     )
     assert entered.selected == ("twin_a",)
     assert entered.fates["twin_b"] == Fate(

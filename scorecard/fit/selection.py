@@ -6,11 +6,11 @@ recording why a candidate leaves:
 
 1. information value floor;
 2. correlation pruning, strongest IV first;
-3. forward stepwise entry (or every survivor, with ``method='all'``): by default a candidate
-   enters when it raises the log-likelihood of held-out folds of the development counts, its
-   weights of evidence estimated without them (:mod:`scorecard.fit.folds`); the score test,
-   which does not know that the weights of evidence were fitted to the same rows, lets in most
-   unrelated characteristics of many bins. ``entry='score'`` enters by the score test alone;
+3. forward stepwise entry (or every survivor, with ``method='all'``): by score test, or with
+   ``entry='gain'`` when a candidate raises the log-likelihood of held-out folds of the
+   development counts, its weights of evidence estimated without them
+   (:mod:`scorecard.fit.folds`); the score test, which does not know that the weights of
+   evidence were fitted to the same rows, lets in most unrelated characteristics of many bins;
 4. coefficient sign: with WoE coding every coefficient should be positive;
 5. collinearity, by variance inflation factor.
 
