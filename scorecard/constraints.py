@@ -32,11 +32,13 @@ from typing import Any
 
 __all__ = [
     "Interval", "Setting", "cutoffs_in_order",
-    "TRENDS", "KINDS", "METHODS", "UNSEEN_ACTIONS", "OUT_OF_RANGE_ACTIONS", "EXCLUSION_CONDITIONS",
+    "TRENDS", "KINDS", "METHODS", "ENTRIES", "UNSEEN_ACTIONS", "OUT_OF_RANGE_ACTIONS",
+    "EXCLUSION_CONDITIONS",
     "HOLDOUT", "SEED",
     "FINE_BINS", "MAX_BINS", "MIN_BIN_SHARE", "MIN_BIN_GOODS", "MIN_BIN_BADS", "PRIOR_ROWS", "TREND",
     "RARE_LEVEL_SHARE", "MAX_LEVELS",
-    "MIN_IV", "MAX_CORRELATION", "MAX_VIF", "METHOD", "ENTRY_P_VALUE", "MAX_CHARACTERISTICS",
+    "MIN_IV", "MAX_CORRELATION", "MAX_VIF", "METHOD", "ENTRY", "ENTRY_P_VALUE", "GAIN_FOLDS",
+    "MAX_CHARACTERISTICS",
     "SCALE_LIMIT", "BASE_SCORE", "BASE_ODDS", "PDO",
     "UNSEEN_LEVEL", "UNSEEN_MISSING", "OUT_OF_RANGE", "REASONS",
     "SCORE_BANDS", "WATCH", "SHIFT",
@@ -158,6 +160,8 @@ def cutoffs_in_order(watch: float, shift: float) -> bool:
 TRENDS = ("detect", "rises", "falls", "any")
 KINDS = ("numeric", "categorical")
 METHODS = ("stepwise", "all")
+# What lets a candidate enter in stepwise selection: a gain on held-out folds, or the score test.
+ENTRIES = ("gain", "score")
 UNSEEN_ACTIONS = ("neutral", "worst", "reject")
 OUT_OF_RANGE_ACTIONS = ("edge", "neutral", "worst", "reject")
 # How an exclusion rule (data.exclude) catches a row: its value is one of a list, below a
@@ -199,7 +203,15 @@ MAX_CORRELATION = Setting(0.6, _UP_TO_ONE)
 # every column with any correlation at all: the ceiling must lie above 1.
 MAX_VIF = Setting(5.0, Interval(1, low_open=True))
 METHOD = Setting("stepwise", choices=METHODS)
+# The score test of a weight-of-evidence coded candidate does not know that its WoE was
+# estimated on the same rows, so it lets in most unrelated characteristics of many bins; the
+# held-out gain re-estimates the WoE without the rows it is judged on (scorecard.fit.folds).
+# Not the default yet: a candidate whose gain is near 0 can flip with the draw of the folds,
+# which moves when a few rows change (tests/test_hostile_values.py found one in the demo).
+ENTRY = Setting("score", choices=ENTRIES)
 ENTRY_P_VALUE = Setting(0.05, _UP_TO_ONE)
+# Folds of the development counts for the held-out gain (not a config key).
+GAIN_FOLDS = Setting(5, Interval(2), whole=True)
 MAX_CHARACTERISTICS = Setting(12, Interval(1), whole=True)
 
 # ---- scaling ---------------------------------------------------------------------------------

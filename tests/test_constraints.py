@@ -35,7 +35,7 @@ def _config_defaults(cls) -> dict:
 def test_selection_defaults_are_the_config_defaults():
     function, config = _defaults(select_characteristics), _config_defaults(SelectionConfig)
     shared = set(function) & set(config) - {"keep"}
-    assert shared == {"min_iv", "max_correlation", "max_vif", "method", "entry_p_value",
+    assert shared == {"min_iv", "max_correlation", "max_vif", "method", "entry", "entry_p_value",
                       "max_characteristics"}
     assert {k: function[k] for k in shared} == {k: config[k] for k in shared}
 

@@ -217,10 +217,13 @@ def test_a_kept_column_with_the_wrong_sign_stays_and_is_warned_about(coded):
 
 
 def test_noise_above_the_floor_does_not_enter(coded):
-    result = select(coded, min_iv=0.0)
+    result = select(coded, min_iv=0.0, entry="gain")
     fate = result.fates["noise"]
     assert (fate.selected, fate.stage) == (False, "stepwise")
-    assert "not below the entry level 0.05" in fate.reason
+    assert fate.reason.startswith("no held-out log-likelihood gain at the last step")
+    by_score = select(coded, min_iv=0.0, entry="score").fates["noise"]
+    assert (by_score.selected, by_score.stage) == (False, "stepwise")
+    assert "not below the entry level 0.05" in by_score.reason
 
 
 def test_the_cap_stops_stepwise_entry(coded):
@@ -323,11 +326,16 @@ def test_ties_prefer_the_name_that_sorts_first():
         "correlation 1.00 with twin_a, which has the same IV and comes first by name"
     )
     entered = select_characteristics(
-        X, goods, 5 - goods, ["twin_b", "twin_a"], [0.4, 0.4], max_correlation=1.0
+        X, goods, 5 - goods, ["twin_b", "twin_a"], [0.4, 0.4], max_correlation=1.0, entry="gain"
     )
     assert entered.selected == ("twin_a",)
-    assert entered.fates["twin_b"].stage == "stepwise"
-    assert "p-value 1 at the last step" in entered.fates["twin_b"].reason
+    assert entered.fates["twin_b"] == Fate(
+        False, "stepwise", "nothing to add at the last step: the model already spans it (score 0)")
+    by_score = select_characteristics(
+        X, goods, 5 - goods, ["twin_b", "twin_a"], [0.4, 0.4], max_correlation=1.0, entry="score"
+    )
+    assert by_score.selected == ("twin_a",)
+    assert "p-value 1 at the last step" in by_score.fates["twin_b"].reason
     both = select_characteristics(
         X, goods, 5 - goods, ["twin_b", "twin_a"], [0.4, 0.4], max_correlation=1.0, method="all"
     )

@@ -81,9 +81,13 @@ def steps_frame(selection) -> pd.DataFrame:
         "Entered": [s["entered"] for s in selection.steps],
         "Score-test p-value": [s["p_value"] for s in selection.steps],
         "Log-likelihood": [s["log_likelihood"] for s in selection.steps],
+        # Blank where the score test sufficed and no gain was measured.
+        "Held-out gain": [math.nan if s.get("held_out_gain") is None else s["held_out_gain"]
+                          for s in selection.steps],
         "In final model": ["yes" if s["entered"] in chosen else "no, removed later"
                            for s in selection.steps],
-    }, columns=["Step", "Entered", "Score-test p-value", "Log-likelihood", "In final model"])
+    }, columns=["Step", "Entered", "Score-test p-value", "Log-likelihood", "Held-out gain",
+                "In final model"])
 
 
 

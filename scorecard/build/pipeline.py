@@ -570,8 +570,8 @@ def _build_steps(config, engine, progress, rows, fairness, caught):
         design, successes, failures, [c.name for c in candidates],
         [c.information_value for c in candidates],
         min_iv=s.min_iv, max_correlation=s.max_correlation, max_vif=s.max_vif, method=s.method,
-        entry_p_value=s.entry_p_value, max_characteristics=s.max_characteristics,
-        keep=tuple(s.keep))
+        entry=s.entry, entry_p_value=s.entry_p_value, max_characteristics=s.max_characteristics,
+        keep=tuple(s.keep), prior_rows=b.prior_rows, seed=config.samples.seed)
     selection = selection._replace(fates={**floored, **selection.fates})
     for name, fate in selection.fates.items():
         reports[name] = replace(reports[name], status="in model" if fate.selected

@@ -108,7 +108,8 @@ _OVERRIDE_SCHEMA = {
 _SELECTION_SCHEMA = {
     "min_iv": v.setting(c.MIN_IV), "max_correlation": v.setting(c.MAX_CORRELATION),
     "max_vif": v.setting(c.MAX_VIF),
-    "method": v.setting(c.METHOD), "entry_p_value": v.setting(c.ENTRY_P_VALUE),
+    "method": v.setting(c.METHOD), "entry": v.setting(c.ENTRY),
+    "entry_p_value": v.setting(c.ENTRY_P_VALUE),
     "max_characteristics": v.setting(c.MAX_CHARACTERISTICS), "keep": _columns,
 }
 _SCALING_SCHEMA = {

@@ -251,6 +251,7 @@ class SelectionConfig:
     max_correlation: float = c.MAX_CORRELATION.default
     max_vif: float = c.MAX_VIF.default
     method: str = c.METHOD.default
+    entry: str = c.ENTRY.default
     entry_p_value: float = c.ENTRY_P_VALUE.default
     max_characteristics: int = c.MAX_CHARACTERISTICS.default
     keep: tuple[str, ...] = ()

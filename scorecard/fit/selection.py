@@ -6,7 +6,11 @@ recording why a candidate leaves:
 
 1. information value floor;
 2. correlation pruning, strongest IV first;
-3. forward stepwise entry by score test (or every survivor, with ``method='all'``);
+3. forward stepwise entry (or every survivor, with ``method='all'``): by score test, or with
+   ``entry='gain'`` when a candidate raises the log-likelihood of held-out folds of the
+   development counts, its weights of evidence estimated without them
+   (:mod:`scorecard.fit.folds`); the score test, which does not know that the weights of
+   evidence were fitted to the same rows, lets in most unrelated characteristics of many bins;
 4. coefficient sign: with WoE coding every coefficient should be positive;
 5. collinearity, by variance inflation factor.
 
@@ -27,6 +31,7 @@ from scipy import special
 from scorecard import constraints as c
 from scorecard.errors import InputError
 from scorecard.fit.design import CodedColumns, Groups, code_columns
+from scorecard.fit.folds import FoldLikelihood
 from scorecard.fit.logistic import (
     SELECTION_TOLERANCE,
     LogisticFit,
@@ -75,8 +80,9 @@ class Selection(NamedTuple):
     vif : dict of str to float
         Variance inflation factor of each selected column in the final model.
     steps : tuple of dict
-        Stepwise log, one ``{'step', 'entered', 'p_value', 'log_likelihood'}`` per entry, in
-        order; it keeps entries that a later stage removed.
+        Stepwise log, one ``{'step', 'entered', 'p_value', 'log_likelihood',
+        'held_out_gain'}`` per entry, in order (the gain is None where the p-value sufficed);
+        it keeps entries that a later stage removed.
     """
 
     selected: tuple[str, ...]
@@ -191,9 +197,13 @@ def select_characteristics(
     max_correlation=c.MAX_CORRELATION.default,
     max_vif=c.MAX_VIF.default,
     method=c.METHOD.default,
+    entry=c.ENTRY.default,
     entry_p_value=c.ENTRY_P_VALUE.default,
     max_characteristics=c.MAX_CHARACTERISTICS.default,
     keep=(),
+    prior_rows=c.PRIOR_ROWS.default,
+    gain_folds=c.GAIN_FOLDS.default,
+    seed=c.SEED.default,
 ) -> Selection:
     """Choose the characteristics of the scorecard and fit the final model.
 
@@ -216,13 +226,27 @@ def select_characteristics(
     max_vif : float
         Ceiling of the variance inflation factor (stage 5); above 1, since a VIF is at least 1.
     method : {'stepwise', 'all'}
-        Forward selection by score test, or every survivor of stage 2 (stage 3).
+        Forward selection, or every survivor of stage 2 (stage 3).
+    entry : {'gain', 'score'}
+        What lets a candidate enter in forward selection. ``'gain'``: candidates are asked in
+        order of their score statistic, and the first that raises the model's log-likelihood
+        on held-out folds of the patterns, its weights of evidence estimated without them
+        (:mod:`scorecard.fit.folds`), enters. ``'score'``: the candidate with the largest score
+        statistic enters when its p-value is below ``entry_p_value``.
     entry_p_value : float
-        A candidate enters only with a score-test p-value below this.
+        The score test's entry level (``entry='score'``).
     max_characteristics : int
         At most this many characteristics, kept ones included.
     keep : sequence of str
         Characteristics forced into the model; no stage removes them.
+    prior_rows : float
+        The prior the weights of evidence were shrunk with, used again when they are
+        estimated afresh on folds (``entry='gain'``). When ``X`` is a plain array rather than
+        bin codes, its values are used as they are.
+    gain_folds : int
+        Number of folds (``entry='gain'``).
+    seed : int
+        Seed of the folds.
 
     Returns
     -------
@@ -251,6 +275,11 @@ def select_characteristics(
     coded = _coded(X)
     n, k = coded.n_rows, coded.n_columns
     _check_settings(min_iv, max_correlation, max_vif, method, entry_p_value, max_characteristics)
+    if not c.ENTRY.allows(entry):
+        raise InputError(f"entry: expected one of {', '.join(map(repr, c.ENTRIES))}, "
+                         f"got {entry!r}")
+    if not c.GAIN_FOLDS.allows(gain_folds):
+        raise InputError(f"gain_folds: expected {c.GAIN_FOLDS.expected()}, got {gain_folds!r}")
     names = _names(names, k)
     successes = _weights(successes, "successes", n)
     failures = _weights(failures, "failures", n)
@@ -273,7 +302,13 @@ def select_characteristics(
     floor_passed = _iv_floor(data, np.isnan(np.diag(correlation)), min_iv, fates)
     survivors = _prune_correlated(data, floor_passed, correlation, max_correlation, fates)
     if method == "stepwise":
-        selected, steps = _forward(data, survivors, entry_p_value, max_characteristics, fates)
+        # Bin codes with their WoE tables are re-estimated on each fold; a plain array's
+        # values are all there is.
+        folds = FoldLikelihood(data.coded, data.successes, data.failures, prior_rows, seed,
+                               gain_folds, refit_woe=isinstance(X, CodedColumns)) \
+            if entry == "gain" else None
+        selected, steps = _forward(data, survivors, entry_p_value, max_characteristics, fates,
+                                   folds)
     else:
         selected, steps = _take_all(data, survivors, max_characteristics, fates), ()
     # Exact collinearity first: no coefficient of such a column can be estimated at all.
@@ -563,7 +598,7 @@ class _Model:
         self.grouped = data.rows(self.columns)
 
 
-def _forward(data: _Candidates, candidates, entry_p_value, cap, fates):
+def _forward(data: _Candidates, candidates, entry_p_value, cap, fates, folds=None):
     names = data.names
     chosen = list(data.kept)
     remaining = sorted(candidates, key=lambda j: names[j])
@@ -573,6 +608,7 @@ def _forward(data: _Candidates, candidates, entry_p_value, cap, fates):
     fit = newton_fit(*model.grouped, None, SELECTION_TOLERANCE, wide=data.wide(model))
     data.fitted[tuple(chosen)] = (fit.coefficients, fit.information)
     last_p: dict[int, float] = {}
+    last_gain: dict[int, float] = {}
     steps = []
     while remaining and len(chosen) < cap:
         statistics, p_values, sums = data.score(model, fit, remaining)
@@ -580,8 +616,22 @@ def _forward(data: _Candidates, candidates, entry_p_value, cap, fates):
         # The largest statistic is the smallest p-value, without the p-values' underflow to 0;
         # `remaining` is sorted by name, so argmax breaks ties by name.
         best = int(np.argmax(statistics))
-        if not p_values[best] < entry_p_value:
-            break
+        gain = None
+        if folds is None:
+            if not p_values[best] < entry_p_value:
+                break
+        else:
+            # The held-out folds ask whether the characteristic, weights of evidence and all,
+            # predicts rows it never saw. Candidates are asked in order of their score
+            # statistic (ties by name); one with no score at all lies in the span of the model.
+            last_gain.clear()
+            for i in sorted(np.flatnonzero(statistics > 0), key=lambda i: -statistics[i]):
+                last_gain[remaining[i]] = folds.gain(chosen, remaining[i], fit.coefficients)
+                if last_gain[remaining[i]] > 0:
+                    best, gain = int(i), last_gain[remaining[i]]
+                    break
+            if gain is None:
+                break
         entering = remaining.pop(best)
         chosen.append(entering)
         # On the rows, the linear predictor at the start is the last model's.
@@ -596,21 +646,27 @@ def _forward(data: _Candidates, candidates, entry_p_value, cap, fates):
                 "entered": names[entering],
                 "p_value": float(p_values[best]),
                 "log_likelihood": fit.log_likelihood,
+                "held_out_gain": gain,
             }
         )
-        fates[names[entering]] = Fate(
-            True,
-            "selected",
-            f"entered at step {len(steps)} with score-test p-value {_p_text(p_values[best])}",
-        )
+        how = f"score-test p-value {_p_text(p_values[best])}"
+        if gain is not None:
+            how = (f"a held-out log-likelihood gain of {gain:.3g} on {folds.folds} folds "
+                   f"({how})")
+        fates[names[entering]] = Fate(True, "selected", f"entered at step {len(steps)} with {how}")
     for j in remaining:
         if len(chosen) >= cap:
             reason = f"not entered: max_characteristics {cap} was reached first"
-        else:
+        elif folds is None:
             reason = (
                 f"score-test p-value {_p_text(last_p[j])} at the last step, not below the entry "
                 f"level {entry_p_value:g}"
             )
+        elif j in last_gain:
+            reason = (f"no held-out log-likelihood gain at the last step ({last_gain[j]:.3g} on "
+                      f"{folds.folds} folds; score-test p-value {_p_text(last_p[j])})")
+        else:
+            reason = "nothing to add at the last step: the model already spans it (score 0)"
         fates[names[j]] = Fate(False, "stepwise", reason)
     return chosen, tuple(steps)
 

@@ -14,6 +14,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from scorecard.build import frames
 from scorecard.card import frames as card_frames
+from scorecard.constraints import GAIN_FOLDS
 from scorecard.outputs.workbook import charts, style
 from scorecard.outputs.workbook.tables import (
     finish_table_sheet,
@@ -94,10 +95,21 @@ def write_model(ws: Worksheet, result) -> None:
                              f"{'converged' if fit.converged else 'did NOT converge'} after "
                              f"{fit.iterations} {'iteration' if fit.iterations == 1 else 'iterations'}.")
     steps = frames.steps_frame(selection)
-    write_table(ws, steps, start_row=row + 1,
-                title=f"Characteristic selection steps (method: {result.config.selection.method})",
-                formats={"Step": style.INTEGER, "Score-test p-value": "0.00E+00",
-                         "Log-likelihood": style.WOE})
+    _, last = write_table(ws, steps, start_row=row + 1,
+                          title="Characteristic selection steps (method: "
+                                f"{result.config.selection.method})",
+                          formats={"Step": style.INTEGER, "Score-test p-value": "0.00E+00",
+                                   "Log-likelihood": style.WOE, "Held-out gain": style.WOE})
+    s = result.config.selection
+    if s.method == "stepwise" and s.entry == "gain":
+        note(ws, last + 2, "Candidates are asked in order of their score statistic; the first "
+                           "that raises the log-likelihood of held-out development rows enters "
+                           f"(held-out gain, in nats: {GAIN_FOLDS.default} folds of the "
+                           "development counts, each held out in turn, with the weights of "
+                           "evidence and the model estimated on the others).")
+    elif s.method == "stepwise":
+        note(ws, last + 2, "The candidate with the largest score statistic enters while its "
+                           f"score-test p-value is below {s.entry_p_value:g}.")
 
 
 def write_points(ws: Worksheet, result) -> tuple[int, int]:
