@@ -757,6 +757,14 @@ def test_monitor_gives_each_segment_its_own_score_index_and_ranking(reversed_cas
             _, gini, ks = _ranking_by_libraries(mine)
             assert (part.outcomes.gini, part.outcomes.ks) == pytest.approx((gini, ks), rel=1e-9)
             assert kept["segments"][name]["gini"] == pytest.approx(gini, rel=1e-9)
+    # The terminal text: under each period's line, one line per segment with the same index.
+    text = result.text().splitlines()
+    for p in result.periods:
+        at = next(i for i, line in enumerate(text) if line.startswith(p.period))
+        assert [line.split(":")[0].strip() for line in text[at + 1: at + 3]] == \
+            [f"segment {name}" for name in p.segments]
+        for line, part in zip(text[at + 1: at + 3], p.segments.values()):
+            assert f"{part.rows} rows" in line and f"score PSI {part.score.index:.4f}" in line
     # The stored baseline: each segment against its own card's development counts, and each
     # card's own holdout Gini in the development summary.
     stored = api.monitor(model, tmp_path / "dated.csv", "on")

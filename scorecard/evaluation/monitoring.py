@@ -261,7 +261,17 @@ class Monitoring(NamedTuple):
                               if r.status != "stable")
             lines.append(f"{p.period:11}{p.rows:7d}{p.mean_score:7.1f}{p.score.index:8.4f}  "
                          f"{p.score.status:7}{approved:>9}{perf}{moved}")
+            lines.extend(_segment_line(name, part) for name, part in p.segments.items())
         return "\n".join(lines)
+
+
+def _segment_line(name: str, part: SegmentPeriod) -> str:
+    # Under the period's line: each segment's own index, against that segment's baseline.
+    s, o = part.score, part.outcomes
+    index = "not assessed" if s is None else f"{s.index:.4f} {s.status}"
+    mean = "" if part.rows == part.rejected else f", mean {part.mean_score:.1f}"
+    gini = "" if o is None else f", Gini {o.gini:.3f} ({o.gini_low:.3f}-{o.gini_high:.3f})"
+    return f"  segment {name}: {part.rows} rows{mean}, score PSI {index}{gini}"
 
 
 def _period_dict(p: PeriodResult) -> dict:
