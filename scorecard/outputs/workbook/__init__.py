@@ -13,19 +13,13 @@ from pathlib import Path
 from openpyxl import Workbook
 
 from scorecard.outputs.atomic import save_book
-from scorecard.outputs.workbook import (
-    bins_sheet,
-    calculator,
-    overview,
-    sheets,
-    stability_sheet,
-)
+from scorecard.outputs.workbook import overview
+from scorecard.outputs.workbook.card_sheets import CARD_SHEETS, write_card_sheets
 from scorecard.outputs.workbook.manifest import run_manifest
 
 __all__ = ["SHEETS", "write_workbook"]
 
-SHEETS = ("Overview", "Characteristics", "Bins", "Model", "Points", "Score bands", "Stability",
-          "Calculator")
+SHEETS = ("Overview",) + CARD_SHEETS
 FAIRNESS = "Fairness"
 REJECT_INFERENCE = "Reject inference"
 
@@ -65,15 +59,7 @@ def write_workbook(result, path, waterfall=None) -> Path:
     ws = {name: wb.create_sheet(name) for name in SHEETS}
     manifest = run_manifest(result.config, rows_sha256=getattr(result, "rows_sha256", None))
     overview.write_overview(ws["Overview"], result, manifest)
-    sheets.write_characteristics(ws["Characteristics"], result)
-    bins_sheet.write_bins(ws["Bins"], result)
-    sheets.write_model(ws["Model"], result)
-    points_header, _ = sheets.write_points(ws["Points"], result)
-    sheets.write_score_bands(ws["Score bands"], result)
-    limits = result.config.stability
-    stability_sheet.write_stability(ws["Stability"], result.stability,
-                                    watch=limits.watch, shift=limits.shift)
-    calculator.write_calculator(ws["Calculator"], result.card, points_header)
+    write_card_sheets(ws, result)
     fairness = result.fairness
     if fairness is not None:
         from scorecard.outputs.workbook.fairness_sheet import write_fairness_sheet

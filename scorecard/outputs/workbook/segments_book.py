@@ -25,20 +25,16 @@ from openpyxl.utils import get_column_letter
 from scorecard.outputs.atomic import save_book
 from scorecard.outputs.cautions import CAUTION
 from scorecard.outputs.workbook import (
-    bins_sheet,
-    calculator,
     overview,
     segment_calculator,
     sheets,
-    stability_sheet,
     style,
 )
+from scorecard.outputs.workbook.card_sheets import CARD_SHEETS, write_card_sheets
 from scorecard.outputs.workbook.manifest import run_manifest
 from scorecard.outputs.workbook.pooled_scores import pooled_scores
 from scorecard.outputs.workbook.tables import set_print_layout
 
-CARD_SHEETS = ("Characteristics", "Bins", "Model", "Points", "Score bands", "Stability",
-               "Calculator")
 POOLED_BANDS = "Score bands"
 MAX_SHEET_NAME = 31
 _NOT_IN_SHEET_NAME = re.compile(r"[\[\]:*?/\\']")
@@ -84,18 +80,9 @@ def write_segmented_workbook(result, path, waterfall=None) -> Path:
     for name, part in result.segments.items():
         own = {sheet: wb.create_sheet(segment_sheet_name(sheet, name, taken))
                for sheet in CARD_SHEETS}
-        sheets.write_characteristics(own["Characteristics"], part)
-        bins_sheet.write_bins(own["Bins"], part)
-        sheets.write_model(own["Model"], part)
-        points_header, _ = sheets.write_points(own["Points"], part)
-        sheets.write_score_bands(own["Score bands"], part)
-        limits = part.config.stability
-        stability_sheet.write_stability(own["Stability"], part.stability,
-                                        watch=limits.watch, shift=limits.shift)
         calculators[name] = own["Calculator"].title
-        calculator.write_calculator(own["Calculator"], part.card, points_header,
-                                    points_sheet=own["Points"].title, taken=names,
-                                    inputs=inputs)
+        write_card_sheets(own, part, points_sheet=own["Points"].title, taken=names,
+                          inputs=inputs)
         if part.fairness is not None:
             from scorecard.outputs.workbook.fairness_sheet import write_fairness_sheet
             write_fairness_sheet(wb.create_sheet(segment_sheet_name("Fairness", name, taken)),
