@@ -6,12 +6,13 @@ import pytest
 import statsmodels.api as sm
 from hypothesis import given, settings
 from hypothesis import strategies as st
-from scipy import special
+from scipy import special, stats
 
 from scorecard.errors import InputError
 from scorecard.fit.design import CodedColumns
-from scorecard.fit.folds import FoldLikelihood, split_counts
+from scorecard.fit.folds import FoldLikelihood
 from scorecard.fit.selection import select_characteristics
+from scorecard.measures.fold_split import _binomial_quantile, cell_keys, split_counts
 
 
 @settings(deadline=None, max_examples=40)
@@ -22,7 +23,7 @@ def test_split_counts_deals_every_count_whole_into_the_folds(counts, folds, seed
     # Invariant: the parts of a count add up to it, none is negative, whole counts give
     # whole parts (rows are dealt, not divided).
     counts = np.array(counts)
-    parts = split_counts(counts, folds, np.random.default_rng(seed))
+    parts = split_counts(counts, cell_keys(np.arange(len(counts)), seed), folds)
     assert parts.shape == (folds, len(counts))
     np.testing.assert_allclose(parts.sum(axis=0), counts, rtol=0, atol=1e-9)
     assert (parts >= 0).all()
@@ -30,12 +31,59 @@ def test_split_counts_deals_every_count_whole_into_the_folds(counts, folds, seed
     assert (parts[:, whole] == np.floor(parts[:, whole])).all()
 
 
+@settings(deadline=None, max_examples=30)
+@given(st.lists(st.integers(0, 12_000), min_size=2, max_size=20), st.integers(0, 2**32 - 1),
+       st.data())
+def test_a_changed_cell_moves_only_its_own_parts(counts, seed, data):
+    # Invariant: a cell's parts depend on its own key and count alone, so changing one cell's
+    # count (a few rows moved) or the order of the cells leaves every other cell's parts as
+    # they were. Counts run past the row-by-row limit into the binomial chain.
+    counts = np.array(counts, dtype=float)
+    codes = np.column_stack([np.arange(len(counts)), np.arange(len(counts)) % 3])
+    before = split_counts(counts, cell_keys(codes, seed), 5)
+    changed = data.draw(st.integers(0, len(counts) - 1))
+    counts[changed] += data.draw(st.integers(1, 3))
+    order = np.random.default_rng(seed).permutation(len(counts))
+    after = np.empty_like(before)
+    after[:, order] = split_counts(counts[order], cell_keys(codes[order], seed), 5)
+    others = np.arange(len(counts)) != changed
+    np.testing.assert_array_equal(after[:, others], before[:, others])
+    assert after[:, changed].sum() == counts[changed]
+
+
 def test_split_counts_deals_rows_evenly():
     # Common practice: rows dealt at random fall about equally into the folds; for 100,000
     # rows in 5 folds each fold's share is 0.2 within 4 binomial standard errors (0.0051).
-    parts = split_counts(np.array([60_000.0, 40_000.0]), 5, np.random.default_rng(1))
-    shares = parts.sum(axis=1) / 100_000
-    assert np.abs(shares - 0.2).max() < 0.0051
+    counts = np.array([60_000.0, 40_000.0] + [1.0] * 50_000 + [3.0] * 10_000)
+    parts = split_counts(counts, cell_keys(np.arange(len(counts)), 1), 5)
+    shares = parts.sum(axis=1) / counts.sum()
+    assert np.abs(shares - 0.2).max() < 4 * np.sqrt(0.2 * 0.8 / counts.sum())
+
+
+@pytest.mark.parametrize("rows", [10, 6_000])
+def test_a_cell_is_split_as_a_multinomial_draw(rows):
+    # Reference library: dealing n rows at random into 5 folds gives each fold a
+    # Binomial(n, 1/5) part (scipy.stats.binom), and two folds' parts a covariance of
+    # -n/25. Over 4,000 cells of n rows, dealt row by row (10) or by the binomial chain (6,000):
+    # a chi-square test of fold 0's parts against the binomial law, and the covariance.
+    cells = 4_000
+    parts = split_counts(np.full(cells, float(rows)), cell_keys(np.arange(cells), 3), 5)
+    law = stats.binom(rows, 0.2)
+    edges = np.unique(law.ppf(np.linspace(0, 1, 12)[1:-1]))
+    observed = np.bincount(np.searchsorted(edges, parts[0], side="left"),
+                           minlength=len(edges) + 1)
+    expected = np.diff(np.concatenate([[0.0], law.cdf(edges), [1.0]])) * cells
+    assert stats.chisquare(observed, expected).pvalue > 1e-3
+    covariance = np.cov(parts[0], parts[1])[0, 1]
+    assert covariance == pytest.approx(-rows / 25, rel=0.15)
+
+
+def test_the_binomial_quantile_equals_scipys():
+    # Reference library: scipy.stats.binom.ppf, on random levels and counts.
+    rng = np.random.default_rng(0)
+    u, n = rng.random(5_000), rng.integers(0, 20_000, 5_000).astype(float)
+    for p in (0.2, 0.25, 1 / 3, 0.5):
+        np.testing.assert_array_equal(_binomial_quantile(u, n, p), stats.binom.ppf(u, n, p))
 
 
 def _patterns(seed=0, n=4000):

@@ -2,7 +2,9 @@
 
 Rows that share a pattern (outcome and bin of every candidate) are exchangeable, so a seeded
 split of each pattern's count into ``k`` folds by a multinomial draw is a random split of the
-rows into ``k`` folds, made on counts alone: no pass over the rows. Each fold is held out in
+rows into ``k`` folds, made on counts alone: no pass over the rows. Each pattern's draw comes
+from its own codes and the seed (:mod:`scorecard.measures.fold_split`), so a few changed rows
+move only the patterns they touch, and the gains with them, not the whole split. Each fold is held out in
 turn: every weight of evidence is estimated afresh on the other folds' counts (with the build's
 prior), the model is fitted there, and its log-likelihood is taken on the held fold. The sum
 over folds is the model's cross-validated log-likelihood; a characteristic's gain is that of
@@ -16,6 +18,7 @@ import numpy as np
 
 from scorecard.fit.design import CodedColumns
 from scorecard.fit.logistic import SELECTION_TOLERANCE, newton_fit
+from scorecard.measures.fold_split import cell_keys, split_counts
 from scorecard.measures.information import shrunk_woe
 
 FOLDS = 5
@@ -23,27 +26,6 @@ FOLDS = 5
 # Without a prior a bin empty of goods or of bads in the training folds would have an infinite
 # weight of evidence; one pseudo-row at the overall rate keeps it finite.
 _LEAST_PRIOR_ROWS = 1.0
-
-
-def split_counts(counts: np.ndarray, folds: int, rng: np.random.Generator) -> np.ndarray:
-    """Each count split into ``folds`` parts, shape ``(folds, n)``, summing to the count.
-
-    The whole part is split by a multinomial draw with equal chances, as rows dealt at random
-    into folds would be; a fractional remainder (weighted rows) goes whole to one fold drawn
-    at random.
-
-    Examples
-    --------
-    >>> parts = split_counts(np.array([10.0, 2.5, 0.0]), 3, np.random.default_rng(0))
-    >>> parts.sum(axis=0).tolist()
-    [10.0, 2.5, 0.0]
-    """
-    counts = np.asarray(counts, dtype=float)
-    whole = np.floor(counts)
-    parts = rng.multinomial(whole.astype(np.int64), np.full(folds, 1.0 / folds)).astype(float)
-    remainder = counts - whole
-    parts[np.arange(len(counts)), rng.integers(folds, size=len(counts))] += remainder
-    return parts.T
 
 
 class FoldLikelihood:
@@ -69,15 +51,9 @@ class FoldLikelihood:
                  seed: int, folds: int = FOLDS, refit_woe: bool = True):
         self.coded, self.folds, self.refit_woe = coded, folds, refit_woe
         self.prior_rows = max(float(prior_rows), _LEAST_PRIOR_ROWS)
-        # A canonical order of the patterns (their codes, then goods before bads), so that the
-        # draw is the same whatever order the passes produced them in.
-        keys = [successes, failures] + [coded.codes[:, j] for j in range(coded.n_columns)][::-1]
-        order = np.lexsort(keys)
-        rng = np.random.default_rng(seed)
-        held_s, held_f = (np.empty((folds, coded.n_rows)) for _ in range(2))
-        held_s[:, order] = split_counts(np.asarray(successes, float)[order], folds, rng)
-        held_f[:, order] = split_counts(np.asarray(failures, float)[order], folds, rng)
-        self.held = (held_s, held_f)
+        # The goods and the bads of a pattern are two cells, each dealt by its own key.
+        self.held = tuple(split_counts(counts, cell_keys(coded.codes, seed, side), folds)
+                          for side, counts in enumerate((successes, failures)))
         self.totals = (np.asarray(successes, float), np.asarray(failures, float))
         self._woe: dict = {}
         self._done: dict = {}
