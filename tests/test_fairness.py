@@ -62,7 +62,10 @@ def _reference_bins(chunk: pd.DataFrame) -> tuple[np.ndarray, np.ndarray]:
     """Bins of x and c by the card's rules, written out independently of the scoring module."""
     x = chunk["x"].to_numpy(dtype=float)
     x_bin = np.where(np.isnan(x), 2, np.where(x >= 1.0, 1, 0))
-    c_bin = chunk["c"].map({"a": 0, "b": 0, "c": 1, "d": 2}).fillna(3).to_numpy(dtype=int)
+    # As plain objects: a categorical column would map to a categorical that refuses the
+    # fill value 3 when no level maps to it.
+    levels = chunk["c"].astype(object)
+    c_bin = levels.map({"a": 0, "b": 0, "c": 1, "d": 2}).fillna(3).to_numpy(dtype=int)
     return x_bin, c_bin
 
 
