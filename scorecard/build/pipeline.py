@@ -63,6 +63,7 @@ from scorecard.engines.passes import (
     pattern_radix,
 )
 from scorecard.errors import InputError, ResultWarning
+from scorecard.evaluation.additivity import MAX_PATTERNS, additivity_check, notable
 from scorecard.evaluation.benchmark import benchmark
 from scorecard.evaluation.fairness import compute_fairness
 from scorecard.evaluation.histograms import band_edges, gains_table, performance, score_histogram
@@ -304,8 +305,8 @@ def _scale(config, selection, chosen: list) -> Scorecard:
 _HISTOGRAM_ROWS = 1 << 15
 
 
-def _histograms(card: Scorecard, patterns, names) -> dict:
-    """Score histogram of each sample, straight from the pattern counts."""
+def _pattern_scores(card: Scorecard, patterns, names) -> tuple[np.ndarray, np.ndarray]:
+    """Each pattern's score, and whether the card refuses it."""
     cols = [2 + names.index(c.name) for c in card.characteristics]
     tables = [np.array([b.points for b in c.bins], dtype=np.int64) for c in card.characteristics]
     refusing = [(col, np.array([b.rejected for b in c.bins]))
@@ -320,6 +321,12 @@ def _histograms(card: Scorecard, patterns, names) -> dict:
             block += table[codes[:, col]]
         for col, rejected in refusing:
             out |= rejected[codes[:, col]]
+    return score, refused
+
+
+def _histograms(card: Scorecard, patterns, names, scored) -> dict:
+    """Score histogram of each sample, straight from the pattern counts and their scores."""
+    score, refused = scored
     low, high = card.min_score, card.max_score
     out = {}
     for code, name in SAMPLE_NAMES.items():
@@ -330,6 +337,24 @@ def _histograms(card: Scorecard, patterns, names) -> dict:
         out[name] = score_histogram(score[mask], patterns.codes[mask, 1],
                                     patterns.weights[mask, 0], low, high)
     return out
+
+
+def _additivity(card: Scorecard, candidates, patterns, scored, seed: int) -> tuple:
+    """The departures from additivity of every pair of candidates of which at least one is in
+    the card, on the development patterns the card scores."""
+    score, refused = scored
+    keep = np.flatnonzero((patterns.codes[:, 0] == DEVELOPMENT) & ~refused)
+    if len(keep) > MAX_PATTERNS:
+        keep = np.sort(np.random.default_rng(seed).choice(keep, MAX_PATTERNS,
+                                                           replace=False))
+    codes = patterns.codes[keep]
+    weights = patterns.weights[keep, 0]
+    log_odds = (score[keep] - card.scaling.offset) / card.scaling.factor
+    return additivity_check(codes[:, 2:], [len(c.bins) for c in candidates],
+                            [c.name for c in candidates],
+                            np.where(codes[:, 1] == GOOD, weights, 0.0),
+                            np.where(codes[:, 1] == BAD, weights, 0.0), log_odds,
+                            among=card.names)
 
 
 def _development(card: Scorecard, histograms: dict, perf: dict, facts, config,
@@ -585,7 +610,15 @@ def _build_steps(config, engine, progress, rows, fairness, caught):
     card = _scale(config, selection, [by_name[n] for n in selection.selected])
     for char in card.characteristics:
         reports[char.name] = replace(reports[char.name], characteristic=char)
-    histograms = _histograms(card, patterns, [c.name for c in candidates])
+    scored = _pattern_scores(card, patterns, [c.name for c in candidates])
+    histograms = _histograms(card, patterns, [c.name for c in candidates], scored)
+    departures = _additivity(card, candidates, patterns, scored, config.samples.seed)
+    found = notable(departures)
+    if found:
+        top = found[0]
+        _say(progress, f"additivity: {top.first} and {top.second} do not add up (p "
+                       f"{top.p_value:.2g}; {len(found)} such pair{'s' if len(found) > 1 else ''}"
+                       f"); a card segmented on {top.segment_on} may rank better")
     unmeasured = _unmeasured(config, histograms)
     perf = {name: performance(h) for name, h in histograms.items() if name not in unmeasured}
     gains_sample = "holdout" if "holdout" in perf else "development"
@@ -615,7 +648,7 @@ def _build_steps(config, engine, progress, rows, fairness, caught):
     return BuildResult(config, card, ordered, selection, facts, histograms, perf, gains,
                        gains_sample, starts, patterns, stability, fairness=fairness,
                        unmeasured=unmeasured, extreme_values=extreme,
-                       benchmark=compared, waterfall=waterfall)
+                       benchmark=compared, waterfall=waterfall, additivity=departures)
 
 
 def _check_settings(config, engine, layouts: dict, counts: dict) -> None:
@@ -818,8 +851,10 @@ def rejects_steps(config, engine, rejects_engine, progress, rows, caught,
             unit="weights" if config.data.weight else "rows")
         card = replace(final.card, development=_development(final.card, histograms, perf,
                                                             samples, config, reports))
+        # The additivity screen needs rows whose outcome is known: an inferred row's goods
+        # and bads follow the accepts-only card, so they add information but no evidence.
         final = replace(final, card=card, samples=samples, waterfall=accepts_only.waterfall,
-                        histograms=histograms,
+                        histograms=histograms, additivity=accepts_only.additivity,
                         reports=reports, performance=perf, stability=stability,
                         fairness=compute_fairness(config, engine, rows, card))
     inference = rejects.RejectInference(

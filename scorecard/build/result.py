@@ -18,6 +18,7 @@ from scorecard.card.scorecard import Characteristic, Scorecard
 from scorecard.config import Config
 from scorecard.data.exclusions import Waterfall
 from scorecard.engines.patterns import Patterns
+from scorecard.evaluation.additivity import PairDeparture
 from scorecard.evaluation.benchmark import Benchmark
 from scorecard.evaluation.fairness import FairnessReport
 from scorecard.evaluation.histograms import ScoreHistogram
@@ -82,6 +83,8 @@ class BuildResult:
     # Rows read, removed by each data.exclude rule, of another outcome, used (None: not built
     # from a data file's rows).
     waterfall: Waterfall | None = None
+    # Every pair of the card's characteristics, the largest departure from additivity first.
+    additivity: tuple[PairDeparture, ...] = ()
 
     def tables(self) -> dict:
         """Every table the workbook shows, as DataFrames keyed by the sheet's name for them.

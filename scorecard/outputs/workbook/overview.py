@@ -15,6 +15,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 from scorecard.build import frames
 from scorecard.card import frames as card_frames
 from scorecard.config.sources import is_query
+from scorecard.evaluation.additivity import LEVEL, MAX_PATTERNS, departures_frame, notable
 from scorecard.outputs.cautions import CAUTION
 from scorecard.outputs.workbook import style
 from scorecard.outputs.workbook.manifest import Manifest
@@ -30,6 +31,10 @@ READING = ("Colour repeats what signs and words say, so a black-and-white print 
            "development (the fit), holdout (set aside at random) or out of time (a later period).")
 
 BENCHMARK_LABEL = "Cost of the scorecard form (AUC)"
+
+
+# More pairs than this are left to the build's result (result.additivity).
+MAX_PAIRS_SHOWN = 10
 
 
 def benchmark_text(b) -> str:
@@ -146,6 +151,8 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
         page.fact(BENCHMARK_LABEL, f"card {b.card_auc:.4f}; raw logistic regression "
                                    f"{b.logistic_auc:.4f} ({b.sample})")
         page.paragraph(benchmark_text(b))
+    additivity_section(page, getattr(result, "additivity", ()),
+                       getattr(result, "rejects", None) is not None)
 
     page.heading(f"Characteristics in the model ({len(card.characteristics)})")
     page.table(card_frames.model_frame(card), {"Information value": style.WOE, "Coefficient": style.WOE,
@@ -168,6 +175,32 @@ def write_overview(ws: Worksheet, result, manifest: Manifest) -> None:
     page.paragraph(READING)
     set_print_layout(ws)
     ws.page_setup.orientation = "portrait"
+
+
+def additivity_section(page, departures, with_rejects: bool) -> None:
+    """The pairs of characteristics whose joint bins the card's added points do not fit."""
+    if not departures:
+        return
+    found = notable(departures)
+    page.heading("Pairs the added points cannot hold (additivity screen)")
+    page.paragraph(
+        f"{len(departures)} pairs of characteristics, each with at least one in the card, were "
+        f"screened on the development rows (on a random {MAX_PATTERNS:,} of their distinct "
+        "patterns where there are more): rows grouped by the bins of both, the card's own "
+        "log-odds as they stand, and the departure from added points measured by a score "
+        "statistic beyond what new points for each characteristic alone could fit. A pair is "
+        f"listed when its p-value is below {LEVEL:g} divided by the number of pairs. A listed "
+        "pair means the trend of one characteristic differs between bins of the other; a "
+        "segmented card (segments: in the config) on the column named may rank better, and "
+        "it should be checked on the holdout before use."
+        + (" With reject inference, the screen is of the accepts-only card on the development "
+           "accepts, whose outcomes are known." if with_rejects else ""), style.NOTE_FONT)
+    if not found:
+        page.paragraph("No pair departs from additivity beyond chance.")
+        return
+    page.table(departures_frame(found[:MAX_PAIRS_SHOWN]),
+               {"Score statistic": "0.0", "Degrees of freedom": style.INTEGER,
+                "p-value": "0.0E+00", "Gain per 1,000 rows (nats)": "0.00"})
 
 
 def source_facts(page, source) -> None:
