@@ -11,7 +11,7 @@ cell effects, less the part that letting each characteristic's bins move on thei
 take (what new points within the additive form could do), is the departure from additivity.
 
 Under additivity it is about chi-square with ``cells - rank of the two main effects`` degrees
-of freedom; the card's other terms are held at their fitted values, so it is a screen, not an
+of freedom (cells of fewer than five expected goods or bads sit out); the card's other terms are held at their fitted values, so it is a screen, not an
 exact test. ``(statistic - df) / 2`` nats, per row, estimates the gain in log-likelihood a
 model with the pair's cells free would make on new rows; a segmented card on the
 characteristic with fewer bins is the remedy the product offers (``segments``).
@@ -26,6 +26,11 @@ from typing import NamedTuple
 
 import numpy as np
 from scipy import special, stats
+
+
+# Least information of a cell that takes part: with it, the cell expects at least this many
+# goods and this many bads (the usual floor of five expected counts for a chi-square).
+MIN_CELL_INFORMATION = 5.0
 
 
 class PairDeparture(NamedTuple):
@@ -55,13 +60,16 @@ def pair_departure(first: np.ndarray, second: np.ndarray, radix: tuple[int, int]
     Examples
     --------
     >>> a, b = np.array([0, 0, 1, 1]), np.array([0, 1, 0, 1])
-    >>> pair_departure(a, b, (2, 2), np.array([1.0, -1.0, -1.0, 1.0]), np.ones(4))
-    (4.0, 1)
+    >>> pair_departure(a, b, (2, 2), np.array([6.0, -6.0, -6.0, 6.0]), np.full(4, 9.0))
+    (16.0, 1)
     """
     cell = first * radix[1] + second
     occupied = np.bincount(cell, weights=information, minlength=radix[0] * radix[1])
     score = np.bincount(cell, weights=residual, minlength=radix[0] * radix[1])
-    seen = occupied > 0
+    # A chi-square screen needs cells that are not sparse: a cell of few expected goods or
+    # bads gives a heavy-tailed term. Its information bounds both (it is at most the
+    # expected goods and at most the expected bads), so cells below the bound sit out.
+    seen = occupied >= MIN_CELL_INFORMATION
     whole = float(np.sum(score[seen] ** 2 / occupied[seen]))
     # The main effects: a free shift for each bin of either characteristic, on the same
     # cells. Their information matrix is made of the cells' information alone.
