@@ -108,10 +108,15 @@ def _woe(goods, bads, prior_rows):
                   / ((bads + share * total_bads) / total_bads))
 
 
-def test_held_out_log_likelihood_equals_a_cross_validation_on_the_rows():
+@pytest.mark.parametrize("grouped", [True, False], ids=["on groups", "on the patterns"])
+def test_held_out_log_likelihood_equals_a_cross_validation_on_the_rows(monkeypatch, grouped):
     # Reference library: statsmodels' binomial GLM fitted to the rows of each training fold,
     # with every bin's weight of evidence estimated on those rows; the held fold's
-    # log-likelihood summed over the folds must equal the counts-only figure.
+    # log-likelihood summed over the folds must equal the counts-only figure. Both ways of
+    # fitting a fold give it: on groups of patterns, and on the patterns themselves (as where
+    # groups would hardly be fewer), the held-out patterns in the design with no weight.
+    if not grouped:
+        monkeypatch.setattr("scorecard.fit.folds._UNGROUPED_SHARE", 0.0)
     codes, goods, bads = _patterns()
     coded = CodedColumns(codes, [np.zeros(5), np.zeros(3)])
     folds = FoldLikelihood(coded, goods, bads, prior_rows=20.0, seed=7, folds=4)
@@ -130,6 +135,7 @@ def test_held_out_log_likelihood_equals_a_cross_validation_on_the_rows():
         p = fit.predict(design)
         expected += held_goods[fold] @ np.log(p) + held_bads[fold] @ np.log1p(-p)
     assert folds.log_likelihood((0, 1)) == pytest.approx(expected, rel=1e-8)
+    assert folds.fold_log_likelihoods((0, 1)).sum() == folds.log_likelihood((0, 1))
 
 
 def test_held_out_log_likelihood_does_not_depend_on_the_order_of_the_patterns():
