@@ -1,6 +1,7 @@
 """How fast and how lean a build is, measured in one run so the ratios share the machine's load.
 
     python benchmarks/bench_build.py [--dir DIR] [--rows 1000000] [--dask-rows 20000000]
+                                     [--dask-only] [--dask-report FOLDER]
 
 It needs the test extras (``pip install -e ".[test]"``: statsmodels, psutil, Dask).
 
@@ -17,7 +18,12 @@ d. a build of one tenth of the rows against the full build;
 e. ``scorecard score`` of the rows with the built model (Parquet in, Parquet out), in rows per
    second after the time a plain read of the file takes;
 f. with ``--dask-rows``: a build of that many rows, as a folder of Parquet files, on a local
-   Dask cluster, with the peak memory of the whole process tree.
+   Dask cluster, with the peak memory of the whole process tree; then, on one cluster of the
+   same kind started by the benchmark, the time to read every partition once (all columns,
+   best of two) against a build on that cluster, and with ``--dask-report`` a
+   ``dask.distributed.performance_report`` of that build (HTML written to FOLDER; it needs
+   bokeh). The compute time of the build's tasks, by kind, is printed either way.
+   ``--dask-only`` skips a. to e.
 """
 
 from __future__ import annotations
@@ -49,6 +55,7 @@ TARGETS = {
     "full / tenth build time": ("<=", 12.0),
     "scoring rows per second": (">=", 1e6),
     "Dask build peak memory (GB)": ("<=", 3.0),
+    "Dask build / read": ("<=", 3.0),
 }
 
 # The child reports its own peak from VmHWM: ru_maxrss survives exec, so a child forked from this
@@ -73,6 +80,55 @@ from scorecard.data.read import read_frame
 start = time.perf_counter()
 read_frame(sys.argv[1])
 print(json.dumps({"seconds": time.perf_counter() - start}))
+"""
+
+
+# A cluster like the one the Dask engine starts for ``dask: local``, then on it: every partition
+# read once (all columns into pandas, the bytes summed), and a build given the cluster's address.
+CHILD_DASK = """
+import contextlib, json, logging, sys, time
+from pathlib import Path
+import dask, dask.dataframe as dd, psutil
+from dask.utils import key_split
+from distributed import Client, LocalCluster, get_task_stream, performance_report
+from scorecard.api import build
+from scorecard.engines import dask_engine as de
+from scorecard.progress import StageLog
+config, report = Path(sys.argv[1]), sys.argv[2]
+memory = int(psutil.virtual_memory().total * de.LOCAL_MEMORY_SHARE / de.LOCAL_WORKERS)
+cluster = LocalCluster(n_workers=de.LOCAL_WORKERS, threads_per_worker=1, processes=True,
+                       memory_limit=memory, dashboard_address=":0", silence_logs=logging.ERROR)
+client = Client(cluster)
+text = config.read_text().replace("engine: {dask: local}",
+                                  "engine: {dask: '" + cluster.scheduler_address + "'}")
+given = config.with_name(config.stem + "_address.yaml")
+given.write_text(text)
+source = next(line.split(":", 1)[1].strip() for line in text.splitlines()
+              if line.strip().startswith("source:"))
+frame = dd.read_parquet([str(f) for f in de.parquet_files(source)])
+nbytes = lambda part: int(part.memory_usage(deep=False).sum())
+reads = []
+for _ in range(2):
+    start = time.perf_counter()
+    read = sum(client.compute([dask.delayed(nbytes)(p) for p in frame.to_delayed()], sync=True))
+    reads.append(time.perf_counter() - start)
+shown = performance_report(filename=report) if report else contextlib.nullcontext()
+with shown, get_task_stream(client) as stream:
+    start = time.perf_counter()
+    build(given, progress=StageLog())
+    seconds = time.perf_counter() - start
+tasks = {}
+for task in stream.data:
+    name = key_split(task["key"])
+    spent = tasks.setdefault(name, {"tasks": 0, "compute": 0.0, "transfer": 0.0})
+    spent["tasks"] += 1
+    for part in task["startstops"]:
+        kind = "compute" if part["action"] == "compute" else "transfer"
+        spent[kind] += part["stop"] - part["start"]
+client.close()
+cluster.close()
+print(json.dumps({"read": min(reads), "bytes": read, "build": seconds,
+                  "partitions": frame.npartitions, "tasks": tasks}))
 """
 
 
@@ -106,25 +162,20 @@ class StageTimes:
         self.lines.append((time.perf_counter() - self.start, text))
 
 
-def prepare(folder: Path, rows: int, dask_rows: int | None) -> dict:
-    """Data files and configs, reused when a previous run left them in ``folder``."""
+def prepare(folder: Path, rows: int, dask_rows: int | None, one_file: bool = True) -> dict:
+    """Data files and configs, reused when a previous run left them in ``folder``; with
+    ``one_file`` False only the Dask folder."""
     folder.mkdir(parents=True, exist_ok=True)
     paths = {}
-    for key, n in (("full", rows), ("tenth", rows // 10)):
+    for key, n in (("full", rows), ("tenth", rows // 10)) if one_file else ():
         parquet = folder / f"rows_{n}_seed{SEED}.parquet"
         if not parquet.exists():
             print(f"writing {n:,} rows to {parquet}", file=sys.stderr)
             synthetic.write_parquet(parquet, n, SEED)
         paths[key] = synthetic.write_config(folder / f"{key}.yaml", parquet, n)
         paths[f"{key} parquet"] = parquet
-    # Every characteristic a candidate: the pattern table then holds all thirty columns.
-    paths["all candidates"] = synthetic.write_config(folder / "all_candidates.yaml",
-                                                     paths["full parquet"], rows,
-                                                     extra="selection: {min_iv: 0}")
-    csv = folder / f"rows_{rows}_seed{SEED}.csv"
-    if not csv.exists():
-        synthetic.write_csv(csv, paths["full parquet"])
-    paths["csv"] = csv
+    if one_file:
+        _prepare_one_file(folder, rows, paths)
     if dask_rows:
         parts = folder / f"rows_{dask_rows}_seed{SEED}_parts"
         if not parts.with_suffix(".done").exists():
@@ -134,6 +185,17 @@ def prepare(folder: Path, rows: int, dask_rows: int | None) -> dict:
         paths["dask"] = synthetic.write_config(folder / "dask.yaml", parts, dask_rows,
                                                engine="{dask: local}")
     return paths
+
+
+def _prepare_one_file(folder: Path, rows: int, paths: dict) -> None:
+    # Every characteristic a candidate: the pattern table then holds all thirty columns.
+    paths["all candidates"] = synthetic.write_config(folder / "all_candidates.yaml",
+                                                     paths["full parquet"], rows,
+                                                     extra="selection: {min_iv: 0}")
+    csv = folder / f"rows_{rows}_seed{SEED}.csv"
+    if not csv.exists():
+        synthetic.write_csv(csv, paths["full parquet"])
+    paths["csv"] = csv
 
 
 def reference_pipeline(frame: pd.DataFrame, sentinel=synthetic.SENTINEL) -> dict:
@@ -223,18 +285,27 @@ def _rss(process) -> int:
 
 
 def measure(paths: dict, dask: bool, reference: bool, memory_cap_gb: float = 10.0,
+            dask_only: bool = False, dask_report: Path | None = None,
             ) -> list[tuple[str, float, str]]:
-    from scorecard.api import build
-    from scorecard.card.scorecard import load_scorecard
-    from scorecard.card.scoring import apply_scorecard
-    from scorecard.data.read import read_frame, read_table
-    from scorecard.outputs.scored_file import score_file
-
     rows_out = []
 
     def report(name, value, note=""):
         rows_out.append((name, value, note))
         print(f"  {name}: {value:,.3f} {note}", file=sys.stderr)
+
+    if not dask_only:
+        measure_one_file(paths, reference, report)
+    if dask:
+        measure_dask(paths, memory_cap_gb, dask_report, report)
+    return rows_out
+
+
+def measure_one_file(paths: dict, reference: bool, report) -> None:
+    from scorecard.api import build
+    from scorecard.card.scorecard import load_scorecard
+    from scorecard.card.scoring import apply_scorecard
+    from scorecard.data.read import read_frame, read_table
+    from scorecard.outputs.scored_file import score_file
 
     # a. Read and build in this warm process. Each read's frame is let go before the next, so
     # the reads find freed memory to reuse, as the build's own read does; the first read warms
@@ -301,23 +372,47 @@ def measure(paths: dict, dask: bool, reference: bool, memory_cap_gb: float = 10.
            f"largest peak resident memory of four builds alone in child processes, from their "
            f"VmHWM (sampled every 0.1 s: {child.peak_bytes / 1e9:.2f} GB)")
 
-    if dask:
-        child = peak_of_tree([sys.executable, "-c", CHILD_BUILD, str(paths["dask"])],
-                             interval=0.25, cap_bytes=memory_cap_gb * 1e9)
-        stages = [line for line in child.stderr.splitlines() if line.startswith("[")]
-        for line in stages:
+
+def measure_dask(paths: dict, memory_cap_gb: float, dask_report: Path | None, report) -> None:
+    child = peak_of_tree([sys.executable, "-c", CHILD_BUILD, str(paths["dask"])],
+                         interval=0.25, cap_bytes=memory_cap_gb * 1e9)
+    stages = [line for line in child.stderr.splitlines() if line.startswith("[")]
+    for line in stages:
+        print(f"      {line}", file=sys.stderr)
+    if child.stopped:
+        report("Dask build peak memory (GB)", child.peak_bytes / 1e9,
+               f"stopped at the {memory_cap_gb:g} GB cap after {child.seconds:.0f} s, "
+               f"past: {stages[-1] if stages else 'start'}")
+    else:
+        facts = json.loads(child.stdout.strip().splitlines()[-1])
+        report("Dask build (s)", facts["seconds"],
+               f"{child.seconds:.1f} s with cluster start and stop")
+        report("Dask build peak memory (GB)", child.peak_bytes / 1e9,
+               "client, scheduler and workers together")
+    if dask_report is not None:
+        dask_report.mkdir(parents=True, exist_ok=True)
+    html = "" if dask_report is None else str(dask_report / "dask_build.html")
+    child = peak_of_tree([sys.executable, "-c", CHILD_DASK, str(paths["dask"]), html],
+                         interval=0.25, cap_bytes=memory_cap_gb * 1e9)
+    if child.stopped:
+        report("Dask build on a given cluster, peak memory (GB)", child.peak_bytes / 1e9,
+               f"stopped at the {memory_cap_gb:g} GB cap after {child.seconds:.0f} s")
+        return
+    for line in child.stderr.splitlines():
+        if line.startswith("["):
             print(f"      {line}", file=sys.stderr)
-        if child.stopped:
-            report("Dask build peak memory (GB)", child.peak_bytes / 1e9,
-                   f"stopped at the {memory_cap_gb:g} GB cap after {child.seconds:.0f} s, "
-                   f"past: {stages[-1] if stages else 'start'}")
-        else:
-            facts = json.loads(child.stdout.strip().splitlines()[-1])
-            report("Dask build (s)", facts["seconds"],
-                   f"{child.seconds:.1f} s with cluster start and stop")
-            report("Dask build peak memory (GB)", child.peak_bytes / 1e9,
-                   "client, scheduler and workers together")
-    return rows_out
+    facts = json.loads(child.stdout.strip().splitlines()[-1])
+    report("Dask read of every partition (s)", facts["read"],
+           f"{facts['partitions']} partitions, {facts['bytes'] / 1e9:.2f} GB in pandas, "
+           "best of two on the build's cluster")
+    report("Dask build on that cluster (s)", facts["build"],
+           "cluster already running" + (f"; performance report {html}" if html else ""))
+    report("Dask build / read", facts["build"] / facts["read"])
+    for name, spent in sorted(facts["tasks"].items(), key=lambda t: -t[1]["compute"]):
+        print(f"      {spent['tasks']:4d} tasks {name[:40]:40s} compute {spent['compute']:7.2f} s,"
+              f" transfer and disk {spent['transfer']:6.2f} s", file=sys.stderr)
+    report("Dask build on a given cluster, peak memory (GB)", child.peak_bytes / 1e9,
+           "client, scheduler and workers together, reads included")
 
 
 def table(rows: list) -> str:
@@ -345,11 +440,16 @@ def main(argv=None) -> int:
                         help="stop the Dask build when its process tree passes this (default 10)")
     parser.add_argument("--no-reference", action="store_true",
                         help="skip the reference pipeline (b)")
+    parser.add_argument("--dask-only", action="store_true",
+                        help="with --dask-rows: measure only the Dask build (f)")
+    parser.add_argument("--dask-report", type=Path,
+                        help="write a Dask performance report of the build (f) to this folder")
     args = parser.parse_args(argv)
     with tempfile.TemporaryDirectory() as tmp:
         folder = args.dir or Path(tmp)
-        paths = prepare(folder, args.rows, args.dask_rows)
-        rows = measure(paths, bool(args.dask_rows), not args.no_reference, args.memory_cap_gb)
+        paths = prepare(folder, args.rows, args.dask_rows, one_file=not args.dask_only)
+        rows = measure(paths, bool(args.dask_rows), not args.no_reference, args.memory_cap_gb,
+                       args.dask_only, args.dask_report)
     print(table(rows))
     return 0
 
