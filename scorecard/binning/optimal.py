@@ -168,6 +168,27 @@ def optimal_bins(
     >>> result.starts, result.trend, round(result.iv, 4), result.feasible
     ((0, 2, 3), 'rises', 0.9296, True)
     """
+    return optimal_bins_each(goods, bads, total_goods=total_goods, total_bads=total_bads,
+                             trend=trend, max_bins=max_bins, min_bin_count=min_bin_count,
+                             min_bin_goods=min_bin_goods, min_bin_bads=min_bin_bads,
+                             prior_rows=prior_rows, least_bins=max_bins)[-1]
+
+
+def optimal_bins_each(goods, bads, *, total_goods=None, total_bads=None, trend=TREND.default,
+                      max_bins=MAX_BINS.default, min_bin_count=0.0, min_bin_goods=0.0,
+                      min_bin_bads=0.0, prior_rows=0.0, least_bins=2) -> tuple[Coarsening, ...]:
+    """:func:`optimal_bins` for every limit from ``least_bins`` to ``max_bins``, from one run.
+
+    The programme's layer for ``k`` bins depends only on the layers for fewer, so one run up
+    to ``max_bins`` holds the optimum for every smaller limit: entry ``i`` of the result equals
+    ``optimal_bins(..., max_bins=least_bins + i)`` exactly. Same parameters as
+    :func:`optimal_bins`, and ``least_bins`` (at least 2, at most ``max_bins``).
+
+    Examples
+    --------
+    >>> [r.starts for r in optimal_bins_each([40, 30, 20, 10], [2, 3, 5, 8], max_bins=4)]
+    [(0, 2), (0, 2, 3), (0, 1, 2, 3)]
+    """
     goods = _counts(goods, "goods")
     bads = _counts(bads, "bads")
     if bads.size != goods.size:
@@ -178,32 +199,43 @@ def optimal_bins(
         raise InputError(f"trend: must be one of {', '.join(TRENDS + tuple(TURNS))}; "
                          f"got {trend!r}")
     max_bins = _max_bins(max_bins)
+    least_bins = _max_bins(least_bins)
+    if least_bins > max_bins:
+        raise InputError(f"least_bins: must be at most max_bins ({max_bins}); got {least_bins}")
     limits = _Limits(
         _limit(min_bin_count, "min_bin_count"),
         _limit(min_bin_goods, "min_bin_goods"),
         _limit(min_bin_bads, "min_bin_bads"),
     )
     cand = _candidates(goods, bads, total_goods, total_bads, limits, _prior(prior_rows))
+    each = range(least_bins, max_bins + 1)
     if trend == "detect":
-        found, used = _better(_best(cand, max_bins, "rises"), _best(cand, max_bins, "falls"))
-        turn, shape = _better_turn(_best_turn(cand, max_bins, "valley"),
-                                   _best_turn(cand, max_bins, "peak"))
-        # The turn must win on both counts: the likelihood-ratio evidence, and the information
-        # value the optimiser maximises (more bins can raise the likelihood while merging
-        # away the contrast that the IV measures).
-        if turn is not None and (found is None or (
-                turn[1] > found[1] + _IV_TIE * abs(found[1])
-                and _evidence(cand, turn[0], found[0]) >= TURN_EVIDENCE)):
-            found, used = turn, shape
+        rising, falling = (_best(cand, each, d) for d in ("rises", "falls"))
+        valleys, peaks = (_best_turn(cand, each, s) for s in TURNS)
+        chosen = []
+        for monotone, turns in zip(map(_better, rising, falling), map(_better_turn, valleys, peaks)):
+            (found, used), (turn, shape) = monotone, turns
+            # The turn must win on both counts: the likelihood-ratio evidence, and the
+            # information value the optimiser maximises (more bins can raise the likelihood
+            # while merging away the contrast that the IV measures).
+            if turn is not None and (found is None or (
+                    turn[1] > found[1] + _IV_TIE * abs(found[1])
+                    and _evidence(cand, turn[0], found[0]) >= TURN_EVIDENCE)):
+                found, used = turn, shape
+            chosen.append((found, used))
     elif trend in TURNS:
-        found, used = _best_turn(cand, max_bins, trend), trend
+        chosen = [(found, trend) for found in _best_turn(cand, each, trend)]
     else:
-        found, used = _best(cand, max_bins, trend), trend
-    if found is None:
-        iv = _single_bin_iv(cand, total_goods, total_bads)
-        return Coarsening((0,), used, iv, False, _why_no_split(cand, trend, limits))
-    starts, iv = found
-    return Coarsening(starts, used, iv, True, "")
+        chosen = [(found, trend) for found in _best(cand, each, trend)]
+    results = []
+    for found, used in chosen:
+        if found is None:
+            iv = _single_bin_iv(cand, total_goods, total_bads)
+            results.append(Coarsening((0,), used, iv, False, _why_no_split(cand, trend, limits)))
+        else:
+            starts, iv = found
+            results.append(Coarsening(starts, used, iv, True, ""))
+    return tuple(results)
 
 
 def bin_of_fine_class(starts, n_fine) -> np.ndarray:
@@ -341,21 +373,30 @@ def _candidates(goods, bads, total_goods, total_bads, limits, prior_rows=0.0):
     return _Candidates(cum_goods, cum_bads, valid, term, rate)
 
 
-def _best(cand, max_bins, trend):
-    """The best partition into 2 to ``max_bins`` bins as ``(starts, iv)``, or None."""
+def _best(cand, each, trend):
+    """For each limit ``k`` in ``each``, the best partition into 2 to ``k`` bins as
+    ``(starts, iv)``, or None."""
     # A key that must strictly increase from each bin to the next; None for no order.
     key = None
     if trend != "any":
         key = cand.rate if trend == "rises" else -cand.rate
-    layers = _layers(cand.term, key, max_bins)
+    layers = _layers(cand.term, key, each[-1])
     ends = np.array([layer[:, -1].max() for layer in layers[1:]])
-    if ends.size == 0 or ends.max() == -np.inf:
-        return None
-    n_bins = 2 + _first_near_max(ends)
-    starts = _trace(layers[:n_bins], key)
-    bin_ends = starts[1:] + (cand.term.shape[0] - 1,)
-    iv = sum(float(cand.term[s, e]) for s, e in zip(starts, bin_ends))
-    return starts, iv
+    traced = {}
+    found = []
+    for k in each:
+        within = ends[:k - 1]
+        if within.size == 0 or within.max() == -np.inf:
+            found.append(None)
+            continue
+        n_bins = 2 + _first_near_max(within)
+        if n_bins not in traced:
+            starts = _trace(layers[:n_bins], key)
+            bin_ends = starts[1:] + (end_of(cand),)
+            traced[n_bins] = starts, sum(float(cand.term[s, e])
+                                         for s, e in zip(starts, bin_ends))
+        found.append(traced[n_bins])
+    return found
 
 
 def _layers(term, key, max_bins):
@@ -417,8 +458,9 @@ def _trace(layers, key):
     return tuple(reversed(starts))
 
 
-def _best_turn(cand, max_bins, shape):
-    """The best single-turn partition as ``(starts, iv)``, or None.
+def _best_turn(cand, each, shape):
+    """For each limit ``k`` in ``each``, the best single-turn partition into at most ``k``
+    bins as ``(starts, iv)``, or None.
 
     ``first[k - 1][i, j]`` is the best IV of ``k`` bins over ``[0, j)`` ending in ``[i, j)``
     with every step in the first direction; ``second[k - 1][i, j]`` the same with at least
@@ -427,7 +469,7 @@ def _best_turn(cand, max_bins, shape):
     """
     key_first, key_second = (cand.rate if d == "rises" else -cand.rate
                              for d in TURNS[shape])
-    first = _layers(cand.term, key_first, max_bins)
+    first = _layers(cand.term, key_first, each[-1])
     n_bounds = cand.term.shape[0]
     bounds = np.arange(n_bounds)
     order, preceding = _predecessors(key_second)
@@ -438,10 +480,23 @@ def _best_turn(cand, max_bins, shape):
         best_first = np.vstack((no_bin, np.maximum.accumulate(before[order, bounds], axis=0)))
         second.append(best_first[preceding, bounds[:, None]] + cand.term)
     ends = np.array([layer[:, -1].max() for layer in second[1:]])
-    if ends.size == 0 or ends.max() == -np.inf:
-        return None
-    n_bins = 2 + _first_near_max(ends)
-    end = n_bounds - 1
+    traced = {}
+    found = []
+    for k in each:
+        within = ends[:k - 1]
+        if within.size == 0 or within.max() == -np.inf:
+            found.append(None)
+            continue
+        n_bins = 2 + _first_near_max(within)
+        if n_bins not in traced:
+            traced[n_bins] = _trace_turn(cand, first, second, n_bins, key_first, key_second)
+        found.append(traced[n_bins])
+    return found
+
+
+def _trace_turn(cand, first, second, n_bins, key_first, key_second):
+    """Walk back from the last bin of the best turn of ``n_bins`` bins: ``(starts, iv)``."""
+    end = end_of(cand)
     start = _first_near_max(second[n_bins - 1][:, end])
     starts, in_second = [start], True
     for k in range(n_bins - 2, -1, -1):
