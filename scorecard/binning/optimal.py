@@ -99,6 +99,7 @@ class _Candidates(NamedTuple):
     valid: np.ndarray  # bin meets every size limit and has some goods and some bads
     term: np.ndarray  # the bin's IV term; -inf where not valid
     rate: np.ndarray  # the bin's bad rate; nan where not valid
+    memo: dict  # orderings and layers by direction, found once for every trend that needs them
 
 
 def optimal_bins(
@@ -213,8 +214,8 @@ def optimal_bins_each(goods, bads, *, total_goods=None, total_bads=None, trend=T
         rising, falling = (_best(cand, each, d) for d in ("rises", "falls"))
         valleys, peaks = (_best_turn(cand, each, s) for s in TURNS)
         chosen = []
-        for monotone, turns in zip(map(_better, rising, falling), map(_better_turn, valleys, peaks)):
-            (found, used), (turn, shape) = monotone, turns
+        for (found, used), (turn, shape) in zip(map(_better, rising, falling),
+                                                map(_better_turn, valleys, peaks)):
             # The turn must win on both counts: the likelihood-ratio evidence, and the
             # information value the optimiser maximises (more bins can raise the likelihood
             # while merging away the contrast that the IV measures).
@@ -370,17 +371,15 @@ def _candidates(goods, bads, total_goods, total_bads, limits, prior_rows=0.0):
     rate = np.full((n_bounds, n_bounds), np.nan)
     shrunk = prior_rows * total_bads / (total_goods + total_bads) if prior_rows else 0.0
     rate[valid] = (b + shrunk) / (g + b + prior_rows)
-    return _Candidates(cum_goods, cum_bads, valid, term, rate)
+    return _Candidates(cum_goods, cum_bads, valid, term, rate, {})
 
 
 def _best(cand, each, trend):
     """For each limit ``k`` in ``each``, the best partition into 2 to ``k`` bins as
     ``(starts, iv)``, or None."""
     # A key that must strictly increase from each bin to the next; None for no order.
-    key = None
-    if trend != "any":
-        key = cand.rate if trend == "rises" else -cand.rate
-    layers = _layers(cand.term, key, each[-1])
+    key = _key(cand, trend)
+    layers = _directed_layers(cand, trend, each[-1])
     ends = np.array([layer[:, -1].max() for layer in layers[1:]])
     traced = {}
     found = []
@@ -399,18 +398,43 @@ def _best(cand, each, trend):
     return found
 
 
-def _layers(term, key, max_bins):
+def _key(cand, direction):
+    """A key that must strictly increase from each bin to the next; None for no order."""
+    if direction == "any":
+        return None
+    return cand.rate if direction == "rises" else -cand.rate
+
+
+def _directed_predecessors(cand, direction):
+    """:func:`_predecessors` of the direction's key, found once per set of candidates."""
+    if direction not in cand.memo:
+        cand.memo[direction] = _predecessors(_key(cand, direction))
+    return cand.memo[direction]
+
+
+def _directed_layers(cand, direction, max_bins):
+    """:func:`_layers` in one direction, found once per set of candidates (for 'detect' the
+    monotone and the turning partitions share them)."""
+    memo = ("layers", direction, max_bins)
+    if memo not in cand.memo:
+        preds = None if direction == "any" else _directed_predecessors(cand, direction)
+        cand.memo[memo] = _layers(cand.term, preds, max_bins)
+    return cand.memo[memo]
+
+
+def _layers(term, preds, max_bins):
     """``layers[k - 1][i, j]``: best IV of ``k`` bins covering ``[0, j)``, the last ``[i, j)``.
 
-    Entries are -inf where no such partition exists.
+    ``preds``: the :func:`_predecessors` of the bins' key, or None for no order. Entries are
+    -inf where no such partition exists.
     """
     n_bounds = term.shape[0]
     bounds = np.arange(n_bounds)
-    if key is None:
+    if preds is None:
         order = np.broadcast_to(bounds[:, None], (n_bounds, n_bounds))
         preceding = np.full((n_bounds, n_bounds), n_bounds)
     else:
-        order, preceding = _predecessors(key)
+        order, preceding = preds
     no_bin = np.full((1, n_bounds), -np.inf)
     layer = np.full_like(term, -np.inf)
     layer[0] = term[0]
@@ -467,12 +491,11 @@ def _best_turn(cand, each, shape):
     one step in the first direction and then at least one in the second. A single bin is no
     step, so ``first[0]`` feeds no turn.
     """
-    key_first, key_second = (cand.rate if d == "rises" else -cand.rate
-                             for d in TURNS[shape])
-    first = _layers(cand.term, key_first, each[-1])
+    key_first, key_second = (_key(cand, d) for d in TURNS[shape])
+    first = _directed_layers(cand, TURNS[shape][0], each[-1])
     n_bounds = cand.term.shape[0]
     bounds = np.arange(n_bounds)
-    order, preceding = _predecessors(key_second)
+    order, preceding = _directed_predecessors(cand, TURNS[shape][1])
     no_bin = np.full((1, n_bounds), -np.inf)
     second = [np.full_like(cand.term, -np.inf)]
     for k in range(1, len(first)):
