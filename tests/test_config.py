@@ -642,6 +642,10 @@ def test_wrong_data_values(key, value, fragment):
          "fine_bins (5) must be at least max_bins (6)"),
         ("binning: {max_bins: 50}", "binning.max_bins", "max_bins",
          "fine_bins (40) must be at least max_bins (50)"),
+        ("binning: {choose_max_bins: true, max_bins: 8}", "binning.max_bins", "max_bins",
+         "leave it out with choose_max_bins: true"),
+        ("binning: {choose_max_bins: 1}", "binning.choose_max_bins", "choose_max_bins",
+         "yes/no"),
         ("binning: {rare_level_share: 0.5}", "binning.rare_level_share", "rare_level_share",
          "below 0.5"),
         ("binning: {max_levels: 1}", "binning.max_levels", "max_levels", "at least 2"),
@@ -894,6 +898,12 @@ def test_bin_counts_are_accepted_exactly_when_possible(fine_bins, max_bins):
     else:
         with pytest.raises(InputError, match=r"binning\.(fine|max)_bins"):
             parse(text)
+
+
+def test_choose_max_bins_leaves_max_bins_unused_and_takes_few_fine_bins():
+    binning = parse(MINIMAL + "binning: {choose_max_bins: true, fine_bins: 4}\n").binning
+    assert binning.choose_max_bins and (binning.fine_bins, binning.max_bins) == (4, 6)
+    assert not parse(MINIMAL).binning.choose_max_bins
 
 
 # ---- renamed settings: the old spelling is refused with the new one ---------------------------

@@ -46,8 +46,8 @@ from scorecard.outputs.workbook.tables import ROWS_ON_A_PAGE, safe_value, write_
 TABLE_SHEETS = ("Characteristics", "Bins", "Model", "Points", "Score bands", "Stability")
 FIRST_HEADERS = {
     "Characteristics": ["Characteristic", "Kind", "Status", "Stage", "Reason", "Fine classes",
-                        "Trend", "Information value", "Strength", "Mutual information (nats)",
-                        "Mutual information (bits)"],
+                        "Trend", "Bins", "Information value", "Strength",
+                        "Mutual information (nats)", "Mutual information (bits)"],
     "Bins": card_frames.BIN_COLUMNS,
     "Model": ["Name", "Coefficient", "Standard error", "z", "p-value", "VIF"],
     "Points": card_frames.POINT_COLUMNS,

@@ -1,7 +1,8 @@
 """Coarse classing: from fine-class counts to the bins of one characteristic.
 
 Numeric fine classes are merged in value order, categorical levels in order of bad rate, by the
-exact optimiser of :mod:`scorecard.binning.optimal`. Missing values and each sentinel keep bins of
+exact optimiser of :mod:`scorecard.binning.optimal`, with at most ``max_bins`` bins, or a limit
+chosen for the characteristic on held-out folds (:mod:`scorecard.binning.bin_count`). Missing values and each sentinel keep bins of
 their own. Manual ``cuts`` and ``groups`` from the config replace the optimiser. The result is a
 draft :class:`~scorecard.card.scorecard.Characteristic` whose bins carry rules only; counts, weights of
 evidence and points are filled in once the rows have been coded (see :mod:`scorecard.build.pipeline`).
@@ -9,13 +10,19 @@ evidence and points are filled in once the rows have been coded (see :mod:`score
 
 from __future__ import annotations
 
+import zlib
 from typing import NamedTuple
 
 import numpy as np
 import pandas as pd
 
+from scorecard.binning.bin_count import (
+    characteristic_seed,
+    choose_bin_count,
+    held_out_log_likelihoods,
+)
 from scorecard.binning.fine import NumericLayout, quantile_starts
-from scorecard.binning.optimal import optimal_bins
+from scorecard.binning.optimal import bin_of_fine_class, optimal_bins_each
 from scorecard.card.scorecard import (
     LEVELS,
     MISSING,
@@ -27,6 +34,7 @@ from scorecard.card.scorecard import (
     Characteristic,
 )
 from scorecard.card.scoring import bin_codes
+from scorecard.constraints import BIN_COUNT_FOLDS, CHOSEN_BINS_UP_TO
 from scorecard.data.coding import grid_cells
 from scorecard.errors import InputError
 from scorecard.measures.information import shrunk_woe, woe_of_shares
@@ -42,16 +50,23 @@ class BinningOutcome(NamedTuple):
     fine_classes: int
     trend: str                     # trend used ('manual' for config cuts or groups)
     reason: str                    # '' when binned, else why not
+    bins_reason: str = ""          # how the number of bins was chosen
 
 
 class Limits(NamedTuple):
-    """Size limits of a coarse bin, in development weight, and the prior on its WoE."""
+    """Size limits of a coarse bin, in development weight, and the prior on its WoE.
 
-    max_bins: int
+    ``max_bins`` None: the limit on the number of bins is chosen for each characteristic by
+    held-out log-likelihood (:mod:`scorecard.binning.bin_count`), up to
+    :data:`~scorecard.constraints.CHOSEN_BINS_UP_TO`, on folds seeded by ``seed``.
+    """
+
+    max_bins: int | None
     min_count: float
     min_goods: float
     min_bads: float
     prior_rows: float = 0.0
+    seed: int = 0
 
 
 def format_number(value: float) -> str:
@@ -134,17 +149,60 @@ def class_numeric(name: str, layout: NumericLayout, goods: np.ndarray, bads: np.
     starts = information_starts(goods[:cells], bads[:cells], fine_bins)
     fine_goods = np.add.reduceat(goods[:cells], starts)
     fine_bads = np.add.reduceat(bads[:cells], starts)
-    result = optimal_bins(fine_goods, fine_bads, total_goods=goods.sum(), total_bads=bads.sum(),
-                          trend=trend, max_bins=limits.max_bins, min_bin_count=limits.min_count,
-                          min_bin_goods=limits.min_goods, min_bin_bads=limits.min_bads,
-                          prior_rows=limits.prior_rows)
+    total = goods.sum() + bads.sum()
+
+    def fit(g, b, total_goods, total_bads, max_bins):
+        return optimal_bins_each(
+            g, b, total_goods=total_goods, total_bads=total_bads, trend=trend,
+            max_bins=max_bins, min_bin_count=limits.min_count * (total_goods + total_bads) / total,
+            min_bin_goods=limits.min_goods, min_bin_bads=limits.min_bads,
+            prior_rows=limits.prior_rows)
+
+    # A fine class's key is the first grid cell it holds, which the grid fixes.
+    result, bins_reason = _classed(name, fine_goods, fine_bads, starts, goods.sum(), bads.sum(),
+                                   fit, limits, lambda g, b: np.arange(len(g)))
     if not result.feasible:
         reason = "a single value" if len(starts) == 1 else result.reason
         return BinningOutcome(None, len(starts), result.trend, f"cannot form two bins: {reason}")
     cut_cells = starts[list(result.starts[1:])]
     cuts = layout.cuts[cut_cells - 1]
     draft = numeric_draft(name, cuts, sentinels, development_range, out_of_range_bin)
-    return BinningOutcome(draft, len(starts), result.trend, "")
+    return BinningOutcome(draft, len(starts), result.trend, "", bins_reason)
+
+
+def _classed(name, fine_goods, fine_bads, cells, total_goods, total_bads, fit, limits, order):
+    """The optimal bins of the fine classes (``fit`` at the limit) and a note on the limit.
+
+    ``order(goods, bads)``: the order in which the optimiser takes the fine classes, found
+    again on each fold's training counts (categorical levels go by their bad rate there).
+    With a fixed ``limits.max_bins`` that limit is used as it is; else it is chosen by
+    held-out log-likelihood on folds of the fine classes' counts.
+    """
+    if limits.max_bins is not None:
+        found = order(fine_goods, fine_bads)
+        result = fit(fine_goods[found], fine_bads[found], total_goods, total_bads,
+                     limits.max_bins)[-1]
+        return result, "" if not result.feasible else \
+            f"{len(result.starts)} bins: at most binning.max_bins ({limits.max_bins})"
+    upper = CHOSEN_BINS_UP_TO.default
+    other_goods = total_goods - fine_goods.sum()
+    other_bads = total_bads - fine_bads.sum()
+
+    def bins_of_each_limit(g, b, tg, tb):
+        found = order(g, b)
+        place = np.empty(len(found), dtype=np.intp)
+        place[found] = np.arange(len(found))
+        return [bin_of_fine_class(r.starts, len(g))[place]
+                for r in fit(g[found], b[found], tg, tb, upper)]
+
+    per_fold = held_out_log_likelihoods(
+        fine_goods, fine_bads, cells, bins_of_each_limit, characteristic_seed(limits.seed, name),
+        BIN_COUNT_FOLDS.default, limits.prior_rows, other_goods, other_bads)
+    choice = choose_bin_count(per_fold, range(2, upper + 1))
+    found = order(fine_goods, fine_bads)
+    result = fit(fine_goods[found], fine_bads[found], total_goods, total_bads,
+                 upper)[choice.bins - 2]
+    return result, choice.reason(len(result.starts)) if result.feasible else ""
 
 
 def class_categorical(name: str, levels, goods: np.ndarray, bads: np.ndarray, *,
@@ -172,22 +230,41 @@ def class_categorical(name: str, levels, goods: np.ndarray, bads: np.ndarray, *,
     if rare.any():
         pooled = tuple(lv for lv, r in zip(levels, rare) if r)
         classes.append((OTHER_LEVELS, pooled, lg[rare].sum(), lb[rare].sum()))
-    # Order by bad rate, then by label, so that ties never depend on the file's level order.
-    classes.sort(key=lambda c: (c[3] / (c[2] + c[3]), c[0]))
+    # Labels sorted once, so that the order of levels in the file never matters.
+    classes.sort(key=lambda c: c[0])
+    labels = [c[0] for c in classes]
     fine_goods = np.array([c[2] for c in classes], dtype=float)
     fine_bads = np.array([c[3] for c in classes], dtype=float)
-    result = optimal_bins(fine_goods, fine_bads, total_goods=goods.sum(), total_bads=bads.sum(),
-                          trend="rises", max_bins=limits.max_bins,
-                          min_bin_count=limits.min_count, min_bin_goods=limits.min_goods,
-                          min_bin_bads=limits.min_bads, prior_rows=limits.prior_rows)
+    total = goods.sum() + bads.sum()
+
+    def by_bad_rate(g, b):
+        # Order by bad rate, then by label (the classes are in label order), so that ties
+        # never depend on the file's level order. A class with no rows here goes last.
+        n = g + b
+        rate = np.divide(b, n, out=np.full(len(n), np.inf), where=n > 0)
+        return np.lexsort((np.arange(len(n)), rate))
+
+    def fit(g, b, total_goods, total_bads, max_bins):
+        return optimal_bins_each(
+            g, b, total_goods=total_goods, total_bads=total_bads, trend="rises",
+            max_bins=max_bins, min_bin_count=limits.min_count * (total_goods + total_bads) / total,
+            min_bin_goods=limits.min_goods, min_bin_bads=limits.min_bads,
+            prior_rows=limits.prior_rows)
+
+    # A class's key is a hash of its label, which no other class's presence changes.
+    cells = np.array([zlib.crc32(label.encode("utf-8")) for label in labels], dtype=np.uint64)
+    result, bins_reason = _classed(name, fine_goods, fine_bads, cells, goods.sum(), bads.sum(),
+                                   fit, limits, by_bad_rate)
     if not result.feasible:
         reason = "a single level" if len(classes) == 1 else result.reason
         return BinningOutcome(None, len(classes), "rises", f"cannot form two bins: {reason}")
-    bounds = list(result.starts) + [len(classes)]
-    groups = [(", ".join(c[0] for c in classes[lo:hi]),
-               tuple(lv for c in classes[lo:hi] for lv in c[1]))
+    ordered = [classes[i] for i in by_bad_rate(fine_goods, fine_bads)]
+    bounds = list(result.starts) + [len(ordered)]
+    groups = [(", ".join(c[0] for c in ordered[lo:hi]),
+               tuple(lv for c in ordered[lo:hi] for lv in c[1]))
               for lo, hi in zip(bounds[:-1], bounds[1:])]
-    return BinningOutcome(categorical_draft(name, groups), len(classes), "rises", "")
+    return BinningOutcome(categorical_draft(name, groups), len(classes), "rises", "",
+                          bins_reason)
 
 
 def bins_of_fine_classes(char: Characteristic, layout) -> np.ndarray | None:
@@ -225,10 +302,10 @@ def bins_of_fine_classes(char: Characteristic, layout) -> np.ndarray | None:
     return bin_codes(char, levels)[0].astype(np.intp)
 
 
-def limits_from(total_weight: float, max_bins: int, min_share: float, min_goods: float,
-                min_bads: float, prior_rows: float = 0.0) -> Limits:
+def limits_from(total_weight: float, max_bins: int | None, min_share: float, min_goods: float,
+                min_bads: float, prior_rows: float = 0.0, seed: int = 0) -> Limits:
     return Limits(max_bins, min_share * total_weight, max(min_goods, 1.0), max(min_bads, 1.0),
-                  prior_rows)
+                  prior_rows, seed)
 
 
 def bin_weights_of_evidence(goods: np.ndarray, bads: np.ndarray, kinds, limits: Limits,

@@ -21,8 +21,8 @@ from scorecard.evaluation.histograms import ScoreHistogram
 IN_MODEL = "in model"
 
 CHARACTERISTIC_COLUMNS = ["Characteristic", "Kind", "Status", "Stage", "Reason", "Fine classes",
-                          "Trend", "Information value", "Strength", "Mutual information (nats)",
-                          "Mutual information (bits)"]
+                          "Trend", "Bins", "Information value", "Strength",
+                          "Mutual information (nats)", "Mutual information (bits)"]
 DISTRIBUTION_COLUMNS = ["Score from", "Score to", "Goods", "Bads", "Share of goods",
                         "Share of bads", "Cumulative share of goods", "Cumulative share of bads",
                         "Gap (KS)"]
@@ -41,7 +41,8 @@ def characteristics_frame(reports) -> pd.DataFrame:
     rows = [{
         "Characteristic": r.name, "Kind": r.kind, "Status": r.status, "Stage": r.stage,
         "Reason": r.reason, "Fine classes": r.fine_classes or None, "Trend": r.trend,
-        "Information value": r.information_value, "Strength": r.strength,
+        "Bins": r.bins_reason or None, "Information value": r.information_value,
+        "Strength": r.strength,
         "Mutual information (nats)": r.mutual_information_nats,
         "Mutual information (bits)": r.mutual_information_bits,
     } for r in ranked_reports(reports)]

@@ -219,7 +219,8 @@ def _class_all(config, layouts, counts, limits, reports) -> list:
                 manual_groups=groups, override_key=key)
             kind = "categorical"
         report = CharacteristicReport(name, kind, "not binned", "binning", outcome.reason,
-                                      fine_classes=outcome.fine_classes, trend=outcome.trend)
+                                      fine_classes=outcome.fine_classes, trend=outcome.trend,
+                                      bins_reason=outcome.bins_reason)
         reports[name] = report
         if outcome.draft is not None:
             drafts.append(outcome.draft)
@@ -378,7 +379,7 @@ def _development(card: Scorecard, histograms: dict, perf: dict, facts, config,
 def _fate(report: CharacteristicReport) -> Fate:
     iv = report.information_value
     return Fate(report.name, report.status, report.stage, report.reason,
-                None if iv is None or math.isnan(iv) else float(iv))
+                None if iv is None or math.isnan(iv) else float(iv), report.bins_reason)
 
 
 def _uncounted(drafts, layouts) -> tuple[list, list]:
@@ -559,8 +560,10 @@ def _build_steps(config, engine, progress, rows, fairness, caught):
     _say(progress, f"fine classes counted for {len(layouts)} characteristics")
 
     b = config.binning
-    limits = binning.limits_from(dev_goods + dev_bads, b.max_bins, b.min_bin_share,
-                                 b.min_bin_goods, b.min_bin_bads, b.prior_rows)
+    limits = binning.limits_from(dev_goods + dev_bads,
+                                 None if b.choose_max_bins else b.max_bins, b.min_bin_share,
+                                 b.min_bin_goods, b.min_bin_bads, b.prior_rows,
+                                 config.samples.seed)
     drafts = _class_all(config, layouts, counts, limits, reports)
     if not drafts:
         raise InputError(f"{config.data.source}: no characteristic could be binned")

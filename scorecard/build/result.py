@@ -38,6 +38,7 @@ class CharacteristicReport:
     reason: str
     fine_classes: int = 0
     trend: str = ""
+    bins_reason: str = ""           # how many bins, and why that many
     information_value: float = math.nan
     strength: str = ""
     mutual_information_nats: float = math.nan

@@ -129,7 +129,8 @@ class Fate:
     """What the build decided about one column: its status, at which stage, and why.
 
     ``status`` is the Characteristics sheet's: 'in model', 'not selected', 'not binned' or
-    'not used'.
+    'not used'. ``bins``: how many bins the column was cut into, and why that many (empty
+    when it was not binned, or its cuts or groups came from the config).
     """
 
     name: str
@@ -137,6 +138,7 @@ class Fate:
     stage: str
     reason: str
     information_value: float | None = None
+    bins: str = ""
 
     @property
     def selected(self) -> bool:
@@ -343,7 +345,8 @@ def _development_from_dict(raw) -> Development | None:
 def _fate_from_dict(raw: dict) -> Fate:
     iv = raw.get("information_value")
     return Fate(str(raw["name"]), str(raw["status"]), str(raw["stage"]), str(raw["reason"]),
-                None if iv is None else _number(iv, "fates.information_value"))
+                None if iv is None else _number(iv, "fates.information_value"),
+                str(raw.get("bins", "")))
 
 
 def _characteristic_from_dict(raw: dict) -> Characteristic:

@@ -91,6 +91,7 @@ _SAMPLES_SCHEMA = {
 }
 _BINNING_SCHEMA = {
     "fine_bins": v.setting(c.FINE_BINS), "max_bins": v.setting(c.MAX_BINS),
+    "choose_max_bins": v.flag,
     "min_bin_share": v.setting(c.MIN_BIN_SHARE),
     "min_bin_goods": v.setting(c.MIN_BIN_GOODS), "min_bin_bads": v.setting(c.MIN_BIN_BADS),
     "prior_rows": v.setting(c.PRIOR_ROWS),
@@ -266,7 +267,11 @@ def _read_samples(source: Source, node: yaml.Node | None) -> SamplesConfig:
 def _read_binning(source: Source, node: yaml.Node | None) -> BinningConfig:
     values = v.section(source, ("binning",), node, _BINNING_SCHEMA, _RENAMED_KEYS)
     binning = BinningConfig(**values)
-    if binning.fine_bins < binning.max_bins:
+    if binning.choose_max_bins and "max_bins" in values:
+        source.fail(("binning", "max_bins"), "leave it out with choose_max_bins: true (each "
+                    "characteristic's limit is then chosen from 2 to "
+                    f"{c.CHOSEN_BINS_UP_TO.default})")
+    if not binning.choose_max_bins and binning.fine_bins < binning.max_bins:
         key = "fine_bins" if "fine_bins" in values else "max_bins"
         source.fail(("binning", key), f"fine_bins ({binning.fine_bins}) must be at least "
                                       f"max_bins ({binning.max_bins})")

@@ -174,6 +174,10 @@ class BinningConfig:
     max_bins : int
         Most classes a numeric characteristic keeps after merging (missing values and
         sentinels have their own bins on top).
+    choose_max_bins : bool
+        True: instead of ``max_bins`` for all, each characteristic's limit is chosen from 2 to
+        12 as the one whose bins best predict held-out folds of the development counts
+        (:mod:`scorecard.binning.bin_count`); ``max_bins`` must then be left out.
     min_bin_share : float
         Smallest share of rows in a merged class: a guard against slivers only.
     min_bin_goods, min_bin_bads : int
@@ -199,6 +203,7 @@ class BinningConfig:
 
     fine_bins: int = c.FINE_BINS.default
     max_bins: int = c.MAX_BINS.default
+    choose_max_bins: bool = c.CHOOSE_MAX_BINS.default
     min_bin_share: float = c.MIN_BIN_SHARE.default
     min_bin_goods: int = c.MIN_BIN_GOODS.default
     min_bin_bads: int = c.MIN_BIN_BADS.default

@@ -141,7 +141,10 @@ def starter_config(data, target: str, out=None, *, encoding: str = "utf-8",
     else:
         lines += ["  out_of_time: null"]
     lines += ["binning:", f"  fine_bins: {d.FINE_BINS.default}",
-              f"  max_bins: {d.MAX_BINS.default}", f"  min_bin_share: {d.MIN_BIN_SHARE.default}",
+              f"  max_bins: {d.MAX_BINS.default}",
+              f"  choose_max_bins: {str(d.CHOOSE_MAX_BINS.default).lower()}"
+              "        # true: limits chosen on held-out folds (leave out max_bins)",
+              f"  min_bin_share: {d.MIN_BIN_SHARE.default}",
               f"  min_bin_goods: {d.MIN_BIN_GOODS.default}",
               f"  min_bin_bads: {d.MIN_BIN_BADS.default}",
               f"  prior_rows: {d.PRIOR_ROWS.default:g}", f"  trend: {d.TREND.default}",
