@@ -2,8 +2,8 @@
 
 Numeric fine classes are merged in value order, categorical levels in order of bad rate, by the
 exact optimiser of :mod:`scorecard.binning.optimal`, with at most ``max_bins`` bins, or a limit
-chosen for the characteristic on held-out folds (:mod:`scorecard.binning.bin_count`). Missing values and each sentinel keep bins of
-their own. Manual ``cuts`` and ``groups`` from the config replace the optimiser. The result is a
+chosen for the characteristic on held-out folds (:mod:`scorecard.binning.bin_count`). Missing
+values and each sentinel keep bins of their own. Manual ``cuts`` and ``groups`` from the config replace the optimiser. The result is a
 draft :class:`~scorecard.card.scorecard.Characteristic` whose bins carry rules only; counts, weights of
 evidence and points are filled in once the rows have been coded (see :mod:`scorecard.build.pipeline`).
 """
@@ -149,12 +149,10 @@ def class_numeric(name: str, layout: NumericLayout, goods: np.ndarray, bads: np.
     starts = information_starts(goods[:cells], bads[:cells], fine_bins)
     fine_goods = np.add.reduceat(goods[:cells], starts)
     fine_bads = np.add.reduceat(bads[:cells], starts)
-    total = goods.sum() + bads.sum()
-
-    def fit(g, b, total_goods, total_bads, max_bins):
+    def fit(g, b, total_goods, total_bads, max_bins, share=1.0):
         return optimal_bins_each(
             g, b, total_goods=total_goods, total_bads=total_bads, trend=trend,
-            max_bins=max_bins, min_bin_count=limits.min_count * (total_goods + total_bads) / total,
+            max_bins=max_bins, min_bin_count=limits.min_count * share,
             min_bin_goods=limits.min_goods, min_bin_bads=limits.min_bads,
             prior_rows=limits.prior_rows)
 
@@ -173,10 +171,12 @@ def class_numeric(name: str, layout: NumericLayout, goods: np.ndarray, bads: np.
 def _classed(name, fine_goods, fine_bads, cells, total_goods, total_bads, fit, limits, order):
     """The optimal bins of the fine classes (``fit`` at the limit) and a note on the limit.
 
-    ``order(goods, bads)``: the order in which the optimiser takes the fine classes, found
-    again on each fold's training counts (categorical levels go by their bad rate there).
-    With a fixed ``limits.max_bins`` that limit is used as it is; else it is chosen by
-    held-out log-likelihood on folds of the fine classes' counts.
+    ``fit(goods, bads, total_goods, total_bads, max_bins, share)`` gives the optimum at every
+    limit up to ``max_bins``, the smallest bin being ``share`` of the development one (the
+    training folds hold a share of the rows). ``order(goods, bads)``: the order in which the
+    optimiser takes the fine classes, found again on each fold's training counts (categorical
+    levels go by their bad rate there). With a fixed ``limits.max_bins`` that limit is used as
+    it is; else it is chosen by held-out log-likelihood on folds of the fine classes' counts.
     """
     if limits.max_bins is not None:
         found = order(fine_goods, fine_bads)
@@ -192,8 +192,9 @@ def _classed(name, fine_goods, fine_bads, cells, total_goods, total_bads, fit, l
         found = order(g, b)
         place = np.empty(len(found), dtype=np.intp)
         place[found] = np.arange(len(found))
+        share = (tg + tb) / (total_goods + total_bads)
         return [bin_of_fine_class(r.starts, len(g))[place]
-                for r in fit(g[found], b[found], tg, tb, upper)]
+                for r in fit(g[found], b[found], tg, tb, upper, share)]
 
     per_fold = held_out_log_likelihoods(
         fine_goods, fine_bads, cells, bins_of_each_limit, characteristic_seed(limits.seed, name),
@@ -235,8 +236,6 @@ def class_categorical(name: str, levels, goods: np.ndarray, bads: np.ndarray, *,
     labels = [c[0] for c in classes]
     fine_goods = np.array([c[2] for c in classes], dtype=float)
     fine_bads = np.array([c[3] for c in classes], dtype=float)
-    total = goods.sum() + bads.sum()
-
     def by_bad_rate(g, b):
         # Order by bad rate, then by label (the classes are in label order), so that ties
         # never depend on the file's level order. A class with no rows here goes last.
@@ -244,10 +243,10 @@ def class_categorical(name: str, levels, goods: np.ndarray, bads: np.ndarray, *,
         rate = np.divide(b, n, out=np.full(len(n), np.inf), where=n > 0)
         return np.lexsort((np.arange(len(n)), rate))
 
-    def fit(g, b, total_goods, total_bads, max_bins):
+    def fit(g, b, total_goods, total_bads, max_bins, share=1.0):
         return optimal_bins_each(
             g, b, total_goods=total_goods, total_bads=total_bads, trend="rises",
-            max_bins=max_bins, min_bin_count=limits.min_count * (total_goods + total_bads) / total,
+            max_bins=max_bins, min_bin_count=limits.min_count * share,
             min_bin_goods=limits.min_goods, min_bin_bads=limits.min_bads,
             prior_rows=limits.prior_rows)
 
