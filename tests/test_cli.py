@@ -71,3 +71,33 @@ def test_bad_input_is_one_error_line_and_exit_status_two(tmp_path):
     assert result.exit_code == 2
     assert result.stderr.startswith("error: ") and len(result.stderr.splitlines()) == 1
     assert "Traceback" not in result.output
+
+
+def _python_m_scorecard(args, before="pass", cwd=None):
+    """``python -m scorecard ARGS`` in a fresh process, with ``before`` run first (and its
+    exit handlers registered); the finished process."""
+    import subprocess
+    import sys
+    script = ("import runpy, sys; " + before + f"; sys.argv = ['scorecard', *{list(args)!r}]; "
+              "runpy.run_module('scorecard', run_name='__main__', alter_sys=True)")
+    return subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
+                          cwd=cwd)
+
+
+def test_a_command_that_succeeds_ends_its_process_with_exit_handlers_run_and_output_flushed(
+        tmp_path):
+    # The quick exit after a success still runs the exit handlers (a library's clean-up) and
+    # delivers everything the command printed; a failure exits as usual with status 2.
+    config = write_demo(tmp_path / "demo", rows=2000, seed=11)
+    model = tmp_path / "model.json"
+    done = _python_m_scorecard(
+        ["build", str(config), "--model", str(model), "--workbook", str(tmp_path / "w.xlsx")],
+        before="import atexit; atexit.register(lambda: print('exit handler ran'))")
+    assert done.returncode == 0, done.stderr
+    lines = done.stdout.splitlines()
+    assert lines[-3:] == [f"  workbook: {tmp_path / 'w.xlsx'}", f"  model: {model}",
+                          "exit handler ran"]
+    assert load_scorecard(model).name
+    failed = _python_m_scorecard(["build", str(tmp_path / "absent.yaml")])
+    assert failed.returncode == 2
+    assert failed.stderr.strip().startswith("error:")

@@ -135,3 +135,31 @@ def test_bin_counts_count_every_row_once_by_bin_sample_and_outcome(rows):
             expected[b, sample, label] += weight
     np.testing.assert_allclose(table, expected, rtol=1e-12, atol=1e-12)
     assert table.sum() == pytest.approx(facts.weight[facts.sample >= 0].sum(), rel=1e-12)
+
+
+@settings(deadline=None, max_examples=40)
+@given(st.integers(1, 6), st.integers(0, 3), st.integers(0, 2**32 - 1))
+def test_direct_numbering_equals_numbering_by_hashing(scale, spread_exp, seed):
+    # Invariant: with the key range given, keys numbered by direct addressing get the numbers
+    # that pandas' hash-based factorize gives (reference library): by first appearance.
+    rng = np.random.default_rng(seed)
+    span = patterns._DIRECT_SPAN * scale
+    n = span * (1 + spread_exp)
+    # From a few distinct keys to nearly every value of the range.
+    keys = rng.integers(0, rng.integers(1, span + 1), size=n).astype(np.int64)
+    direct = patterns.factorize(keys, span)
+    assert np.array_equal(direct, pd.factorize(keys)[0])
+
+
+def test_refining_groups_past_a_limit_counts_them_without_numbering_them():
+    from scorecard.fit.design import CodedColumns
+    rng = np.random.default_rng(2)
+    codes = rng.integers(0, 40, size=(6000, 3))
+    coded = CodedColumns(codes, [np.arange(40.0)] * 3)
+    groups = coded.group([0])
+    exact = coded.refine(groups, 1)
+    assert exact.count == len({(a, b) for a, b in codes[:, :2].tolist()})
+    limited = coded.refine(groups, 1, at_most=exact.count)
+    assert limited.columns == exact.columns and np.array_equal(limited.index, exact.index)
+    assert coded.refine(groups, 1, at_most=exact.count - 1) is None
+    np.testing.assert_array_equal(exact.index, pd.factorize(codes[:, 0] * 40 + codes[:, 1])[0])

@@ -470,18 +470,25 @@ def test_shared_passes_give_each_segment_the_card_its_own_passes_give(tmp_path):
                 assert card[key] == expected[key], key
 
 
-def test_each_shared_pass_counts_what_the_single_pass_counts_on_the_segment(tmp_path):
+@pytest.mark.parametrize("fine_rows", [1 << 14, 256])
+def test_each_shared_pass_counts_what_the_single_pass_counts_on_the_segment(fine_rows,
+                                                                           monkeypatch):
     # Invariant: per segment, the counts of the shared passes equal the single-card passes on
     # the segment's own facts exactly (the same weights summed in the same order), including
     # the development range; values far beyond the grid are counted over the whole chunk.
+    # Both fine-class passes code a numeric column a block of rows at a time: with blocks of
+    # 256 rows, the ranges and the extreme rows are merged across a dozen blocks.
     from scorecard.binning.coarse import numeric_draft
     from scorecard.binning.fine import NumericLayout
+    from scorecard.engines import passes
+    monkeypatch.setattr(passes, "_FINE_ROWS", fine_rows)
 
     rng = np.random.default_rng(3)
     n = 3000
     frame = pd.DataFrame({"x": np.round(rng.normal(size=n), 2),
                           "k": rng.choice(["a", "b", "c", None], size=n)})
     frame.loc[7, "x"] = 1e9
+    frame.loc[2900, "x"] = -1e9
     segment = rng.integers(0, 3, size=n).astype(np.int8)
     facts = SegmentFacts(rng.integers(0, 2, size=n).astype(np.int8), rng.random(n) * 3,
                          rng.choice(np.array([-1, 0, 1, 2], np.int8), size=n), segment)
@@ -493,7 +500,7 @@ def test_each_shared_pass_counts_what_the_single_pass_counts_on_the_segment(tmp_
         for name in layouts:
             assert np.array_equal(shared[s][name].table, alone[name].table)
             assert shared[s][name][1:] == alone[name][1:]
-    assert shared[0]["x"].extremes == 1 and shared[0]["x"].extreme_rows == (7,)
+    assert shared[0]["x"].extremes == 2 and shared[0]["x"].extreme_rows == (7, 2900)
     drafts = tuple((numeric_draft("x", [-0.5 + s / 10, 0.7], (), (-1.5, 1.5), True),)
                    for s in range(3))
     counted = bin_counts_by_segment(frame, facts, drafts)

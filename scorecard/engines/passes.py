@@ -20,7 +20,6 @@ import pandas as pd
 from scorecard.binning.fine import (
     NumericLayout,
     numeric_coder,
-    numeric_codes,
     numeric_summary,
     regular_range,
 )
@@ -124,22 +123,30 @@ def merge_summaries(a: dict, b: dict) -> dict:
 
 class _Counter(NamedTuple):
     """Weights by (code, sample, outcome): :meth:`keys` turns codes into cells of that table,
-    :meth:`table` adds the weights up by cell, and calling it does both."""
+    :meth:`table` adds the weights up by cell, and calling it does both.
+
+    With ``segments`` (a segmented build), the cell holds the segment too, and :meth:`table`
+    gives one table per segment.
+    """
 
     weight: np.ndarray
     cell: np.ndarray
+    segments: int = 0
 
     def keys(self, codes: np.ndarray, start: int = 0, out=None) -> np.ndarray:
         """The cell of each code, for the rows from ``start`` on; into ``out`` if given."""
         cell = self.cell[start:start + len(codes)]
-        out = np.multiply(codes, N_SAMPLES * 2, out=out)
+        out = np.multiply(codes, N_SAMPLES * 2 * max(self.segments, 1), out=out)
         out += cell
         return out
 
-    def table(self, keys: np.ndarray, n_codes: int) -> np.ndarray:
-        cells = N_SAMPLES * 2
+    def table(self, keys: np.ndarray, n_codes: int):
+        cells = N_SAMPLES * 2 * max(self.segments, 1)
         table = np.bincount(keys, weights=self.weight, minlength=n_codes * cells)
-        return table.reshape(n_codes, N_SAMPLES, 2)
+        if not self.segments:
+            return table.reshape(n_codes, N_SAMPLES, 2)
+        table = table.reshape(n_codes, self.segments, N_SAMPLES, 2)
+        return [np.ascontiguousarray(table[:, s]) for s in range(self.segments)]
 
     def __call__(self, codes: np.ndarray, n_codes: int) -> np.ndarray:
         return self.table(self.keys(codes), n_codes)
@@ -211,15 +218,24 @@ def fine_counts(frame: pd.DataFrame, rows: RowFacts, layouts: dict) -> dict:
 
 def _numeric_fine(x: np.ndarray, layout: NumericLayout, counted: _Counter,
                   dev: np.ndarray) -> FineCounts:
-    """One numeric column's fine counts in one pass: a block of rows at a time is coded, keyed
-    by cell, searched for extreme values and for its range, while it is in the cache. Only
-    the keys are kept whole, and one count over them adds the weights in row order, as a count
-    of the whole column would."""
+    """One numeric column's fine counts in one pass (see :func:`_numeric_fine_each`)."""
+    return _numeric_fine_each(x, layout, counted, [dev])[0]
+
+
+def _numeric_fine_each(x: np.ndarray, layout: NumericLayout, counted: _Counter,
+                       devs: list) -> list[FineCounts]:
+    """One numeric column's fine counts in one pass, one :class:`FineCounts` per development
+    mask in ``devs`` (one per segment when ``counted`` has segments, else one).
+
+    A block of rows at a time is coded, keyed by cell, searched for extreme values and for
+    each range, while it is in the cache. Only the keys are kept whole, and one count over
+    them adds the weights in row order, as a count of the whole column would. Values far
+    beyond the layout's bounds are counted over every row."""
     code = numeric_coder(layout)
     keys = np.empty(len(x), dtype=np.intp)
     below, above = layout.extreme
     bounded = bool(np.isfinite(below) or np.isfinite(above))
-    low, high, extremes, first = np.nan, np.nan, 0, []
+    lows, highs, extremes, first = [np.nan] * len(devs), [np.nan] * len(devs), 0, []
     for start in range(0, len(x), _FINE_ROWS):
         stop = min(start + _FINE_ROWS, len(x))
         block = x[start:stop]
@@ -228,11 +244,15 @@ def _numeric_fine(x: np.ndarray, layout: NumericLayout, counted: _Counter,
             far = np.flatnonzero((block < below) | (block > above))
             extremes += len(far)
             first.extend(start + int(i) for i in far[:REPORTED - len(first)])
-        block_low, block_high = regular_range(block, layout.sentinels, dev[start:stop])
-        low, high = np.fmin(low, block_low), np.fmax(high, block_high)
-    development = (float(low), float(high)) if len(x) else regular_range(x, layout.sentinels)
-    return FineCounts(counted.table(keys, layout.n_codes), development, len(x), extremes,
-                      tuple(first))
+        for i, dev in enumerate(devs):
+            block_low, block_high = regular_range(block, layout.sentinels, dev[start:stop])
+            lows[i], highs[i] = np.fmin(lows[i], block_low), np.fmax(highs[i], block_high)
+    tables = counted.table(keys, layout.n_codes)
+    if not counted.segments:
+        tables = [tables]
+    return [FineCounts(table, (float(low), float(high)) if len(x)
+                       else regular_range(x, layout.sentinels), len(x), extremes, tuple(first))
+            for table, low, high in zip(tables, lows, highs)]
 
 
 def merge_fine(a: dict, b: dict) -> dict:
@@ -344,28 +364,16 @@ def fine_counts_by_segment(frame: pd.DataFrame, rows: SegmentFacts, layouts: dic
     """
     kept = rows.sample != EXCLUDED
     weight = np.where(kept, rows.weight, 0.0)
-    cells = N_SAMPLES * 2
     cell = np.where(kept, (rows.segment.astype(np.intp) * N_SAMPLES + rows.sample) * 2
                     + rows.label, 0)
+    counted = _Counter(weight, cell, n_segments)
     dev = [(rows.sample == DEVELOPMENT) & (rows.segment == s) for s in range(n_segments)]
-
-    def counted(codes: np.ndarray, n_codes: int) -> list[np.ndarray]:
-        table = np.bincount(codes * (cells * n_segments) + cell, weights=weight,
-                            minlength=n_codes * cells * n_segments)
-        table = table.reshape(n_codes, n_segments, N_SAMPLES, 2)
-        return [np.ascontiguousarray(table[:, s]) for s in range(n_segments)]
 
     def one(item):
         name, layout = item
         series = frame[name]
         if isinstance(layout, NumericLayout):
-            x = numeric_values(series, name)
-            tables = counted(numeric_codes(x, layout), layout.n_codes)
-            below, above = layout.extreme
-            far = np.flatnonzero((x < below) | (x > above)) if len(x) else np.empty(0, int)
-            first = tuple(int(i) for i in far[:REPORTED])
-            return name, [FineCounts(t, regular_range(x, layout.sentinels, d), len(x), len(far),
-                                     first) for t, d in zip(tables, dev)]
+            return name, _numeric_fine_each(numeric_values(series, name), layout, counted, dev)
         idx = categorical_codes(series, layout)
         tables = counted(np.where(idx < 0, len(layout), idx), len(layout) + 1)
         return name, [FineCounts(t, None, len(idx)) for t in tables]

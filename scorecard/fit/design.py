@@ -14,7 +14,12 @@ from typing import NamedTuple
 
 import numpy as np
 
-from scorecard.engines.patterns import factorize, first_rows, pattern_index
+from scorecard.engines.patterns import (
+    distinct_count,
+    factorize,
+    first_rows,
+    pattern_index,
+)
 
 BLOCK_ROWS = 1 << 15
 
@@ -109,9 +114,18 @@ class CodedColumns:
             index = pattern_index(self.codes[:, list(columns)], [self.radix[j] for j in columns])
         return Groups(columns, index, first_rows(index))
 
-    def refine(self, groups: Groups, column: int) -> Groups:
-        """``groups`` split further by the codes of one more column."""
-        index = factorize(groups.index * self.radix[column] + self.codes[:, column])
+    def refine(self, groups: Groups, column: int, at_most: int | None = None) -> Groups | None:
+        """``groups`` split further by the codes of one more column.
+
+        With ``at_most``: None instead, when the split would make more groups than that (found
+        by a count of the distinct keys, which costs far less than numbering them).
+        """
+        span = groups.count * self.radix[column]
+        keys = groups.index * self.radix[column] + self.codes[:, column]
+        if at_most is not None and at_most < span <= 8 * max(self.n_rows, 1) \
+                and distinct_count(keys, span) > at_most:
+            return None
+        index = factorize(keys, span)
         return Groups(groups.columns + (column,), index, first_rows(index))
 
     def group_values(self, groups: Groups, out: np.ndarray | None = None) -> np.ndarray:

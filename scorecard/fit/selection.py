@@ -596,12 +596,14 @@ class _Model:
         if self.groups is None:
             self.grouped = self.data.rows(self.columns)
             return
-        self.groups = self.data.coded.refine(self.groups, column)
+        # Groups past the share are never numbered: they are only counted.
+        self.groups = self.data.coded.refine(self.groups, column,
+                                             int(_UNGROUPED_SHARE * self.data.coded.n_rows))
         self._settle()
 
     def _settle(self) -> None:
         data = self.data
-        if self.groups.count <= _UNGROUPED_SHARE * data.coded.n_rows:
+        if self.groups is not None and self.groups.count <= _UNGROUPED_SHARE * data.coded.n_rows:
             self.grouped = data.grouped(self.groups)
             return
         data.spread.append(frozenset(self.columns))

@@ -151,6 +151,9 @@ def _size_blocks(ws, frame, blocks, note_col) -> None:
     width = ws.column_dimensions[get_column_letter(note_col)].width
     minimum = (MIN_CHART_HEIGHT_CM + GAP_CM) * POINTS_PER_CM
     first_table_row = blocks[0].first_row if blocks else 0
+    # One alignment per kind of cell, not one per cell: the workbook keeps one copy of each
+    # style anyway, and making and hashing thousands of equal objects is most of this sheet's time.
+    centred = {}
     for block in blocks:
         count = block.last_row - block.first_row + 1
         height = max(style.LINE_POINTS + 3, minimum / count)
@@ -160,8 +163,11 @@ def _size_blocks(ws, frame, blocks, note_col) -> None:
             ws.row_dimensions[row].height = round(max(height, style.LINE_POINTS * lines + 3), 1)
             for col in range(1, note_col):
                 cell = ws.cell(row, col)
-                cell.alignment = Alignment(horizontal=cell.alignment.horizontal,
-                                           indent=cell.alignment.indent, vertical="center")
+                alignment = cell.alignment
+                key = (alignment.horizontal, alignment.indent)
+                if key not in centred:
+                    centred[key] = Alignment(horizontal=key[0], indent=key[1], vertical="center")
+                cell.alignment = centred[key]
 
 
 def _block_height(ws, block) -> float:
