@@ -41,6 +41,16 @@ def test_scoring_loads_neither_scipy_nor_the_workbook_writer():
     assert "scipy" not in loaded and "openpyxl" not in loaded and "dask" not in loaded
 
 
+def test_the_build_pipeline_does_not_load_scipy_stats():
+    # scipy.stats alone takes about half a second to import; the build's measures need only
+    # scipy.special (the chi-square tail of the additivity screen is special.chdtrc).
+    script = ("import sys, scorecard.build.pipeline, scorecard.outputs.workbook; "
+              "print('scipy.stats' in sys.modules)")
+    out = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
+                         check=True).stdout
+    assert out.strip() == "False"
+
+
 @pytest.fixture(scope="module")
 def small_scoring_case(demo_build, demo_dir, tmp_path_factory):
     """The demo model (it records an exclusion rule), a segmented model of two copies of its
