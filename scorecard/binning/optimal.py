@@ -380,7 +380,18 @@ def _best(cand, each, trend):
     # A key that must strictly increase from each bin to the next; None for no order.
     key = _key(cand, trend)
     layers = _directed_layers(cand, trend, each[-1])
-    ends = np.array([layer[:, -1].max() for layer in layers[1:]])
+    def trace(n_bins):
+        starts = _trace(layers[:n_bins], key)
+        bin_ends = starts[1:] + (end_of(cand),)
+        return starts, sum(float(cand.term[s, e]) for s, e in zip(starts, bin_ends))
+
+    return _per_limit(np.array([layer[:, -1].max() for layer in layers[1:]]), each, trace)
+
+
+def _per_limit(ends, each, trace):
+    """For each limit ``k`` in ``each``, ``trace(n)`` of the best bin count ``n <= k`` by the
+    best IV ``ends[n - 2]`` of exactly ``n`` bins, or None where no count is feasible; each
+    count is traced once."""
     traced = {}
     found = []
     for k in each:
@@ -390,10 +401,7 @@ def _best(cand, each, trend):
             continue
         n_bins = 2 + _first_near_max(within)
         if n_bins not in traced:
-            starts = _trace(layers[:n_bins], key)
-            bin_ends = starts[1:] + (end_of(cand),)
-            traced[n_bins] = starts, sum(float(cand.term[s, e])
-                                         for s, e in zip(starts, bin_ends))
+            traced[n_bins] = trace(n_bins)
         found.append(traced[n_bins])
     return found
 
@@ -502,19 +510,9 @@ def _best_turn(cand, each, shape):
         before = np.maximum(first[k - 1], second[k - 1]) if k > 1 else second[0]
         best_first = np.vstack((no_bin, np.maximum.accumulate(before[order, bounds], axis=0)))
         second.append(best_first[preceding, bounds[:, None]] + cand.term)
-    ends = np.array([layer[:, -1].max() for layer in second[1:]])
-    traced = {}
-    found = []
-    for k in each:
-        within = ends[:k - 1]
-        if within.size == 0 or within.max() == -np.inf:
-            found.append(None)
-            continue
-        n_bins = 2 + _first_near_max(within)
-        if n_bins not in traced:
-            traced[n_bins] = _trace_turn(cand, first, second, n_bins, key_first, key_second)
-        found.append(traced[n_bins])
-    return found
+    return _per_limit(np.array([layer[:, -1].max() for layer in second[1:]]), each,
+                      lambda n_bins: _trace_turn(cand, first, second, n_bins, key_first,
+                                                 key_second))
 
 
 def _trace_turn(cand, first, second, n_bins, key_first, key_second):
